@@ -1,0 +1,1 @@
+//! Benchmarks behind `kugel bench`: each case in its own file, printing a table or one JSON line.

@@ -1,0 +1,507 @@
+//! The spherical-harmonic coefficient set: packed triangular storage of C_lm and S_lm (and
+//! their standard errors), the metadata that gives them meaning (normalisation, phase,
+//! reference radius, GM, units), conversion between normalisations, truncation and
+//! degree-wise arithmetic.
+//!
+//! Real expansion (CONVENTIONS.md §2):
+//!   f(θ, λ) = Σ_l Σ_{m=0..l} Y_lm(cos θ) (C_lm cos mλ + S_lm sin mλ),
+//! where Y_lm = N_lm · P_lm (times (−1)^m when the Condon–Shortley phase is on) and P_lm is
+//! Ferrers' function without the phase. S_l0 is always 0.
+
+use std::collections::BTreeMap;
+use std::fmt;
+use std::str::FromStr;
+
+use crate::error::{Error, Result};
+
+/// Normalisation of the associated Legendre functions (CONVENTIONS.md §2).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Normalization {
+    /// 4π fully normalised: N = sqrt((2 − δ_m0)(2l + 1)(l − m)!/(l + m)!). Gravity, topography.
+    Geodesy,
+    /// Schmidt semi-normalised: N = sqrt((2 − δ_m0)(l − m)!/(l + m)!). Geomagnetism.
+    Schmidt,
+    /// Orthonormal real harmonics: N = sqrt((2 − δ_m0)(2l + 1)/(4π)(l − m)!/(l + m)!).
+    Orthonormal,
+    /// No normalisation: N = 1.
+    Unnormalized,
+}
+
+impl Normalization {
+    pub const ALL: [Normalization; 4] = [
+        Normalization::Geodesy,
+        Normalization::Schmidt,
+        Normalization::Orthonormal,
+        Normalization::Unnormalized,
+    ];
+
+    pub fn name(self) -> &'static str {
+        match self {
+            Normalization::Geodesy => "geodesy",
+            Normalization::Schmidt => "schmidt",
+            Normalization::Orthonormal => "orthonormal",
+            Normalization::Unnormalized => "unnormalized",
+        }
+    }
+
+    /// The Condon–Shortley phase customary for this normalisation (on for `orthonormal`).
+    pub fn default_condon_shortley(self) -> bool {
+        matches!(self, Normalization::Orthonormal)
+    }
+
+    /// ln(N_lm / N̄_lm): the logarithm of this normalisation's factor relative to the
+    /// `geodesy` factor N̄_lm, for degree l and order m ≤ l.
+    ///
+    /// Working in logarithms keeps the `unnormalized` factor, sqrt((l+m)!/(l−m)!) relative to
+    /// geodesy, representable to any degree (its value overflows a double near l ≈ 150).
+    pub fn ln_factor_relative_to_geodesy(self, l: usize, m: usize) -> f64 {
+        let two_l1 = (2 * l + 1) as f64;
+        match self {
+            Normalization::Geodesy => 0.0,
+            Normalization::Schmidt => -0.5 * two_l1.ln(),
+            Normalization::Orthonormal => -0.5 * (4.0 * std::f64::consts::PI).ln(),
+            Normalization::Unnormalized => {
+                // 1 / sqrt((2 − δ)(2l+1)(l−m)!/(l+m)!)
+                let delta: f64 = if m == 0 { 1.0 } else { 2.0 };
+                let ln_ratio: f64 = ((l - m + 1)..=(l + m)).map(|k| (k as f64).ln()).sum();
+                0.5 * (ln_ratio - delta.ln() - two_l1.ln())
+            }
+        }
+    }
+}
+
+impl fmt::Display for Normalization {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+impl FromStr for Normalization {
+    type Err = Error;
+    fn from_str(s: &str) -> Result<Self> {
+        match s.trim().to_ascii_lowercase().as_str() {
+            "geodesy" => Ok(Normalization::Geodesy),
+            "schmidt" => Ok(Normalization::Schmidt),
+            "orthonormal" => Ok(Normalization::Orthonormal),
+            "unnormalized" | "unnormalised" => Ok(Normalization::Unnormalized),
+            other => Err(Error::invalid(format!(
+                "unknown normalization '{other}': expected one of geodesy, schmidt, orthonormal, unnormalized"
+            ))),
+        }
+    }
+}
+
+/// Index of (l, m) in packed triangular storage: l(l+1)/2 + m.
+#[inline]
+pub fn packed_index(l: usize, m: usize) -> usize {
+    debug_assert!(m <= l);
+    l * (l + 1) / 2 + m
+}
+
+/// Number of (l, m) pairs with 0 ≤ m ≤ l ≤ lmax.
+#[inline]
+pub fn packed_len(lmax: usize) -> usize {
+    (lmax + 1) * (lmax + 2) / 2
+}
+
+/// A real spherical-harmonic coefficient set to degree `lmax`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Coefficients {
+    lmax: usize,
+    c: Vec<f64>,
+    s: Vec<f64>,
+    c_sigma: Option<Vec<f64>>,
+    s_sigma: Option<Vec<f64>>,
+    /// Normalisation of the functions the coefficients multiply.
+    pub normalization: Normalization,
+    /// Whether the functions carry the Condon–Shortley phase (−1)^m.
+    pub condon_shortley: bool,
+    /// Reference radius R of the expansion, metres.
+    pub reference_radius_m: f64,
+    /// Gravitational parameter GM for potential models, m³ s⁻².
+    pub gm_m3_s2: Option<f64>,
+    /// Units of the coefficients (UDUNITS string; "1" for dimensionless potential coefficients).
+    pub units: String,
+    /// Free-form metadata carried through files (title, provenance, quantity, ...).
+    pub attributes: BTreeMap<String, String>,
+}
+
+impl Coefficients {
+    /// A zero coefficient set in the given normalisation, with the customary phase for it,
+    /// reference radius 1 m and dimensionless units.
+    pub fn zeros(lmax: usize, normalization: Normalization) -> Self {
+        let n = packed_len(lmax);
+        Coefficients {
+            lmax,
+            c: vec![0.0; n],
+            s: vec![0.0; n],
+            c_sigma: None,
+            s_sigma: None,
+            normalization,
+            condon_shortley: normalization.default_condon_shortley(),
+            reference_radius_m: 1.0,
+            gm_m3_s2: None,
+            units: "1".to_string(),
+            attributes: BTreeMap::new(),
+        }
+    }
+
+    /// Builds a set from packed C and S arrays (length `packed_len(lmax)`).
+    pub fn from_packed(
+        lmax: usize,
+        c: Vec<f64>,
+        s: Vec<f64>,
+        normalization: Normalization,
+    ) -> Result<Self> {
+        let n = packed_len(lmax);
+        if c.len() != n || s.len() != n {
+            return Err(Error::ShapeMismatch(format!(
+                "packed coefficients for lmax {lmax} need {n} values, got C {} and S {}",
+                c.len(),
+                s.len()
+            )));
+        }
+        let mut out = Coefficients::zeros(lmax, normalization);
+        out.c = c;
+        out.s = s;
+        for l in 0..=lmax {
+            out.s[packed_index(l, 0)] = 0.0;
+        }
+        Ok(out)
+    }
+
+    pub fn lmax(&self) -> usize {
+        self.lmax
+    }
+
+    /// Number of stored (l, m) pairs.
+    pub fn len(&self) -> usize {
+        self.c.len()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.c.is_empty()
+    }
+
+    #[inline]
+    pub fn c(&self, l: usize, m: usize) -> f64 {
+        self.c[packed_index(l, m)]
+    }
+
+    #[inline]
+    pub fn s(&self, l: usize, m: usize) -> f64 {
+        self.s[packed_index(l, m)]
+    }
+
+    /// Sets C_lm and S_lm (S_l0 is forced to 0).
+    #[inline]
+    pub fn set(&mut self, l: usize, m: usize, c: f64, s: f64) {
+        let i = packed_index(l, m);
+        self.c[i] = c;
+        self.s[i] = if m == 0 { 0.0 } else { s };
+    }
+
+    /// Packed C values, index [`packed_index`].
+    pub fn c_packed(&self) -> &[f64] {
+        &self.c
+    }
+
+    pub fn s_packed(&self) -> &[f64] {
+        &self.s
+    }
+
+    pub fn c_packed_mut(&mut self) -> &mut [f64] {
+        &mut self.c
+    }
+
+    pub fn s_packed_mut(&mut self) -> &mut [f64] {
+        &mut self.s
+    }
+
+    /// Standard errors of C and S, when known.
+    pub fn sigmas(&self) -> Option<(&[f64], &[f64])> {
+        match (&self.c_sigma, &self.s_sigma) {
+            (Some(c), Some(s)) => Some((c, s)),
+            _ => None,
+        }
+    }
+
+    /// Attaches standard errors (packed, same layout as C and S).
+    pub fn set_sigmas(&mut self, c_sigma: Vec<f64>, s_sigma: Vec<f64>) -> Result<()> {
+        let n = self.len();
+        if c_sigma.len() != n || s_sigma.len() != n {
+            return Err(Error::ShapeMismatch(format!(
+                "sigmas for lmax {} need {n} values, got {} and {}",
+                self.lmax,
+                c_sigma.len(),
+                s_sigma.len()
+            )));
+        }
+        self.c_sigma = Some(c_sigma);
+        self.s_sigma = Some(s_sigma);
+        Ok(())
+    }
+
+    pub fn clear_sigmas(&mut self) {
+        self.c_sigma = None;
+        self.s_sigma = None;
+    }
+
+    /// Sigma of (C_lm, S_lm) when known.
+    pub fn sigma(&self, l: usize, m: usize) -> Option<(f64, f64)> {
+        self.sigmas()
+            .map(|(c, s)| (c[packed_index(l, m)], s[packed_index(l, m)]))
+    }
+
+    /// Copies all metadata (normalisation, phase, radius, GM, units, attributes) from `other`.
+    pub fn with_metadata_of(mut self, other: &Coefficients) -> Self {
+        self.normalization = other.normalization;
+        self.condon_shortley = other.condon_shortley;
+        self.reference_radius_m = other.reference_radius_m;
+        self.gm_m3_s2 = other.gm_m3_s2;
+        self.units = other.units.clone();
+        self.attributes = other.attributes.clone();
+        self
+    }
+
+    /// Checks that every coefficient is finite; the error names the first bad (l, m).
+    pub fn check_finite(&self) -> Result<()> {
+        for l in 0..=self.lmax {
+            for m in 0..=l {
+                let i = packed_index(l, m);
+                for (which, v) in [("C", self.c[i]), ("S", self.s[i])] {
+                    if !v.is_finite() {
+                        return Err(Error::NonFiniteCoefficient {
+                            which,
+                            l,
+                            m,
+                            value: v,
+                        });
+                    }
+                }
+            }
+        }
+        Ok(())
+    }
+
+    /// The set truncated or zero-padded to `lmax`.
+    pub fn resized(&self, lmax: usize) -> Self {
+        let n = packed_len(lmax);
+        let keep = n.min(self.len());
+        let mut out = self.clone();
+        out.lmax = lmax;
+        out.c = resize_packed(&self.c, keep, n);
+        out.s = resize_packed(&self.s, keep, n);
+        out.c_sigma = self.c_sigma.as_ref().map(|v| resize_packed(v, keep, n));
+        out.s_sigma = self.s_sigma.as_ref().map(|v| resize_packed(v, keep, n));
+        out
+    }
+
+    /// Multiplies every coefficient of degree l (and its sigma) by `weight(l)`.
+    pub fn scale_by_degree(&mut self, mut weight: impl FnMut(usize) -> f64) {
+        for l in 0..=self.lmax {
+            let w = weight(l);
+            let range = packed_index(l, 0)..=packed_index(l, l);
+            for v in &mut self.c[range.clone()] {
+                *v *= w;
+            }
+            for v in &mut self.s[range.clone()] {
+                *v *= w;
+            }
+            if let (Some(cs), Some(ss)) = (&mut self.c_sigma, &mut self.s_sigma) {
+                for v in &mut cs[range.clone()] {
+                    *v *= w.abs();
+                }
+                for v in &mut ss[range.clone()] {
+                    *v *= w.abs();
+                }
+            }
+        }
+    }
+
+    /// The same field expressed in another normalisation and phase convention.
+    ///
+    /// The field is invariant: C^B_lm = C^A_lm · (N^A_lm φ^A_m)/(N^B_lm φ^B_m), with φ_m = (−1)^m
+    /// when the phase is on. The factor for a pair (A, B) is computed once in a canonical
+    /// direction and applied as a product one way and a quotient the other, so that a round
+    /// trip A → B → A returns every coefficient to within 1 ulp.
+    pub fn converted(&self, to: Normalization, condon_shortley: bool) -> Result<Self> {
+        let from = self.normalization;
+        let mut out = self.clone();
+        out.normalization = to;
+        out.condon_shortley = condon_shortley;
+        let flip_phase = self.condon_shortley != condon_shortley;
+        let forward = (from as u8) <= (to as u8);
+        let (lo, hi) = if forward { (from, to) } else { (to, from) };
+        for l in 0..=self.lmax {
+            for m in 0..=l {
+                // factor q = N^lo / N^hi; lo → hi multiplies, hi → lo divides.
+                let q = if lo == hi {
+                    1.0
+                } else {
+                    (lo.ln_factor_relative_to_geodesy(l, m) - hi.ln_factor_relative_to_geodesy(l, m))
+                        .exp()
+                };
+                let sign = if flip_phase && m % 2 == 1 { -1.0 } else { 1.0 };
+                let i = packed_index(l, m);
+                let apply = |v: f64| if forward { v * q } else { v / q };
+                out.c[i] = sign * apply(self.c[i]);
+                out.s[i] = sign * apply(self.s[i]);
+                if let (Some(cs), Some(ss)) = (&mut out.c_sigma, &mut out.s_sigma) {
+                    cs[i] = apply(cs[i]);
+                    ss[i] = apply(ss[i]);
+                }
+            }
+        }
+        out.check_finite().map_err(|e| {
+            Error::invalid(format!(
+                "conversion from {from} to {to} is not representable in double precision: {e}"
+            ))
+        })?;
+        Ok(out)
+    }
+
+    /// Shorthand for conversion to `geodesy` without phase, the engine's internal convention.
+    pub fn to_geodesy(&self) -> Result<Self> {
+        if self.normalization == Normalization::Geodesy && !self.condon_shortley {
+            return Ok(self.clone());
+        }
+        self.converted(Normalization::Geodesy, false)
+    }
+
+    /// Coefficient-wise `self + factor · other` (same lmax, normalisation and phase required).
+    pub fn add_scaled(&mut self, other: &Coefficients, factor: f64) -> Result<()> {
+        if other.lmax != self.lmax
+            || other.normalization != self.normalization
+            || other.condon_shortley != self.condon_shortley
+        {
+            return Err(Error::ShapeMismatch(format!(
+                "cannot combine a degree-{} {} set with a degree-{} {} set",
+                self.lmax, self.normalization, other.lmax, other.normalization
+            )));
+        }
+        for (a, b) in self.c.iter_mut().zip(&other.c) {
+            *a += factor * b;
+        }
+        for (a, b) in self.s.iter_mut().zip(&other.s) {
+            *a += factor * b;
+        }
+        Ok(())
+    }
+
+    /// Iterates over (l, m, C_lm, S_lm) in packed order.
+    pub fn iter(&self) -> impl Iterator<Item = (usize, usize, f64, f64)> + '_ {
+        (0..=self.lmax).flat_map(move |l| {
+            (0..=l).map(move |m| {
+                let i = packed_index(l, m);
+                (l, m, self.c[i], self.s[i])
+            })
+        })
+    }
+}
+
+fn resize_packed(v: &[f64], keep: usize, n: usize) -> Vec<f64> {
+    let mut out = vec![0.0; n];
+    out[..keep].copy_from_slice(&v[..keep]);
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn sample(lmax: usize) -> Coefficients {
+        let mut c = Coefficients::zeros(lmax, Normalization::Geodesy);
+        for l in 0..=lmax {
+            for m in 0..=l {
+                c.set(l, m, 1.0 + 0.37 * l as f64 - 0.11 * m as f64, 0.5 - 0.07 * m as f64);
+            }
+        }
+        c
+    }
+
+    #[test]
+    fn packed_index_is_triangular() {
+        // common practice: row-major lower triangle
+        assert_eq!(packed_index(0, 0), 0);
+        assert_eq!(packed_index(1, 0), 1);
+        assert_eq!(packed_index(1, 1), 2);
+        assert_eq!(packed_index(2, 0), 3);
+        assert_eq!(packed_len(2), 6);
+    }
+
+    #[test]
+    fn schmidt_factor_is_one_over_sqrt_2l_plus_1() {
+        // CONVENTIONS.md §2: schmidt = geodesy / sqrt(2l+1)
+        let g = sample(8);
+        let s = g.converted(Normalization::Schmidt, false).unwrap();
+        for l in 0..=8 {
+            for m in 0..=l {
+                let expect = g.c(l, m) * ((2 * l + 1) as f64).sqrt();
+                assert!((s.c(l, m) - expect).abs() <= 1e-14 * expect.abs().max(1.0));
+            }
+        }
+    }
+
+    #[test]
+    fn unnormalized_factor_matches_closed_form() {
+        // closed form (any text): geodesy N̄_21 = sqrt(2·5·1/6) = sqrt(5/3); unnormalised N = 1,
+        // so C^unnorm_21 = C̄_21 · sqrt(5/3).
+        let mut g = Coefficients::zeros(2, Normalization::Geodesy);
+        g.set(2, 1, 1.0, 0.0);
+        let u = g.converted(Normalization::Unnormalized, false).unwrap();
+        assert!((u.c(2, 1) - (5.0f64 / 3.0).sqrt()).abs() < 1e-15);
+    }
+
+    #[test]
+    fn round_trips_are_within_one_ulp() {
+        let g = sample(60);
+        for &a in &Normalization::ALL {
+            let start = g.converted(a, false).unwrap();
+            for &b in &Normalization::ALL {
+                for cs in [false, true] {
+                    let back = start.converted(b, cs).unwrap().converted(a, false).unwrap();
+                    for (x, y) in start.c_packed().iter().zip(back.c_packed()) {
+                        let ulp = f64::EPSILON * x.abs();
+                        assert!((x - y).abs() <= ulp, "{a}->{b}->{a}: {x} vs {y}");
+                    }
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn phase_flips_odd_orders() {
+        let g = sample(3);
+        let p = g.converted(Normalization::Geodesy, true).unwrap();
+        assert_eq!(p.c(3, 1), -g.c(3, 1));
+        assert_eq!(p.c(3, 2), g.c(3, 2));
+    }
+
+    #[test]
+    fn non_finite_is_named() {
+        let mut g = sample(4);
+        g.set(3, 2, f64::NAN, 0.0);
+        let msg = g.check_finite().unwrap_err().to_string();
+        assert!(msg.contains("C_{3,2}"), "{msg}");
+    }
+
+    #[test]
+    fn parse_normalization_names() {
+        assert_eq!("Schmidt".parse::<Normalization>().unwrap(), Normalization::Schmidt);
+        let err = "full".parse::<Normalization>().unwrap_err().to_string();
+        assert!(err.contains("full") && err.contains("geodesy"));
+    }
+
+    #[test]
+    fn resize_keeps_low_degrees() {
+        let g = sample(5);
+        let t = g.resized(3);
+        assert_eq!(t.lmax(), 3);
+        assert_eq!(t.c(3, 2), g.c(3, 2));
+        let p = t.resized(6);
+        assert_eq!(p.c(6, 6), 0.0);
+        assert_eq!(p.c(2, 1), g.c(2, 1));
+    }
+}

@@ -1,0 +1,2 @@
+//! The config-driven pipeline: schema, validation, step orchestration, progress, provenance.
+//! Holds no numerical code.

@@ -1,0 +1,2 @@
+//! Quick-look pictures and the run report: PNG maps, SVG spectrum plots, HTML. Computes no
+//! science.

@@ -1,0 +1,2 @@
+//! Degree-domain analysis: spectra, cross-spectra and their statistics, filters and
+//! continuation. Works on coefficient sets only; never touches grids.
