@@ -1,1 +1,3 @@
 //! Benchmarks behind `kugel bench`: each case in its own file, printing a table or one JSON line.
+
+pub mod observe;
