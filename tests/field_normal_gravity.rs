@@ -47,7 +47,9 @@ fn zonal_series_agrees_with_somigliana() {
     for e in [Ellipsoid::grs80(), Ellipsoid::wgs84()] {
         // The south pole itself is left out: the reference θ-derivative in sht::points divides
         // by sin θ = 1.2e-16 there (reported to the transform owner); 89.999° S probes it.
-        for lat in [-89.999, -67.5, -45.0, -10.0, 0.0, 0.5, 30.0, 45.0, 60.0, 89.9, 90.0] {
+        for lat in [
+            -89.999, -67.5, -45.0, -10.0, 0.0, 0.5, 30.0, 45.0, 60.0, 89.9, 90.0,
+        ] {
             let series = series_gravity(&e, lat);
             let closed = e.normal_gravity_somigliana((lat as f64).to_radians());
             assert!(
