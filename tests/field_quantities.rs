@@ -208,3 +208,23 @@ fn normal_field_removal_with_different_radius_and_gm() {
         assert!((t - harmonic).abs() < 1e-7, "{t} vs {harmonic}");
     }
 }
+
+#[test]
+fn filter_is_applied_before_the_quantity_factors() {
+    // A degree-8 harmonic added to C̄_32 is removed by a low-pass that ends at degree 6, so
+    // the geoid equals that of C̄_32 alone (the factors of CONVENTIONS.md §6 as above).
+    let mut model = single_harmonic().resized(10);
+    model.set(8, 5, 1e-6, -2e-6);
+    let chain = kugel::spectral::filter::FilterChain::parse("lowpass:4-6").unwrap();
+    let mut req = SynthesisRequest::new(vec![Quantity::Geoid]);
+    req.filter = Some(&chain);
+    let p = GeocentricPoint::from_degrees(33.0, 71.0, R);
+    let got = evaluate_at_points(&model, &[p], &req).unwrap()[0][0];
+    let want = R * C32 * y32(p.colatitude_rad, p.longitude_rad);
+    assert!((got - want).abs() < 1e-12 * R * C32, "{got} vs {want}");
+    let unfiltered = eval(&model, Quantity::Geoid, p);
+    assert!(
+        (unfiltered - want).abs() > 1e-3,
+        "the degree-8 term must matter unfiltered"
+    );
+}

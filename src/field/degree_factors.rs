@@ -1,7 +1,8 @@
 //! Per-degree factors k_l that turn potential coefficients into each quantity
 //! (CONVENTIONS.md §6; Heiskanen & Moritz 1967, ch. 2; Hofmann-Wellenhof & Moritz 2005).
 //!
-//! With s = R/r and the continuation factor c_l (= s^{l+1} for exact upward continuation):
+//! With s = R/r and the continuation factor c_l from `spectral::continuation::radial_factors`
+//! (= s^{l+1}; regularised when stated for downward continuation):
 //!
 //! | quantity | k_l |
 //! |---|---|
@@ -16,46 +17,12 @@
 //! (l+1) s c_l and the horizontal components the gradient of the synthesis with s c_l
 //! (see [`super::magnetic`]).
 
-use crate::error::{Error, Result};
-
 use super::quantity::Quantity;
 
 /// 1 mGal = 1e-5 m s⁻².
 pub const M_S2_PER_MGAL: f64 = 1e-5;
 /// 1 E (eötvös) = 1e-9 s⁻².
 pub const PER_S2_PER_EOTVOS: f64 = 1e-9;
-
-/// Exact continuation factors s^{l+1}, s = R/r, for l = 0..=lmax.
-///
-/// Upward (r ≥ R) is always exact. Downward (r < R) multiplies degree l by s^{l+1} > 1 and
-/// amplifies noise: it is refused, with the amplification at lmax, when that exceeds
-/// `max_amplification`.
-pub fn continuation_factors(
-    lmax: usize,
-    reference_radius_m: f64,
-    target_radius_m: f64,
-    max_amplification: f64,
-) -> Result<Vec<f64>> {
-    if !(target_radius_m.is_finite() && target_radius_m > 0.0) {
-        return Err(Error::invalid(format!(
-            "target radius must be a positive number of metres, got {target_radius_m}"
-        )));
-    }
-    let s = reference_radius_m / target_radius_m;
-    if s > 1.0 {
-        let amplification = s.powi(lmax as i32 + 1);
-        if amplification > max_amplification {
-            return Err(Error::invalid(format!(
-                "downward continuation from radius {:.3} km to {:.3} km amplifies degree {lmax} by \
-                 {amplification:.3e}, above the allowed {max_amplification:.3e}; continue upward, \
-                 lower lmax, or state a regularisation",
-                reference_radius_m / 1e3,
-                target_radius_m / 1e3
-            )));
-        }
-    }
-    Ok((0..=lmax).map(|l| s.powi(l as i32 + 1)).collect())
-}
 
 /// The model constants the gravity factors need.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -111,20 +78,4 @@ pub fn magnetic_radial_factors(s: f64, c: &[f64]) -> Vec<f64> {
 /// B_θ = −∂/∂θ and B_λ = −(1/sin θ) ∂/∂λ in nT.
 pub fn magnetic_horizontal_factors(s: f64, c: &[f64]) -> Vec<f64> {
     c.iter().map(|cl| s * cl).collect()
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn downward_continuation_is_capped() {
-        // common practice: (R/r)^{l+1} grows without bound downward.
-        let err = continuation_factors(1000, 6.4e6, 6.3e6, 1e3)
-            .unwrap_err()
-            .to_string();
-        assert!(err.contains("amplifies degree 1000"), "{err}");
-        let up = continuation_factors(3, 2.0, 4.0, 1e3).unwrap();
-        assert_eq!(up, vec![0.5, 0.25, 0.125, 0.0625]);
-    }
 }

@@ -11,9 +11,11 @@ use crate::coeffs::Coefficients;
 use crate::error::{Error, Result};
 use crate::sht::{evaluate_points, Grid, TransformPlan};
 
+use crate::spectral::continuation::{radial_factors, ContinuationOptions};
+use crate::spectral::filter::FilterChain;
+
 use super::degree_factors::{
-    continuation_factors, magnetic_horizontal_factors, magnetic_radial_factors, scalar_factors,
-    PotentialScale,
+    magnetic_horizontal_factors, magnetic_radial_factors, scalar_factors, PotentialScale,
 };
 use super::magnetic::FieldVector;
 use super::model_kind::ModelKind;
@@ -86,25 +88,27 @@ impl GeocentricPoint {
 
 /// What to compute.
 #[derive(Debug, Clone)]
-pub struct SynthesisRequest {
+pub struct SynthesisRequest<'a> {
     pub quantities: Vec<Quantity>,
     /// Where grid quantities are computed (points carry their own radius).
     pub surface: TargetSurface,
     pub normal_field: NormalField,
-    /// Degree weights W_l (a filter), applied as C_lm · W_l; degrees beyond the vector get 0.
-    pub degree_weights: Option<Vec<f64>>,
-    /// Largest amplification (R/r)^{lmax+1} accepted for downward continuation.
-    pub max_amplification: f64,
+    /// Degree-domain filter applied (with the model's reference radius) after the normal
+    /// field is removed and before the quantity factors.
+    pub filter: Option<&'a FilterChain>,
+    /// Cap and regularisation for downward continuation (r < R).
+    pub continuation: ContinuationOptions,
 }
 
-impl SynthesisRequest {
-    pub fn new(quantities: Vec<Quantity>) -> SynthesisRequest {
+impl<'a> SynthesisRequest<'a> {
+    /// The quantities on the reference sphere, no normal field, no filter.
+    pub fn new(quantities: Vec<Quantity>) -> SynthesisRequest<'a> {
         SynthesisRequest {
             quantities,
             surface: TargetSurface::ReferenceSphere,
             normal_field: NormalField::None,
-            degree_weights: None,
-            max_amplification: 1e3,
+            filter: None,
+            continuation: ContinuationOptions::default(),
         }
     }
 }
@@ -141,8 +145,8 @@ fn prepare(model: &Coefficients, request: &SynthesisRequest) -> Result<Prepared>
     let mut coeffs = model.to_geodesy()?;
     coeffs.check_finite()?;
     request.normal_field.remove_from(&mut coeffs)?;
-    if let Some(w) = &request.degree_weights {
-        coeffs.scale_by_degree(|l| w.get(l).copied().unwrap_or(0.0));
+    if let Some(chain) = request.filter {
+        chain.apply(&mut coeffs)?;
     }
     let scale = match (kind, model.gm_m3_s2) {
         (ModelKind::GravityPotential, Some(gm)) => Some(PotentialScale {
@@ -212,7 +216,7 @@ pub fn synthesize_with_plan(
     let r_ref = model.reference_radius_m;
     let r = request.surface.radius_m(r_ref);
     let s = r_ref / r;
-    let c = continuation_factors(lmax, r_ref, r, request.max_amplification)?;
+    let c = radial_factors(lmax, r_ref, r, &request.continuation)?;
     let total = qs
         .iter()
         .filter(|q| q.family() != QuantityFamily::Magnetic)
@@ -298,7 +302,7 @@ pub fn evaluate_at_points(
     for (bits, idx) in by_radius {
         let r = f64::from_bits(bits);
         let s = r_ref / r;
-        let c = continuation_factors(lmax, r_ref, r, request.max_amplification)?;
+        let c = radial_factors(lmax, r_ref, r, &request.continuation)?;
         let angles: Vec<(f64, f64)> = idx
             .iter()
             .map(|&i| (points[i].colatitude_rad, points[i].longitude_rad))
