@@ -228,3 +228,31 @@ fn filter_is_applied_before_the_quantity_factors() {
         "the degree-8 term must matter unfiltered"
     );
 }
+
+#[test]
+fn coarse_grids_sample_a_high_degree_model_exactly() {
+    // A degree-30 model on a 12-longitude grid: values at the nodes must equal point
+    // evaluation (the reference evaluator), not a truncated field. 1e-12 relative.
+    let lmax = 30;
+    let mut model = Coefficients::zeros(lmax, Normalization::Geodesy);
+    model.reference_radius_m = 1.0e6;
+    model.units = "m".into();
+    model.set(30, 17, 1.0, -0.5);
+    model.set(2, 1, 0.25, 0.0);
+    let mut grid = GaussGrid::new(5);
+    grid.nlon = 12;
+    let out = synthesize_on_grid(&model, &grid, &SynthesisRequest::new(vec![Quantity::Value]))
+        .unwrap()
+        .remove(0)
+        .1;
+    assert_eq!(out.dim(), (grid.nlat(), 12));
+    let pts: Vec<(f64, f64)> = grid
+        .colatitude_rad
+        .iter()
+        .flat_map(|&t| (0..12).map(move |k| (t, std::f64::consts::PI * k as f64 / 6.0)))
+        .collect();
+    let want = kugel::sht::evaluate_points(&model, &pts).unwrap();
+    for (v, w) in out.iter().zip(&want) {
+        assert!((v - w.value).abs() < 1e-12 * 4.0, "{v} vs {}", w.value);
+    }
+}

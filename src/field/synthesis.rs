@@ -186,13 +186,49 @@ fn needs_horizontal(qs: &[Quantity], tilted: bool) -> bool {
 }
 
 /// Synthesises every requested quantity on `grid` (rows north to south), in request order.
+///
+/// The values are the model's at the grid nodes whatever the grid's spacing: when the grid has
+/// fewer than 2·lmax + 1 longitudes (a coarse map of a high-degree model), the synthesis runs on
+/// a grid with an integer multiple of its longitudes and keeps every stride-th column, so no
+/// degree is dropped and nothing aliases.
 pub fn synthesize_on_grid(
     model: &Coefficients,
     grid: &Grid,
     request: &SynthesisRequest,
 ) -> Result<Vec<(Quantity, Array2<f64>)>> {
-    let plan = TransformPlan::new(model.lmax(), grid)?;
-    synthesize_with_plan(model, &plan, request, &mut |_, _| {})
+    synthesize_on_grid_with_progress(model, grid, request, &mut |_, _| {})
+}
+
+/// As [`synthesize_on_grid`], calling `progress(done, total)` after each synthesis.
+pub fn synthesize_on_grid_with_progress(
+    model: &Coefficients,
+    grid: &Grid,
+    request: &SynthesisRequest,
+    progress: &mut dyn FnMut(usize, usize),
+) -> Result<Vec<(Quantity, Array2<f64>)>> {
+    let (dense, stride) = longitude_densified(grid, model.lmax());
+    let plan = TransformPlan::new(model.lmax(), &dense)?;
+    let out = synthesize_with_plan(model, &plan, request, progress)?;
+    if stride == 1 {
+        return Ok(out);
+    }
+    Ok(out
+        .into_iter()
+        .map(|(q, f)| (q, f.slice(ndarray::s![.., ..;stride]).to_owned()))
+        .collect())
+}
+
+/// `grid` itself when it resolves `lmax` in longitude, else a copy with `stride` times as many
+/// longitudes (same first longitude and rings), stride ≥ 1 the smallest that does.
+pub fn longitude_densified(grid: &Grid, lmax: usize) -> (Grid, usize) {
+    let needed = 2 * lmax + 1;
+    if grid.nlon >= needed {
+        return (grid.clone(), 1);
+    }
+    let stride = needed.div_ceil(grid.nlon.max(1));
+    let mut dense = grid.clone();
+    dense.nlon = grid.nlon * stride;
+    (dense, stride)
 }
 
 /// As [`synthesize_on_grid`] with a prebuilt plan (reused across calls); `progress(done,
