@@ -160,3 +160,59 @@ pub fn progress_bar(len: u64, what: &str, quiet: bool) -> indicatif::ProgressBar
     bar.set_message(what.to_string());
     bar
 }
+
+/// A warning when gravity quantities are asked of what looks like a total potential (C̄00 ≈ 1,
+/// or a large C̄20) with no normal field removed: the results would be dominated by it.
+pub fn total_potential_warning(
+    model: &Coefficients,
+    parsed: &ParsedFieldOptions,
+) -> Option<String> {
+    use crate::field::quantity::QuantityFamily;
+    let gravity = parsed
+        .quantities
+        .iter()
+        .any(|q| q.family() == QuantityFamily::Gravity);
+    if !gravity || parsed.normal_field != NormalField::None || model.gm_m3_s2.is_none() {
+        return None;
+    }
+    let g = model.to_geodesy().ok()?;
+    let c00 = g.c(0, 0);
+    let c20 = if g.lmax() >= 2 { g.c(2, 0) } else { 0.0 };
+    (c00.abs() > 0.5 || c20.abs() > 1e-4).then(|| {
+        format!(
+            "warning: the model looks like a total potential (C00 = {c00}, C20 = {c20:e}) and no \
+             normal field is removed; pass --normal-field grs80, wgs84 or custom:… for \
+             disturbing-potential quantities"
+        )
+    })
+}
+
+/// The radius (m) the grid is computed on, from --altitude-km or --radius-km.
+pub fn target_surface(
+    altitude_km: Option<f64>,
+    radius_km: Option<f64>,
+) -> crate::Result<crate::field::TargetSurface> {
+    use crate::field::TargetSurface;
+    Ok(match (altitude_km, radius_km) {
+        (Some(_), Some(_)) => {
+            return Err(Error::invalid(
+                "give either --altitude-km or --radius-km, not both",
+            ))
+        }
+        (Some(h), None) if h.is_finite() => TargetSurface::Altitude {
+            altitude_m: h * 1e3,
+        },
+        (None, Some(r)) if r.is_finite() && r > 0.0 => TargetSurface::Radius { radius_m: r * 1e3 },
+        (None, None) => TargetSurface::ReferenceSphere,
+        (Some(h), None) => {
+            return Err(Error::invalid(format!(
+                "--altitude-km must be finite, got {h}"
+            )))
+        }
+        (None, Some(r)) => {
+            return Err(Error::invalid(format!(
+                "--radius-km must be positive, got {r}"
+            )))
+        }
+    })
+}
