@@ -41,6 +41,9 @@ pub struct UserGrid {
     pub attributes: Vec<(String, String)>,
     /// What the reader did that a user may want to know (dropped columns, dimensions).
     pub notes: Vec<String>,
+    /// Reference radius of the model a kugel grid was synthesised from
+    /// (global `kugel_reference_radius_m`), if recorded.
+    pub reference_radius_m: Option<f64>,
 }
 
 impl UserGrid {
@@ -401,5 +404,7 @@ pub fn read_grid(path: &Path, options: &GridReadOptions) -> Result<UserGrid> {
         units: nc::text(var.attributes(), "units").unwrap_or_else(|| "1".to_string()),
         attributes,
         notes,
+        reference_radius_m: nc::number(&globals, "kugel_reference_radius_m")
+            .filter(|r| r.is_finite() && *r > 0.0),
     })
 }
