@@ -25,7 +25,7 @@ pub struct FieldOptions {
     /// Degree-domain filter, e.g. gauss:300 or lowpass:40-50; repeat or chain with `+`.
     #[arg(long, value_name = "SPEC")]
     pub filter: Vec<String>,
-    /// Truncate the model to this degree first.
+    /// Truncate (or zero-pad) the model to this degree first (default: the model's).
     #[arg(long, value_name = "L")]
     pub lmax: Option<usize>,
     /// Stabilise downward continuation (below the reference sphere): tikhonov:ALPHA or
@@ -100,18 +100,10 @@ fn parse_downward(spec: &str) -> crate::Result<DownwardRegularization> {
     }
 }
 
-/// Reads a model and truncates it to `lmax` when asked (never pads: a larger lmax is refused).
+/// Reads a model and truncates (or zero-pads) it to `lmax` when asked.
 pub fn read_model_truncated(path: &Path, lmax: Option<usize>) -> anyhow::Result<Coefficients> {
     let model = crate::io::model_file::read_model(path)?;
     Ok(match lmax {
-        Some(l) if l > model.lmax() => {
-            return Err(Error::invalid(format!(
-                "--lmax {l} is above the model's degree {} ({})",
-                model.lmax(),
-                path.display()
-            ))
-            .into())
-        }
         Some(l) => model.resized(l),
         None => model,
     })

@@ -19,8 +19,8 @@ pub struct Args {
     /// Output NetCDF grid (written atomically; never the input).
     #[arg(long, short = 'o')]
     pub output: PathBuf,
-    /// Grid: `gauss` (Gauss–Legendre for the model's lmax) or `regular:STEP` (STEP degrees,
-    /// nodes including both poles).
+    /// Grid: `gauss` (Gauss–Legendre for the band limit) or `regular:STEP_DEG`
+    /// (node-registered, both poles included; `regular:1` is 181 x 360).
     #[arg(long, value_name = "KIND", default_value = "gauss")]
     pub grid: String,
     /// Height above the model's reference sphere, km (negative = downward continuation).
@@ -44,22 +44,20 @@ pub struct Args {
     pub field: FieldOptions,
 }
 
-/// Builds the engine grid a `--grid` spec names.
-pub fn grid_from_spec(spec: &str, lmax: usize) -> crate::Result<Grid> {
-    let s = spec.trim();
-    if s.eq_ignore_ascii_case("gauss") {
+/// Parses `gauss` or `regular:STEP_DEG` into an engine grid for band limit `lmax`.
+pub fn parse_grid_spec(spec: &str, lmax: usize) -> crate::Result<Grid> {
+    let spec = spec.trim();
+    if spec.eq_ignore_ascii_case("gauss") {
         return Ok(GaussGrid::new(lmax));
     }
-    if let Some(step) = s.strip_prefix("regular:") {
+    if let Some(step) = spec.strip_prefix("regular:") {
         let step: f64 = step.trim().parse().map_err(|_| {
-            Error::invalid(format!(
-                "--grid {s}: the step `{step}` is not a number of degrees"
-            ))
+            Error::invalid(format!("--grid {spec}: '{step}' is not a step in degrees"))
         })?;
         return crate::sht::equiangular::regular_grid_by_step(step);
     }
     Err(Error::invalid(format!(
-        "--grid `{s}`: expected gauss or regular:STEP (degrees)"
+        "--grid '{spec}': expected gauss or regular:STEP_DEG (e.g. regular:1)"
     )))
 }
 
@@ -69,7 +67,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     let surface = field_options::target_surface(args.altitude_km, args.radius_km)?;
     let lon_convention: LonConvention = args.lon_range.parse()?;
     let model = field_options::read_model_truncated(&args.model, args.field.lmax)?;
-    let grid = grid_from_spec(&args.grid, model.lmax())?;
+    let grid = parse_grid_spec(&args.grid, model.lmax())?;
     if let Some(w) = field_options::total_potential_warning(&model, &parsed) {
         eprintln!("{w}");
     }
@@ -119,7 +117,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
             format!("{}", radius_m - model.reference_radius_m),
         ),
         (
-            "kugel_model_reference_radius_m".to_string(),
+            "kugel_reference_radius_m".to_string(),
             format!("{}", model.reference_radius_m),
         ),
     ]);
