@@ -16,6 +16,7 @@
 use std::path::{Path, PathBuf};
 
 use crate::error::{Error, Result};
+use crate::io::csv_table::read_csv_table;
 
 /// The noise part of a Wiener filter.
 #[derive(Debug, Clone, PartialEq)]
@@ -124,79 +125,35 @@ pub enum NoiseSource {
 ///
 /// Every degree from 0 to the largest one present must appear exactly once (a spectrum with
 /// gaps cannot define a filter); values must be finite and ≥ 0. Errors name the file, the
-/// line and what was expected.
+/// line and what was expected. Parsing is `io::csv_table`'s.
 pub fn read_spectrum_csv(path: &Path) -> Result<Vec<f64>> {
-    let text = std::fs::read_to_string(path).map_err(|e| Error::io(path, e))?;
+    let table = read_csv_table(path)?;
+    let degrees = table.numeric_column("degree")?;
+    let variances = table.numeric_column("degree_variance")?;
     let line_err = |line: usize, message: String| Error::Line {
         path: path.to_path_buf(),
         line,
         message,
     };
-    let mut rows = text
-        .lines()
-        .enumerate()
-        .map(|(i, l)| (i + 1, l.trim()))
-        .filter(|(_, l)| !l.is_empty() && !l.starts_with('#'));
-    let (header_line, header) = rows.next().ok_or_else(|| {
-        Error::format(
-            path,
-            "empty file: expected a header with columns degree, degree_variance",
-        )
-    })?;
-    let names: Vec<String> = header
-        .split(',')
-        .map(|h| h.trim().trim_matches('"').to_ascii_lowercase())
-        .collect();
-    let find = |want: &str| {
-        names.iter().position(|n| n == want).ok_or_else(|| {
-            line_err(
-                header_line,
-                format!(
-                    "header has no column '{want}' (found: {})",
-                    names.join(", ")
-                ),
-            )
-        })
-    };
-    let (i_degree, i_value) = (find("degree")?, find("degree_variance")?);
     let mut values: Vec<Option<f64>> = Vec::new();
-    for (line, row) in rows {
-        let cells: Vec<&str> = row.split(',').map(str::trim).collect();
-        let cell = |i: usize, what: &str| {
-            cells.get(i).copied().ok_or_else(|| {
-                line_err(
-                    line,
-                    format!("missing column '{what}' ({} cells)", cells.len()),
-                )
-            })
-        };
-        let degree_text = cell(i_degree, "degree")?;
-        let degree: usize = degree_text
-            .parse::<f64>()
-            .ok()
-            .filter(|d| d.fract() == 0.0 && *d >= 0.0 && *d < 1e7)
-            .map(|d| d as usize)
-            .ok_or_else(|| {
-                line_err(
-                    line,
-                    format!("degree '{degree_text}' is not a non-negative integer"),
-                )
-            })?;
-        let value_text = cell(i_value, "degree_variance")?;
-        let value: f64 = value_text
-            .parse::<f64>()
-            .ok()
-            .filter(|v| v.is_finite() && *v >= 0.0)
-            .ok_or_else(|| {
-                line_err(
-                    line,
-                    format!("degree_variance '{value_text}' is not a finite number ≥ 0"),
-                )
-            })?;
+    for ((&d, &v), &line) in degrees.iter().zip(&variances).zip(&table.line_numbers) {
+        if !(d.fract() == 0.0 && (0.0..1e7).contains(&d)) {
+            return Err(line_err(
+                line,
+                format!("degree {d} is not a non-negative integer"),
+            ));
+        }
+        if !(v.is_finite() && v >= 0.0) {
+            return Err(line_err(
+                line,
+                format!("degree_variance {v} is not a finite number ≥ 0"),
+            ));
+        }
+        let degree = d as usize;
         if values.len() <= degree {
             values.resize(degree + 1, None);
         }
-        if values[degree].replace(value).is_some() {
+        if values[degree].replace(v).is_some() {
             return Err(line_err(line, format!("degree {degree} appears twice")));
         }
     }
@@ -254,7 +211,7 @@ mod tests {
         let p = write(dir.path(), "a.csv", "degree,power\n0,1\n");
         let msg = read_spectrum_csv(&p).unwrap_err().to_string();
         assert!(
-            msg.contains("a.csv, line 1") && msg.contains("degree_variance"),
+            msg.contains("a.csv") && msg.contains("no column 'degree_variance'"),
             "{msg}"
         );
         let p = write(dir.path(), "b.csv", "degree,degree_variance\n0,1\n1,-2\n");
