@@ -3,8 +3,8 @@
 
 pub mod atomic;
 pub mod csv_table;
-// pub mod degree_table;
-// pub mod grid_file;
+pub mod degree_table;
+pub mod grid_file;
 // pub mod grid_layout;
 // pub mod grid_read;
 pub mod model_file;
