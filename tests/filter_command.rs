@@ -41,6 +41,7 @@ fn filters_and_continues_a_model_file() {
     let dir = tempfile::tempdir().unwrap();
     let input = dir.path().join("topo.nc");
     let output = dir.path().join("smooth.nc");
+    let weights = dir.path().join("weights.csv");
     let original = write_sample(&input);
     let before = std::fs::read(&input).unwrap();
     let out = kugel(&[
@@ -54,6 +55,8 @@ fn filters_and_continues_a_model_file() {
         "250",
         "-o",
         output.to_str().unwrap(),
+        "--weights",
+        weights.to_str().unwrap(),
     ]);
     let stdout = String::from_utf8_lossy(&out.stdout);
     assert!(

@@ -9,6 +9,10 @@ use anyhow::Context;
 use super::CommandContext;
 use crate::error::Error;
 use crate::io::atomic::refuse_overwrite_of_input;
+use crate::io::degree_table::{
+    write_degree_table_csv, write_degree_table_netcdf, DegreeColumn, DegreeTable,
+};
+use crate::io::model_file::is_netcdf_path;
 use crate::io::model_file::{read_model, write_model};
 use crate::io::provenance::Provenance;
 use crate::spectral::continuation::{
@@ -53,6 +57,11 @@ pub struct Args {
     #[arg(long, value_name = "L")]
     pub cutoff_degree: Option<usize>,
 
+    /// Also write the per-degree weights (combined, each filter, continuation factor) to this
+    /// file: NetCDF for .nc, CSV otherwise.
+    #[arg(long, value_name = "FILE")]
+    pub weights: Option<PathBuf>,
+
     /// Largest amplification (R/r)^(lmax+1) accepted for unregularised downward continuation.
     #[arg(long, value_name = "X", default_value_t = DEFAULT_MAX_AMPLIFICATION)]
     pub max_amplification: f64,
@@ -60,6 +69,9 @@ pub struct Args {
 
 pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     refuse_overwrite_of_input(&args.output, &[&args.model])?;
+    if let Some(w) = &args.weights {
+        refuse_overwrite_of_input(w, &[&args.model, &args.output])?;
+    }
     let chain = FilterChain::from_specs(&args.filters)?;
     let continuation = continuation_request(args)?;
     if chain.is_empty() && continuation.is_none() {
@@ -86,7 +98,15 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     provenance.lmax = Some(lmax);
     provenance.normalization = Some(model.normalization.name().to_string());
 
+    let mut table = WeightTable::new(lmax, radius_m);
     if !chain.is_empty() {
+        for f in &chain.filters {
+            table.add(
+                &format!("weight_{}", f.kind()),
+                &f.explain(),
+                f.weights(lmax, radius_m)?,
+            );
+        }
         let weights = chain
             .weights(lmax, radius_m)
             .with_context(|| format!("filtering {}", args.model.display()))?;
@@ -95,6 +115,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
             say(format!("  {line}"));
         }
         say(summary_of_weights(&weights, radius_m));
+        table.add("weight", "combined filter weight", weights);
         chain.apply(&mut model)?;
         model.check_finite()?;
         provenance.filter = Some(chain.describe());
@@ -122,6 +143,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
             target_m / 1e3,
             amplification(&factors)
         );
+        table.add("continuation_factor", &text, factors);
         say(text.clone());
         provenance
             .extra
@@ -130,6 +152,14 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
 
     write_model(&args.output, &model, &provenance)?;
     say(format!("wrote {}", args.output.display()));
+    if let Some(path) = &args.weights {
+        // one run, one outcome: without its weights table the model output is withdrawn too
+        if let Err(e) = table.write(path, &provenance) {
+            let _ = std::fs::remove_file(&args.output);
+            return Err(e.into());
+        }
+        say(format!("wrote {}", path.display()));
+    }
     Ok(())
 }
 
@@ -242,4 +272,66 @@ fn summary_of_weights(weights: &[f64], radius_m: f64) -> String {
         }
     }
     format!("combined weight: {}", parts.join("; "))
+}
+
+/// The per-degree weights written by `--weights`.
+struct WeightTable {
+    table: DegreeTable,
+    names: Vec<String>,
+}
+
+impl WeightTable {
+    fn new(lmax: usize, radius_m: f64) -> Self {
+        let column = |name: &str, units: &str, long_name: &str, values: Vec<f64>| DegreeColumn {
+            name: name.to_string(),
+            units: units.to_string(),
+            long_name: long_name.to_string(),
+            values,
+        };
+        let degrees: Vec<f64> = (0..=lmax).map(|l| l as f64).collect();
+        let half: Vec<f64> = (0..=lmax)
+            .map(|l| {
+                if l == 0 {
+                    f64::NAN
+                } else {
+                    std::f64::consts::PI * radius_m / 1e3 / l as f64
+                }
+            })
+            .collect();
+        WeightTable {
+            table: DegreeTable {
+                columns: vec![
+                    column("degree", "1", "spherical-harmonic degree", degrees),
+                    column("half_wavelength_km", "km", "half-wavelength pi R / l", half),
+                ],
+                attributes: vec![("title".to_string(), "kugel filter weights".to_string())],
+            },
+            names: Vec::new(),
+        }
+    }
+
+    /// Adds a column, numbering repeated names (two gauss filters → weight_gauss, weight_gauss_2).
+    fn add(&mut self, name: &str, long_name: &str, values: Vec<f64>) {
+        let count = self.names.iter().filter(|n| *n == name).count();
+        self.names.push(name.to_string());
+        let unique = if count == 0 {
+            name.to_string()
+        } else {
+            format!("{name}_{}", count + 1)
+        };
+        self.table.columns.push(DegreeColumn {
+            name: unique,
+            units: "1".to_string(),
+            long_name: long_name.to_string(),
+            values,
+        });
+    }
+
+    fn write(&self, path: &std::path::Path, provenance: &Provenance) -> crate::error::Result<()> {
+        if is_netcdf_path(path) {
+            write_degree_table_netcdf(path, &self.table, provenance)
+        } else {
+            write_degree_table_csv(path, &self.table)
+        }
+    }
 }
