@@ -36,6 +36,18 @@ impl Filter {
         })
     }
 
+    /// The spec keyword of this filter (`gauss`, `lowpass`, …).
+    pub fn kind(&self) -> &'static str {
+        match self {
+            Filter::Gauss(_) => "gauss",
+            Filter::Lowpass(_) => "lowpass",
+            Filter::Highpass(_) => "highpass",
+            Filter::Bandpass(_) => "bandpass",
+            Filter::Butterworth(_) => "butterworth",
+            Filter::Wiener(_) => "wiener",
+        }
+    }
+
     /// The spec that rebuilds this filter (`gauss:300`, `lowpass:40-50`, …).
     pub fn spec(&self) -> String {
         match self {

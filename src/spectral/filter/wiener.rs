@@ -8,14 +8,16 @@
 //!   W_l = S_l / (S_l + N_l),   and W_l = 0 where S_l = N_l = 0.
 //!
 //! S_l is the spectrum of the signal alone; passing the spectrum of the noisy observations
-//! instead gives (S+N)/(S+2N), a milder filter. Spectra are read from CSV files as written by
-//! `kugel spectrum --csv`: a header row with a column `degree` and a column
-//! `degree_variance`, one row per degree, `#` comment lines allowed. A constant noise level
+//! instead gives (S+N)/(S+2N), a milder filter. Spectra are read from the files `kugel
+//! spectrum` writes (CSV with a first column `degree` and a column `degree_variance`, `#`
+//! comment lines allowed, or the NetCDF twin), one row per degree. A constant noise level
 //! (`noise=1e-18`) is the degree variance N_l at every degree.
 
 use std::path::{Path, PathBuf};
 
 use crate::error::{Error, Result};
+use crate::io::csv_table::read_csv_table;
+use crate::io::degree_table::read_degree_table;
 
 /// The noise part of a Wiener filter.
 #[derive(Debug, Clone, PartialEq)]
@@ -40,10 +42,10 @@ pub struct WienerFilter {
 impl WienerFilter {
     /// Reads the signal spectrum (and the noise spectrum when given as a file).
     pub fn load(signal_path: &Path, noise: NoiseSource) -> Result<Self> {
-        let signal = read_spectrum_csv(signal_path)?;
+        let signal = read_spectrum_file(signal_path)?;
         let noise = match noise {
             NoiseSource::File(p) => NoiseLevel::Spectrum {
-                degree_variance: read_spectrum_csv(&p)?,
+                degree_variance: read_spectrum_file(&p)?,
                 path: p,
             },
             NoiseSource::Constant(v) => {
@@ -120,84 +122,52 @@ pub enum NoiseSource {
     Constant(f64),
 }
 
-/// Reads a degree-variance spectrum: returns S_l indexed by degree 0..=max degree.
+/// Reads a degree-variance spectrum (the CSV or NetCDF that `kugel spectrum` writes, through
+/// `io::degree_table`): returns S_l indexed by degree 0..=max degree.
 ///
 /// Every degree from 0 to the largest one present must appear exactly once (a spectrum with
-/// gaps cannot define a filter); values must be finite and ≥ 0. Errors name the file, the
-/// line and what was expected.
-pub fn read_spectrum_csv(path: &Path) -> Result<Vec<f64>> {
-    let text = std::fs::read_to_string(path).map_err(|e| Error::io(path, e))?;
-    let line_err = |line: usize, message: String| Error::Line {
-        path: path.to_path_buf(),
-        line,
-        message,
-    };
-    let mut rows = text
-        .lines()
-        .enumerate()
-        .map(|(i, l)| (i + 1, l.trim()))
-        .filter(|(_, l)| !l.is_empty() && !l.starts_with('#'));
-    let (header_line, header) = rows.next().ok_or_else(|| {
-        Error::format(
-            path,
-            "empty file: expected a header with columns degree, degree_variance",
-        )
-    })?;
-    let names: Vec<String> = header
-        .split(',')
-        .map(|h| h.trim().trim_matches('"').to_ascii_lowercase())
-        .collect();
-    let find = |want: &str| {
-        names.iter().position(|n| n == want).ok_or_else(|| {
-            line_err(
-                header_line,
+/// gaps cannot define a filter); values must be finite and ≥ 0. Errors name the file and the
+/// degree (CSV: also the line).
+pub fn read_spectrum_file(path: &Path) -> Result<Vec<f64>> {
+    let table = read_degree_table(path)?;
+    let degrees = &table.columns[0].values;
+    let variances = &table
+        .column("degree_variance")
+        .ok_or_else(|| {
+            let names: Vec<&str> = table.columns.iter().map(|c| c.name.as_str()).collect();
+            Error::format(
+                path,
                 format!(
-                    "header has no column '{want}' (found: {})",
+                    "no column 'degree_variance' (columns are: {})",
                     names.join(", ")
                 ),
             )
-        })
+        })?
+        .values;
+    // CSV rows keep their file lines for the messages; NetCDF rows are named by degree only
+    let lines = read_csv_table(path).ok().map(|t| t.line_numbers);
+    let row_err = |row: usize, message: String| match lines.as_ref().and_then(|l| l.get(row)) {
+        Some(&line) => Error::Line {
+            path: path.to_path_buf(),
+            line,
+            message,
+        },
+        None => Error::format(path, message),
     };
-    let (i_degree, i_value) = (find("degree")?, find("degree_variance")?);
     let mut values: Vec<Option<f64>> = Vec::new();
-    for (line, row) in rows {
-        let cells: Vec<&str> = row.split(',').map(str::trim).collect();
-        let cell = |i: usize, what: &str| {
-            cells.get(i).copied().ok_or_else(|| {
-                line_err(
-                    line,
-                    format!("missing column '{what}' ({} cells)", cells.len()),
-                )
-            })
-        };
-        let degree_text = cell(i_degree, "degree")?;
-        let degree: usize = degree_text
-            .parse::<f64>()
-            .ok()
-            .filter(|d| d.fract() == 0.0 && *d >= 0.0 && *d < 1e7)
-            .map(|d| d as usize)
-            .ok_or_else(|| {
-                line_err(
-                    line,
-                    format!("degree '{degree_text}' is not a non-negative integer"),
-                )
-            })?;
-        let value_text = cell(i_value, "degree_variance")?;
-        let value: f64 = value_text
-            .parse::<f64>()
-            .ok()
-            .filter(|v| v.is_finite() && *v >= 0.0)
-            .ok_or_else(|| {
-                line_err(
-                    line,
-                    format!("degree_variance '{value_text}' is not a finite number ≥ 0"),
-                )
-            })?;
+    for (row, (&d, &v)) in degrees.iter().zip(variances).enumerate() {
+        let degree = d as usize;
+        if !(v.is_finite() && v >= 0.0) {
+            return Err(row_err(
+                row,
+                format!("degree {degree}: degree_variance {v} is not a finite number ≥ 0"),
+            ));
+        }
         if values.len() <= degree {
             values.resize(degree + 1, None);
         }
-        if values[degree].replace(value).is_some() {
-            return Err(line_err(line, format!("degree {degree} appears twice")));
+        if values[degree].replace(v).is_some() {
+            return Err(row_err(row, format!("degree {degree} appears twice")));
         }
     }
     if values.is_empty() {
@@ -252,16 +222,16 @@ mod tests {
     fn bad_spectrum_files_name_file_and_line() {
         let dir = tempfile::tempdir().unwrap();
         let p = write(dir.path(), "a.csv", "degree,power\n0,1\n");
-        let msg = read_spectrum_csv(&p).unwrap_err().to_string();
+        let msg = read_spectrum_file(&p).unwrap_err().to_string();
         assert!(
-            msg.contains("a.csv, line 1") && msg.contains("degree_variance"),
+            msg.contains("a.csv") && msg.contains("no column 'degree_variance'"),
             "{msg}"
         );
         let p = write(dir.path(), "b.csv", "degree,degree_variance\n0,1\n1,-2\n");
-        let msg = read_spectrum_csv(&p).unwrap_err().to_string();
+        let msg = read_spectrum_file(&p).unwrap_err().to_string();
         assert!(msg.contains("b.csv, line 3") && msg.contains("-2"), "{msg}");
         let p = write(dir.path(), "c.csv", "degree,degree_variance\n0,1\n2,1\n");
-        let msg = read_spectrum_csv(&p).unwrap_err().to_string();
+        let msg = read_spectrum_file(&p).unwrap_err().to_string();
         assert!(msg.contains("degree 1 is missing"), "{msg}");
     }
 }
