@@ -213,9 +213,15 @@ fn map_style(
     if let Some(f) = &parsed.filter {
         degree_range.push_str(&format!(", filter {}", f.describe()));
     }
-    let mut title = format!("{} {}", q.long_name(), title_place(surface));
+    // Short: the map's title line does not wrap.
+    let place = match surface {
+        TargetSurface::ReferenceSphere => "r = R".to_string(),
+        TargetSurface::Altitude { altitude_m } => format!("h = {} km", altitude_m / 1e3),
+        TargetSurface::Radius { radius_m } => format!("r = {} km", radius_m / 1e3),
+    };
+    let title = format!("{}, {place}", q.name());
     if q == Quantity::Declination {
-        title.push_str(" - not for navigation");
+        degree_range.push_str(" - not for navigation or safety decisions");
     }
     MapStyle {
         title,
