@@ -42,6 +42,9 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         .map(Ellipsoid::parse)
         .transpose()?;
     let model = field_options::read_model_truncated(&args.model, args.field.lmax)?;
+    if let Some(w) = field_options::total_potential_warning(&model, &parsed) {
+        eprintln!("{w}");
+    }
     let table = read_csv_table(&args.points)?;
     let points = points_of(&table, model.reference_radius_m, ellipsoid.as_ref())?;
 
