@@ -1,2 +1,12 @@
 //! The config-driven pipeline: schema, validation, step orchestration, progress, provenance.
 //! Holds no numerical code.
+
+pub mod checks;
+pub mod config;
+pub mod dag;
+pub mod estimate;
+pub mod job;
+pub mod schema;
+pub mod suggest;
+
+pub use job::Job;
