@@ -342,7 +342,9 @@ impl Spectrum {
             );
         }
         if let Some(snr) = &self.signal_to_noise {
-            if let Some(l) = (1..=self.lmax).find(|&l| snr[l] < 1.0) {
+            if let Some(l) =
+                (1..=self.lmax).find(|&l| self.degree_variance[l] > 0.0 && snr[l] < 1.0)
+            {
                 out += &format!(
                     "signal-to-noise falls below 1 at degree {l} (half-wavelength {:.0} km)\n",
                     self.half_wavelength_km[l]
