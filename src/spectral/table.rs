@@ -56,3 +56,23 @@ impl SpectralTable {
         self.columns.iter().find(|c| c.name == name)
     }
 }
+
+impl SpectralTable {
+    /// The same columns and attributes as an `io::degree_table::DegreeTable` for writing.
+    pub fn to_degree_table(&self) -> crate::io::degree_table::DegreeTable {
+        use crate::io::degree_table::{DegreeColumn, DegreeTable};
+        DegreeTable {
+            columns: self
+                .columns
+                .iter()
+                .map(|c| DegreeColumn {
+                    name: c.name.clone(),
+                    units: c.units.clone(),
+                    long_name: c.long_name.clone(),
+                    values: c.values.clone(),
+                })
+                .collect(),
+            attributes: self.attributes.clone(),
+        }
+    }
+}
