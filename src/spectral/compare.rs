@@ -233,10 +233,10 @@ impl Comparison {
             "half-wavelength pi R / l on the reference sphere",
             self.half_wavelength_km.clone(),
         );
-        t.attribute("confidence_level", self.confidence);
+        t.number_attribute("confidence_level", self.confidence);
         t.attribute("reference_model", &self.reference_label);
         t.attribute("compared_model", &self.other_label);
-        t.attribute("reference_radius_m", self.reference_radius_m);
+        t.number_attribute("reference_radius_m", self.reference_radius_m);
         t.attribute("coefficient_units", &self.units);
         t.attribute(
             "agreement_degree",

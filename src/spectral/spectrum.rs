@@ -270,11 +270,11 @@ impl Spectrum {
                 .per_coefficient_power
                 .iter()
                 .zip(&values)
-                .map(|(o, f)| o / f)
+                .map(|(o, f)| if *o > 0.0 { o / f } else { f64::NAN })
                 .collect();
             let dev_sigma: Vec<f64> = (0..=self.lmax)
                 .map(|l| {
-                    if l == 0 {
+                    if l == 0 || self.per_coefficient_power[l] <= 0.0 {
                         return f64::NAN;
                     }
                     let (bias, var) = log_chi2_moments(l);
@@ -297,18 +297,18 @@ impl Spectrum {
                 ratio,
             );
             t.push("power_law_deviation_sigma", "1", "deviation of ln(observed power) from the power law in units of its chi-squared sampling sigma (bias removed)", dev_sigma);
-            t.attribute("power_law_amplitude", fit.amplitude);
-            t.attribute("power_law_amplitude_sigma", fit.amplitude_sigma);
-            t.attribute("power_law_exponent", fit.exponent);
-            t.attribute("power_law_exponent_sigma", fit.exponent_sigma);
-            t.attribute("power_law_reduced_chi2", fit.reduced_chi2);
+            t.number_attribute("power_law_amplitude", fit.amplitude);
+            t.number_attribute("power_law_amplitude_sigma", fit.amplitude_sigma);
+            t.number_attribute("power_law_exponent", fit.exponent);
+            t.number_attribute("power_law_exponent_sigma", fit.exponent_sigma);
+            t.number_attribute("power_law_reduced_chi2", fit.reduced_chi2);
             t.attribute(
                 "power_law_degree_range",
                 format!("{}-{}", fit.lmin, fit.lmax),
             );
         }
-        t.attribute("confidence_level", self.confidence);
-        t.attribute("reference_radius_m", self.reference_radius_m);
+        t.number_attribute("confidence_level", self.confidence);
+        t.number_attribute("reference_radius_m", self.reference_radius_m);
         t.attribute("coefficient_units", &self.units);
         t.attribute(
             "normalization",
@@ -319,15 +319,29 @@ impl Spectrum {
 
     /// A few lines for people: RMS, fit, band level.
     pub fn summary(&self) -> String {
+        let units = if self.units.trim() == "1" {
+            "(dimensionless)"
+        } else {
+            self.units.trim()
+        };
         let mut out = format!(
-            "degrees 0-{}, reference radius {} km, units {}\nfield RMS {:.6e} (about the mean {:.6e}) {}\n",
+            "degrees 0-{}, reference radius {} km, coefficient units {units}\nRMS of the expanded function on the reference sphere {:.6e}, about its mean {:.6e}\n",
             self.lmax,
             trim_number(self.reference_radius_m / 1000.0),
-            self.units,
             self.cumulative_rms.last().copied().unwrap_or(0.0),
             self.rms_about_mean(),
-            self.units
         );
+        if let Some(lowes) = &self.lowes {
+            let total: f64 = lowes.power.iter().sum();
+            let dipole = lowes.power.get(1).copied().unwrap_or(0.0);
+            out += &format!(
+                "Lowes-Mauersberger power at r = {} km: total {:.6e} (RMS field {:.6e}), degree 1 carries {:.1}%\n",
+                trim_number(lowes.radius_m / 1000.0),
+                total,
+                total.sqrt(),
+                if total > 0.0 { 100.0 * dipole / total } else { 0.0 }
+            );
+        }
         if let Some(fit) = &self.power_law {
             out += &format!(
                 "power law over degrees {}-{}: per-coefficient power = {:.4e} ± {:.2e} · l^-({:.4} ± {:.4}); reduced chi2 {:.2}{}\n",

@@ -52,8 +52,23 @@ impl SpectralTable {
         self.attributes.push((key.to_string(), value.to_string()));
     }
 
+    /// A numeric attribute, written plainly when moderate (0.95, 3.98) and in exponent form
+    /// otherwise (9.13e-11), always with full round-trip precision.
+    pub fn number_attribute(&mut self, key: &str, value: f64) {
+        self.attribute(key, number_text(value));
+    }
+
     pub fn column(&self, name: &str) -> Option<&SpectralColumn> {
         self.columns.iter().find(|c| c.name == name)
+    }
+}
+
+/// Shortest round-trip text of a number, in exponent form outside [1e-3, 1e6).
+pub fn number_text(v: f64) -> String {
+    if v == 0.0 || !v.is_finite() || (1e-3..1e6).contains(&v.abs()) {
+        format!("{v}")
+    } else {
+        format!("{v:e}")
     }
 }
 
