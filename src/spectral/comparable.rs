@@ -138,9 +138,11 @@ pub fn make_comparable(
             other.lmax()
         ));
     }
+    // Cut only what is longer than the common degree: models at degree thousands are large.
+    let cut = |c: Coefficients| if c.lmax() == lmax { c } else { c.resized(lmax) };
     Ok(ComparablePair {
-        reference: reference.resized(lmax),
-        other: other.resized(lmax),
+        reference: cut(reference),
+        other: cut(other),
         lmax,
         notes,
     })
