@@ -16,6 +16,7 @@
 //! - Difference degree variance D_l = Σ_m ((C^A − C^B)² + (S^A − S^B)²).
 //! - Agreement: the first degree l ≥ 1 with D_l > S^A_l is where the models stop agreeing;
 //!   "agree up to" is the degree before it (the whole common range when there is none).
+//!   Degrees where the reference has no power at all are skipped.
 
 use super::comparable::make_comparable;
 use super::degree_power::{cross_sum, difference_sum_of_squares, sum_of_squares};
@@ -93,13 +94,17 @@ fn ratio_or_nan(num: f64, den: f64) -> f64 {
 }
 
 /// Degree at which models stop agreeing: (agree up to, first disagreement).
+///
+/// Degrees where the reference carries no power at all (degree 1 of a model in a
+/// centre-of-mass frame, say) give no signal to compare against and are skipped.
 pub fn agreement_degree(
     reference_power: &[f64],
     difference: &[f64],
 ) -> (Option<usize>, Option<usize>) {
     let lmax = reference_power.len().saturating_sub(1);
-    match (1..=lmax).find(|&l| difference[l] > reference_power[l]) {
-        Some(first) => ((first >= 2).then_some(first - 1), Some(first)),
+    let has_signal = |l: usize| reference_power[l] > 0.0;
+    match (1..=lmax).find(|&l| has_signal(l) && difference[l] > reference_power[l]) {
+        Some(first) => ((1..first).rev().find(|&l| has_signal(l)), Some(first)),
         None if lmax >= 1 => (Some(lmax), None),
         None => (None, None),
     }
@@ -302,6 +307,12 @@ mod tests {
             agreement_degree(&sa, &[0.0, 2.0, 0.0, 0.0, 0.0, 0.0]),
             (None, Some(1))
         );
+        // a degree without reference power is skipped, not counted as disagreement
+        let sa0 = [1.0, 0.0, 1.0, 1.0, 1.0, 1.0];
+        let d0 = [0.0, 1e-9, 0.1, 2.0, 0.0, 0.0];
+        assert_eq!(agreement_degree(&sa0, &d0), (Some(2), Some(3)));
+        let d1 = [0.0, 1e-9, 2.0, 0.0, 0.0, 0.0];
+        assert_eq!(agreement_degree(&sa0, &d1), (None, Some(2)));
     }
 
     #[test]
