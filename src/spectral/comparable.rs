@@ -11,6 +11,7 @@
 //! - anything else (a function on the sphere itself: topography, a field on a grid): the radius
 //!   only labels the sphere and there is no continuation law, so different radii are refused
 //!   unless forced, and then compared as given.
+//!
 //! Different `units` mean different quantities: refused unless forced.
 
 use std::borrow::Cow;

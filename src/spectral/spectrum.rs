@@ -355,6 +355,12 @@ impl Spectrum {
                 fit.reduced_chi2,
                 if fit.reduced_chi2 > 1.0 { " (uncertainties scaled up by it)" } else { "" }
             );
+            // Kaula-type form: RMS per coefficient K·l^-q with K = √A, q = p/2.
+            out += &format!(
+                "  as an RMS per coefficient (Kaula form): {:.4e} · l^-{:.4}\n",
+                fit.amplitude.sqrt(),
+                fit.exponent / 2.0
+            );
         }
         if let Some(snr) = &self.signal_to_noise {
             if let Some(l) =
