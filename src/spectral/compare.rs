@@ -19,7 +19,9 @@
 //!   Degrees where the reference has no power at all are skipped.
 
 use super::comparable::make_comparable;
-use super::degree_power::{cross_sum, difference_sum_of_squares, sum_of_squares};
+use super::degree_power::{
+    cross_sum, difference_sum_of_squares, error_sum_of_squares, sum_of_squares,
+};
 use super::spectrum::{check_confidence, trim_number};
 use super::stats::{f_quantile, student_t_quantile};
 use super::table::SpectralTable;
@@ -65,6 +67,9 @@ pub struct Comparison {
     pub power_ratio_lower: Vec<f64>,
     pub power_ratio_upper: Vec<f64>,
     pub difference_degree_variance: Vec<f64>,
+    /// Error degree variance of the difference, E^A_l + E^B_l, when both models carry sigmas
+    /// (errors taken as independent between the models).
+    pub difference_error_degree_variance: Option<Vec<f64>>,
     pub half_wavelength_km: Vec<f64>,
     /// Last degree before the difference first exceeds the reference's power ("agree up to").
     pub agreement_degree: Option<usize>,
@@ -144,6 +149,13 @@ impl Comparison {
         let admittance = (0..=lmax).map(|l| ratio_or_nan(sab[l], sa[l])).collect();
         let radius = pair.reference.reference_radius_m;
         let (agree, first) = agreement_degree(&sa, &diff);
+        let difference_error = match (
+            error_sum_of_squares(&pair.reference),
+            error_sum_of_squares(&pair.other),
+        ) {
+            (Some(ea), Some(eb)) => Some(ea.iter().zip(&eb).map(|(x, y)| x + y).collect()),
+            _ => None,
+        };
         Ok(Comparison {
             lmax,
             reference_radius_m: radius,
@@ -161,6 +173,7 @@ impl Comparison {
             power_ratio_lower: lower,
             power_ratio_upper: upper,
             difference_degree_variance: diff,
+            difference_error_degree_variance: difference_error,
             half_wavelength_km: (0..=lmax).map(|l| half_wavelength_km(l, radius)).collect(),
             agreement_degree: agree,
             agreement_half_wavelength_km: agree.map(|l| half_wavelength_km(l, radius)),
@@ -232,6 +245,14 @@ impl Comparison {
             "degree variance of the difference A - B",
             self.difference_degree_variance.clone(),
         );
+        if let Some(e) = &self.difference_error_degree_variance {
+            t.push(
+                "difference_error_degree_variance",
+                &sq,
+                "error degree variance of A - B from both models' sigmas (independent errors)",
+                e.clone(),
+            );
+        }
         t.push(
             "half_wavelength_km",
             "km",
