@@ -6,3 +6,5 @@ pub mod colormap;
 pub mod font;
 pub mod maps;
 pub mod ticks;
+
+pub mod plots;
