@@ -77,6 +77,15 @@ impl TransformPlan {
                 grid.colatitude_rad[j]
             )));
         }
+        // Refuse before planning anything: a plan is only useful if one field and one
+        // coefficient set of its shape fit in memory.
+        let (nlat, nlon) = (grid.nlat() as f64, grid.nlon as f64);
+        let l1 = lmax as f64 + 1.0;
+        let estimate = nlat * nlon * 8.0 + l1 * (l1 + 1.0) * 8.0 + nlon * 48.0;
+        memory::check_fits(
+            &format!("a transform to degree {lmax} on a {} x {} grid (one field and one coefficient set)", grid.nlat(), grid.nlon),
+            estimate.min(u64::MAX as f64) as u64,
+        )?;
         let mut planner = RealFftPlanner::<f64>::new();
         let symmetric = is_symmetric(grid);
         Ok(TransformPlan {
