@@ -3,28 +3,15 @@
 //! of degree ≤ 2L + 1 exactly, so analysis inverts synthesis for band-limited fields
 //! (common practice; CONVENTIONS.md §4).
 
-use kugel::coeffs::{Coefficients, Normalization};
+use kugel::coeffs::Coefficients;
 use kugel::sht::grid::{Grid, GridKind};
 use kugel::sht::reference;
 use kugel::sht::{GaussGrid, KernelPath, TransformPlan};
 
-/// Deterministic pseudo-random coefficients in [−1, 1) (a small LCG; no test depends on the
-/// particular values).
-pub fn sample(lmax: usize, seed: u64) -> Coefficients {
-    let mut state = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
-    let mut next = move || {
-        state = state.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
-        ((state >> 11) as f64 / (1u64 << 53) as f64) * 2.0 - 1.0
-    };
-    let mut c = Coefficients::zeros(lmax, Normalization::Geodesy);
-    for l in 0..=lmax {
-        for m in 0..=l {
-            let (a, b) = (next(), next());
-            c.set(l, m, a, b);
-        }
-    }
-    c
+mod common {
+    include!("sht_common/sample.rs");
 }
+use common::sample;
 
 fn max_abs_diff(a: &Coefficients, b: &Coefficients) -> f64 {
     a.c_packed()
