@@ -20,7 +20,10 @@ fn degree_beyond_memory_is_refused_with_the_estimate() {
     let err = TransformPlan::new(lmax, &grid).err().expect("must refuse");
     assert!(matches!(err, Error::InsufficientMemory { .. }), "{err}");
     let msg = err.to_string();
-    assert!(msg.contains("degree 2000000000") && msg.contains("MiB"), "{msg}");
+    assert!(
+        msg.contains("degree 2000000000") && msg.contains("MiB"),
+        "{msg}"
+    );
 }
 
 #[test]
@@ -75,8 +78,11 @@ fn too_few_longitudes_and_bad_colatitudes_are_refused() {
     bad.colatitude_rad[1] = 4.0;
     let msg = TransformPlan::new(4, &bad).err().unwrap().to_string();
     assert!(msg.contains("row 1"), "{msg}");
-    let msg = evaluate_points(&Coefficients::zeros(2, Normalization::Geodesy), &[(0.5, 0.0), (-0.1, 0.0)])
-        .unwrap_err()
-        .to_string();
+    let msg = evaluate_points(
+        &Coefficients::zeros(2, Normalization::Geodesy),
+        &[(0.5, 0.0), (-0.1, 0.0)],
+    )
+    .unwrap_err()
+    .to_string();
     assert!(msg.contains("point 1"), "{msg}");
 }

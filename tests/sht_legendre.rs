@@ -24,7 +24,10 @@ fn polynomials_match_closed_forms_and_parity() {
         for k in 0..=20 {
             let x = -1.0 + 0.1 * k as f64;
             // 1e-14: a few ulp of the closed form's own rounding
-            assert!((legendre_polynomial(l, x) - f(x)).abs() < 1e-14, "P_{l}({x})");
+            assert!(
+                (legendre_polynomial(l, x) - f(x)).abs() < 1e-14,
+                "P_{l}({x})"
+            );
             // parity P_l(−x) = (−1)^l P_l(x) (common practice)
             let sign = if l % 2 == 0 { 1.0 } else { -1.0 };
             assert!((legendre_polynomial(l, -x) - sign * legendre_polynomial(l, x)).abs() < 1e-14);
@@ -103,7 +106,10 @@ fn derivatives_match_finite_differences_and_pole_limits() {
             let h = 1e-6;
             let fd = (geodesy_value(l, m, th + h) - geodesy_value(l, m, th - h)) / (2.0 * h);
             let d = associated_with_derivative(l, m, th, Normalization::Geodesy, false).d_theta;
-            assert!((d - fd).abs() < 1e-7 * fd.abs().max(1.0), "l={l} m={m} θ={th}: {d} vs {fd}");
+            assert!(
+                (d - fd).abs() < 1e-7 * fd.abs().max(1.0),
+                "l={l} m={m} θ={th}: {d} vs {fd}"
+            );
         }
     }
     // at the north pole dP̄_l1/dθ = sqrt((2l+1) l (l+1)/2) (from P_l^1 ≈ θ l(l+1)/2, any text)
@@ -121,15 +127,26 @@ fn orthogonality_by_gauss_legendre_every_normalisation() {
     // the degree-≤ 2·30 integrands; cross terms (l ≠ l') vanish. 1e-12 relative.
     let lmax = 30;
     let (x, w) = nodes_and_weights(40);
-    for &norm in &[Normalization::Geodesy, Normalization::Schmidt, Normalization::Orthonormal] {
+    for &norm in &[
+        Normalization::Geodesy,
+        Normalization::Schmidt,
+        Normalization::Orthonormal,
+    ] {
         for cs in [false, true] {
-            let tables: Vec<(Vec<f64>, Vec<f64>)> = x.iter().map(|xi| associated_all(lmax, xi.acos(), norm, cs)).collect();
+            let tables: Vec<(Vec<f64>, Vec<f64>)> = x
+                .iter()
+                .map(|xi| associated_all(lmax, xi.acos(), norm, cs))
+                .collect();
             for m in [0usize, 1, 7, 30] {
                 for l in m..=lmax {
                     for l2 in [l, (l + 1).min(lmax), (l + 2).min(lmax)] {
                         let i = kugel::coeffs::packed_index(l, m);
                         let i2 = kugel::coeffs::packed_index(l2, m);
-                        let s: f64 = tables.iter().zip(&w).map(|(t, wj)| wj * t.0[i] * t.0[i2]).sum();
+                        let s: f64 = tables
+                            .iter()
+                            .zip(&w)
+                            .map(|(t, wj)| wj * t.0[i] * t.0[i2])
+                            .sum();
                         let lon = if m == 0 { 2.0 * PI } else { PI };
                         let full = s * lon;
                         let expect = if l != l2 {
@@ -143,7 +160,10 @@ fn orthogonality_by_gauss_legendre_every_normalisation() {
                         };
                         // orthonormal: complex-Y_lm normalisation; the real form with
                         // sqrt(2) for m > 0 integrates to 1 as well (CONVENTIONS.md §2)
-                        assert!((full - expect).abs() < 1e-12 * expect.max(1.0), "{norm} l={l} l2={l2} m={m}: {full}");
+                        assert!(
+                            (full - expect).abs() < 1e-12 * expect.max(1.0),
+                            "{norm} l={l} l2={l2} m={m}: {full}"
+                        );
                     }
                 }
             }
@@ -161,7 +181,11 @@ fn mpmath_reference_values_at_high_degree_and_near_the_poles() {
     // measured 4e-11 at l = 1542, m = 0, θ = 1e-3), and the
     // same bound relative to the value where it is small (the monotone part near the poles,
     // where extended exponents keep full relative accuracy).
-    let text = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/tests/fixtures/sht/legendre_mpmath.txt")).unwrap();
+    let text = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/tests/fixtures/sht/legendre_mpmath.txt"
+    ))
+    .unwrap();
     let mut n = 0;
     let mut max_err: f64 = 0.0;
     for line in text.lines().filter(|l| !l.starts_with('#')) {
@@ -176,8 +200,15 @@ fn mpmath_reference_values_at_high_degree_and_near_the_poles() {
         // Known weakness (see the comment above): within 0.01 rad of a pole the low orders lose
         // accuracy about like l² ulp; the bound below is what was measured, not a goal.
         let lf = l as f64;
-        let tol = if theta.sin() < 0.01 { 1e-12_f64.max(3e-16 * lf * lf) } else { 1e-12_f64.max(5e-14 * lf) };
-        assert!(err < tol, "l={l} m={m} θ={theta}: {got:e} vs {expect:e} (rel {err:e})");
+        let tol = if theta.sin() < 0.01 {
+            1e-12_f64.max(3e-16 * lf * lf)
+        } else {
+            1e-12_f64.max(5e-14 * lf)
+        };
+        assert!(
+            err < tol,
+            "l={l} m={m} θ={theta}: {got:e} vs {expect:e} (rel {err:e})"
+        );
         n += 1;
     }
     assert!(n > 100, "fixture too small: {n}");

@@ -20,14 +20,29 @@ fn points_agree_with_grid_synthesis_values_and_gradients() {
     let f = plan.synthesise(&c).unwrap();
     let (dt, dl) = plan.synthesise_gradient(&c).unwrap();
     let scale = f.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-    let gscale = dt.iter().chain(dl.iter()).fold(0.0f64, |m, v| m.max(v.abs()));
+    let gscale = dt
+        .iter()
+        .chain(dl.iter())
+        .fold(0.0f64, |m, v| m.max(v.abs()));
     let picks = [(0, 0), (3, 17), (24, 50), (48, 96)];
-    let pts: Vec<(f64, f64)> = picks.iter().map(|&(j, k)| (grid.colatitude_rad[j], grid.longitude_rad(k))).collect();
+    let pts: Vec<(f64, f64)> = picks
+        .iter()
+        .map(|&(j, k)| (grid.colatitude_rad[j], grid.longitude_rad(k)))
+        .collect();
     let vals = evaluate_points(&c, &pts).unwrap();
     for (&(j, k), v) in picks.iter().zip(&vals) {
-        assert!((v.value - f[[j, k]]).abs() < 1e-11 * scale, "value at {j},{k}");
-        assert!((v.d_theta - dt[[j, k]]).abs() < 1e-11 * gscale, "dθ at {j},{k}");
-        assert!((v.d_lambda_over_sin - dl[[j, k]]).abs() < 1e-11 * gscale, "dλ at {j},{k}");
+        assert!(
+            (v.value - f[[j, k]]).abs() < 1e-11 * scale,
+            "value at {j},{k}"
+        );
+        assert!(
+            (v.d_theta - dt[[j, k]]).abs() < 1e-11 * gscale,
+            "dθ at {j},{k}"
+        );
+        assert!(
+            (v.d_lambda_over_sin - dl[[j, k]]).abs() < 1e-11 * gscale,
+            "dλ at {j},{k}"
+        );
     }
 }
 
@@ -52,10 +67,17 @@ fn other_normalisations_synthesise_the_same_field() {
     let c = sample(lmax, 9);
     let f = plan.synthesise(&c).unwrap();
     let scale = f.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-    for norm in [Normalization::Schmidt, Normalization::Orthonormal, Normalization::Unnormalized] {
+    for norm in [
+        Normalization::Schmidt,
+        Normalization::Orthonormal,
+        Normalization::Unnormalized,
+    ] {
         let other = c.converted(norm, true).unwrap();
         let g = plan.synthesise(&other).unwrap();
-        let d = f.iter().zip(&g).fold(0.0f64, |m, (a, b)| m.max((a - b).abs()));
+        let d = f
+            .iter()
+            .zip(&g)
+            .fold(0.0f64, |m, (a, b)| m.max((a - b).abs()));
         assert!(d < 1e-12 * scale, "{norm}: {d}");
     }
 }
@@ -69,12 +91,24 @@ fn order_and_ring_ranges_add_up_to_the_whole() {
     let plan = TransformPlan::new(lmax, &grid).unwrap();
     let c = sample(lmax, 2);
     let full = plan.synthesise(&c).unwrap();
-    let parts = plan.synthesise_orders(&c, 0..7).unwrap() + plan.synthesise_orders(&c, 7..31).unwrap();
-    let d = full.iter().zip(&parts).fold(0.0f64, |m, (a, b)| m.max((a - b).abs()));
-    assert!(d < 1e-13 * full.iter().fold(0.0f64, |m, v| m.max(v.abs())), "{d}");
+    let parts =
+        plan.synthesise_orders(&c, 0..7).unwrap() + plan.synthesise_orders(&c, 7..31).unwrap();
+    let d = full
+        .iter()
+        .zip(&parts)
+        .fold(0.0f64, |m, (a, b)| m.max((a - b).abs()));
+    assert!(
+        d < 1e-13 * full.iter().fold(0.0f64, |m, v| m.max(v.abs())),
+        "{d}"
+    );
     let whole = plan.analyse(&full).unwrap();
     let mut sum = plan.analyse_rings(&full, 0..5).unwrap();
-    sum.add_scaled(&plan.analyse_rings(&full, 5..31).unwrap(), 1.0).unwrap();
-    let e = whole.c_packed().iter().zip(sum.c_packed()).fold(0.0f64, |m, (a, b)| m.max((a - b).abs()));
+    sum.add_scaled(&plan.analyse_rings(&full, 5..31).unwrap(), 1.0)
+        .unwrap();
+    let e = whole
+        .c_packed()
+        .iter()
+        .zip(sum.c_packed())
+        .fold(0.0f64, |m, (a, b)| m.max((a - b).abs()));
     assert!(e < 1e-13, "{e}");
 }

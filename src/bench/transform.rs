@@ -46,7 +46,11 @@ pub fn random_coefficients(lmax: usize, seed: u64) -> Coefficients {
     for l in 0..=lmax {
         for m in 0..=l {
             let a: f64 = StandardNormal.sample(&mut rng);
-            let b: f64 = if m > 0 { StandardNormal.sample(&mut rng) } else { 0.0 };
+            let b: f64 = if m > 0 {
+                StandardNormal.sample(&mut rng)
+            } else {
+                0.0
+            };
             c.set(l, m, a, b);
         }
     }
@@ -65,7 +69,9 @@ pub fn run_transform_bench(args: &TransformBenchArgs) -> anyhow::Result<Transfor
     } else {
         args.threads
     };
-    let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build()?;
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build()?;
     pool.install(|| {
         let lmax = args.lmax;
         let say = |msg: String| {
@@ -146,12 +152,18 @@ pub fn print_result(r: &TransformBenchResult, json: bool) -> anyhow::Result<()> 
     if json {
         println!("{}", serde_json::to_string(r)?);
     } else {
-        println!("lmax {}  grid {} x {}  threads {}  kernels {}", r.lmax, r.nlat, r.nlon, r.threads, r.kernel);
+        println!(
+            "lmax {}  grid {} x {}  threads {}  kernels {}",
+            r.lmax, r.nlat, r.nlon, r.threads, r.kernel
+        );
         println!(
             "synthesis {:.3} s ({:.1} GFLOP/s equiv.)  analysis {:.3} s ({:.1} GFLOP/s equiv.)  (median of {})",
             r.synthesis_s, r.synthesis_gflops, r.analysis_s, r.analysis_gflops, r.repeat
         );
-        println!("round-trip relative error {:.2e}  peak RSS {:.0} MiB", r.roundtrip_rel_err, r.peak_rss_mb);
+        println!(
+            "round-trip relative error {:.2e}  peak RSS {:.0} MiB",
+            r.roundtrip_rel_err, r.peak_rss_mb
+        );
     }
     Ok(())
 }
@@ -166,7 +178,10 @@ mod tests {
         let b = random_coefficients(60, 42);
         assert_eq!(a, b);
         // sample mean and variance of ~3600 N(0,1) draws: within 5 standard errors
-        let v: Vec<f64> = a.iter().flat_map(|(_, m, c, s)| if m > 0 { vec![c, s] } else { vec![c] }).collect();
+        let v: Vec<f64> = a
+            .iter()
+            .flat_map(|(_, m, c, s)| if m > 0 { vec![c, s] } else { vec![c] })
+            .collect();
         let n = v.len() as f64;
         let mean = v.iter().sum::<f64>() / n;
         let var = v.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / n;
@@ -177,7 +192,15 @@ mod tests {
 
     #[test]
     fn small_bench_runs_and_reports_round_trip() {
-        let r = run_transform_bench(&TransformBenchArgs { lmax: 31, threads: 2, repeat: 1, json: true, seed: 1, quiet: true }).unwrap();
+        let r = run_transform_bench(&TransformBenchArgs {
+            lmax: 31,
+            threads: 2,
+            repeat: 1,
+            json: true,
+            seed: 1,
+            quiet: true,
+        })
+        .unwrap();
         assert_eq!((r.nlat, r.threads), (32, 2));
         assert!(r.roundtrip_rel_err < 1e-13, "{}", r.roundtrip_rel_err);
     }
