@@ -59,7 +59,13 @@ impl<const W: usize> SynthSums<W> {
 }
 
 #[inline(always)]
-fn inject<const W: usize>(events: &[Event], ev: &mut usize, l: usize, p0: &mut [f64; W], p1: &mut [f64; W]) {
+fn inject<const W: usize>(
+    events: &[Event],
+    ev: &mut usize,
+    l: usize,
+    p0: &mut [f64; W],
+    p1: &mut [f64; W],
+) {
     while *ev < events.len() && events[*ev].l == l {
         let e = events[*ev];
         p0[e.lane] = e.p_prev;
@@ -137,14 +143,18 @@ pub fn synth_block<const W: usize, const FMA: bool, const GRAD: bool>(
     let mut l = l_first;
     loop {
         inject(events, &mut ev, l, &mut p0, &mut p1);
-        accumulate_synth::<W, FMA, GRAD>(rc, l, c[l], s[l], x, &p0, &p1, &mut ac0, &mut as0, &mut dc0, &mut ds0);
+        accumulate_synth::<W, FMA, GRAD>(
+            rc, l, c[l], s[l], x, &p0, &p1, &mut ac0, &mut as0, &mut dc0, &mut ds0,
+        );
         if l == lmax {
             break;
         }
         advance::<W, FMA>(rc, l, x, &mut p0, &mut p1);
         l += 1;
         inject(events, &mut ev, l, &mut p0, &mut p1);
-        accumulate_synth::<W, FMA, GRAD>(rc, l, c[l], s[l], x, &p0, &p1, &mut ac1, &mut as1, &mut dc1, &mut ds1);
+        accumulate_synth::<W, FMA, GRAD>(
+            rc, l, c[l], s[l], x, &p0, &p1, &mut ac1, &mut as1, &mut dc1, &mut ds1,
+        );
         if l == lmax {
             break;
         }

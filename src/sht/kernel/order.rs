@@ -158,13 +158,42 @@ pub fn synth_order<const W: usize, const FMA: bool, const GRAD: bool>(
                 }
             } else {
                 let inv_u = 1.0 / lane.u;
-                let (de, do_, dse, dso) = (sums.dc[0][i], sums.dc[1][i], sums.ds[0][i], sums.ds[1][i]);
-                put_fourier(job, job.out0, lane.north, m, (de + do_) * inv_u, (dse + dso) * inv_u);
-                put_fourier(job, job.out1, lane.north, m, mf * (se + so) * inv_u, -mf * (ce + co) * inv_u);
+                let (de, do_, dse, dso) =
+                    (sums.dc[0][i], sums.dc[1][i], sums.ds[0][i], sums.ds[1][i]);
+                put_fourier(
+                    job,
+                    job.out0,
+                    lane.north,
+                    m,
+                    (de + do_) * inv_u,
+                    (dse + dso) * inv_u,
+                );
+                put_fourier(
+                    job,
+                    job.out1,
+                    lane.north,
+                    m,
+                    mf * (se + so) * inv_u,
+                    -mf * (ce + co) * inv_u,
+                );
                 if let Some(south) = lane.south {
                     // d/dθ of a mirrored function changes sign: P̄'(π−θ) = −(−1)^{l−m} P̄'(θ)
-                    put_fourier(job, job.out0, south, m, -(de - do_) * inv_u, -(dse - dso) * inv_u);
-                    put_fourier(job, job.out1, south, m, mf * (se - so) * inv_u, -mf * (ce - co) * inv_u);
+                    put_fourier(
+                        job,
+                        job.out0,
+                        south,
+                        m,
+                        -(de - do_) * inv_u,
+                        -(dse - dso) * inv_u,
+                    );
+                    put_fourier(
+                        job,
+                        job.out1,
+                        south,
+                        m,
+                        mf * (se - so) * inv_u,
+                        -mf * (ce - co) * inv_u,
+                    );
                 }
             }
         }
@@ -187,12 +216,20 @@ pub struct AnalysisJob<'a> {
 
 /// Analysis of order m over one chunk of rings; adds into the packed coefficients.
 #[inline(always)]
-pub fn analysis_order<const W: usize, const FMA: bool>(job: &AnalysisJob, m: usize, sc: &mut OrderScratch) {
+pub fn analysis_order<const W: usize, const FMA: bool>(
+    job: &AnalysisJob,
+    m: usize,
+    sc: &mut OrderScratch,
+) {
     let lmax = job.lmax;
     let stride = lmax + 1;
     sc.fill(m, lmax, false);
-    sc.acc_re[m * FOLD..(lmax + 1) * FOLD].iter_mut().for_each(|v| *v = 0.0);
-    sc.acc_im[m * FOLD..(lmax + 1) * FOLD].iter_mut().for_each(|v| *v = 0.0);
+    sc.acc_re[m * FOLD..(lmax + 1) * FOLD]
+        .iter_mut()
+        .for_each(|v| *v = 0.0);
+    sc.acc_im[m * FOLD..(lmax + 1) * FOLD]
+        .iter_mut()
+        .for_each(|v| *v = 0.0);
     let c_m = job.sectoral_factors[m];
     for (bi, block) in job.lanes.chunks(W).enumerate() {
         let x = block_events::<W>(m, lmax, c_m, block, sc);
@@ -222,7 +259,15 @@ pub fn analysis_order<const W: usize, const FMA: bool>(job: &AnalysisJob, m: usi
             b: &sc.b,
             f: &sc.f,
         };
-        analysis_block::<W, FMA>(&rc, &x, &sc.events, &hr, &hi, &mut sc.acc_re, &mut sc.acc_im);
+        analysis_block::<W, FMA>(
+            &rc,
+            &x,
+            &sc.events,
+            &hr,
+            &hi,
+            &mut sc.acc_re,
+            &mut sc.acc_im,
+        );
     }
     for l in m..=lmax {
         let re: f64 = sc.acc_re[l * FOLD..(l + 1) * FOLD].iter().sum();
