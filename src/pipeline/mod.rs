@@ -4,8 +4,10 @@
 pub mod checks;
 pub mod config;
 pub mod dag;
+pub mod demo;
 pub mod estimate;
 pub mod job;
+pub mod progress;
 pub mod schema;
 pub mod suggest;
 

@@ -4,5 +4,6 @@
 pub mod canvas;
 pub mod colormap;
 pub mod font;
+pub mod html;
 pub mod maps;
 pub mod ticks;
