@@ -1,6 +1,8 @@
 //! Quick-look pictures and the run report: PNG maps, SVG spectrum plots, HTML. Computes no
 //! science.
 
+pub mod plots;
+
 pub mod canvas;
 pub mod colormap;
 pub mod font;

@@ -1,0 +1,314 @@
+//! Comparison of two models degree by degree (CONVENTIONS.md §5). The first model is the
+//! reference A, the second the compared model B; both are made comparable first
+//! ([`super::comparable::make_comparable`]).
+//!
+//! - Cross power S^{AB}_l = Σ_m (C^A C^B + S^A S^B); degree correlation
+//!   r_l = S^{AB}/√(S^A S^B); admittance Z_l = S^{AB}/S^A (B regressed on A).
+//! - Correlation significance: under the null hypothesis of unrelated isotropic Gaussian
+//!   fields the 2l+1 coefficient pairs (zero mean, no mean removed) make r_l distributed as one
+//!   coordinate of a random unit vector in 2l+1 dimensions, i.e. t = r√ν/√(1−r²) is Student-t
+//!   with ν = 2l degrees of freedom (the classical result for a sample correlation, with one
+//!   more dof because no mean is estimated; Fisher 1915, Biometrika 10:507). The two-sided
+//!   threshold at level c is r_c = t_{(1+c)/2}/√(ν + t²_{(1+c)/2}).
+//! - Power ratio ρ_l = Ŝ^B/Ŝ^A with interval [ρ/F_{(1+c)/2}, ρ/F_{(1−c)/2}], F with
+//!   (2l+1, 2l+1) dof (two independent χ²(2l+1)/(2l+1) estimates; correlated models make it
+//!   conservative).
+//! - Difference degree variance D_l = Σ_m ((C^A − C^B)² + (S^A − S^B)²).
+//! - Agreement: the first degree l ≥ 1 with D_l > S^A_l is where the models stop agreeing;
+//!   "agree up to" is the degree before it (the whole common range when there is none).
+
+use super::comparable::make_comparable;
+use super::degree_power::{cross_sum, difference_sum_of_squares, sum_of_squares};
+use super::spectrum::{check_confidence, trim_number};
+use super::stats::{f_quantile, student_t_quantile};
+use super::table::SpectralTable;
+use super::units::{half_wavelength_km, squared_units};
+use crate::coeffs::Coefficients;
+use crate::error::Result;
+
+/// Options of [`Comparison::compute`].
+#[derive(Debug, Clone, PartialEq)]
+pub struct CompareOptions {
+    /// Confidence level for the correlation threshold and power-ratio interval (default 0.95).
+    pub confidence: f64,
+    /// Compare even when units differ or radii cannot be reconciled.
+    pub force: bool,
+}
+
+impl Default for CompareOptions {
+    fn default() -> Self {
+        CompareOptions {
+            confidence: 0.95,
+            force: false,
+        }
+    }
+}
+
+/// Degree-by-degree comparison of a reference model A and a model B (vectors indexed 0..=lmax).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Comparison {
+    pub lmax: usize,
+    pub reference_radius_m: f64,
+    pub units: String,
+    pub confidence: f64,
+    /// Names used in plots and summaries (set by the caller; default "A" and "B").
+    pub reference_label: String,
+    pub other_label: String,
+    pub reference_power: Vec<f64>,
+    pub other_power: Vec<f64>,
+    pub cross_power: Vec<f64>,
+    pub correlation: Vec<f64>,
+    pub correlation_threshold: Vec<f64>,
+    pub admittance: Vec<f64>,
+    pub power_ratio: Vec<f64>,
+    pub power_ratio_lower: Vec<f64>,
+    pub power_ratio_upper: Vec<f64>,
+    pub difference_degree_variance: Vec<f64>,
+    pub half_wavelength_km: Vec<f64>,
+    /// Last degree before the difference first exceeds the reference's power ("agree up to").
+    pub agreement_degree: Option<usize>,
+    pub agreement_half_wavelength_km: Option<f64>,
+    /// The first degree ≥ 1 where D_l > S^A_l, if any.
+    pub first_disagreement_degree: Option<usize>,
+    /// What was done to make the models comparable.
+    pub notes: Vec<String>,
+}
+
+/// Two-sided critical degree correlation at level `confidence` for degree l (NaN for l = 0).
+pub fn correlation_threshold(degree: usize, confidence: f64) -> Result<f64> {
+    if degree == 0 {
+        return Ok(f64::NAN);
+    }
+    let nu = (2 * degree) as f64;
+    let t = student_t_quantile(0.5 * (1.0 + confidence), nu)?;
+    Ok(t / (nu + t * t).sqrt())
+}
+
+fn ratio_or_nan(num: f64, den: f64) -> f64 {
+    if den != 0.0 {
+        num / den
+    } else {
+        f64::NAN
+    }
+}
+
+/// Degree at which models stop agreeing: (agree up to, first disagreement).
+pub fn agreement_degree(
+    reference_power: &[f64],
+    difference: &[f64],
+) -> (Option<usize>, Option<usize>) {
+    let lmax = reference_power.len().saturating_sub(1);
+    match (1..=lmax).find(|&l| difference[l] > reference_power[l]) {
+        Some(first) => ((first >= 2).then_some(first - 1), Some(first)),
+        None if lmax >= 1 => (Some(lmax), None),
+        None => (None, None),
+    }
+}
+
+impl Comparison {
+    /// Compares `reference` (A) and `other` (B) after making them comparable.
+    pub fn compute(
+        reference: &Coefficients,
+        other: &Coefficients,
+        options: &CompareOptions,
+    ) -> Result<Comparison> {
+        check_confidence(options.confidence)?;
+        reference.check_finite()?;
+        other.check_finite()?;
+        let pair = make_comparable(reference, other, options.force)?;
+        let lmax = pair.lmax;
+        let sa = sum_of_squares(&pair.reference);
+        let sb = sum_of_squares(&pair.other);
+        let sab = cross_sum(&pair.reference, &pair.other, lmax);
+        let diff = difference_sum_of_squares(&pair.reference, &pair.other, lmax);
+        let c = options.confidence;
+        let mut threshold = Vec::with_capacity(lmax + 1);
+        let (mut lower, mut upper) = (Vec::with_capacity(lmax + 1), Vec::with_capacity(lmax + 1));
+        let mut ratio = Vec::with_capacity(lmax + 1);
+        for l in 0..=lmax {
+            threshold.push(correlation_threshold(l, c)?);
+            let nu = (2 * l + 1) as f64;
+            let rho = ratio_or_nan(sb[l], sa[l]);
+            ratio.push(rho);
+            lower.push(rho / f_quantile(0.5 * (1.0 + c), nu, nu)?);
+            upper.push(rho / f_quantile(0.5 * (1.0 - c), nu, nu)?);
+        }
+        let correlation = (0..=lmax)
+            .map(|l| ratio_or_nan(sab[l], (sa[l] * sb[l]).sqrt()))
+            .collect();
+        let admittance = (0..=lmax).map(|l| ratio_or_nan(sab[l], sa[l])).collect();
+        let radius = pair.reference.reference_radius_m;
+        let (agree, first) = agreement_degree(&sa, &diff);
+        Ok(Comparison {
+            lmax,
+            reference_radius_m: radius,
+            units: pair.reference.units.clone(),
+            confidence: c,
+            reference_label: "A".into(),
+            other_label: "B".into(),
+            reference_power: sa,
+            other_power: sb,
+            cross_power: sab,
+            correlation,
+            correlation_threshold: threshold,
+            admittance,
+            power_ratio: ratio,
+            power_ratio_lower: lower,
+            power_ratio_upper: upper,
+            difference_degree_variance: diff,
+            half_wavelength_km: (0..=lmax).map(|l| half_wavelength_km(l, radius)).collect(),
+            agreement_degree: agree,
+            agreement_half_wavelength_km: agree.map(|l| half_wavelength_km(l, radius)),
+            first_disagreement_degree: first,
+            notes: pair.notes,
+        })
+    }
+
+    /// All per-degree quantities as named columns with units, first `degree`.
+    pub fn to_table(&self) -> SpectralTable {
+        let sq = squared_units(&self.units);
+        let pct = format!("{}%", trim_number(self.confidence * 100.0));
+        let mut t = SpectralTable::with_degrees(self.lmax);
+        t.push(
+            "reference_degree_variance",
+            &sq,
+            &format!(
+                "degree variance of the reference model {}",
+                self.reference_label
+            ),
+            self.reference_power.clone(),
+        );
+        t.push(
+            "compared_degree_variance",
+            &sq,
+            &format!("degree variance of the compared model {}", self.other_label),
+            self.other_power.clone(),
+        );
+        t.push(
+            "cross_power",
+            &sq,
+            "cross power: sum over m of (C_A C_B + S_A S_B)",
+            self.cross_power.clone(),
+        );
+        t.push(
+            "correlation",
+            "1",
+            "degree correlation S_AB / sqrt(S_A S_B)",
+            self.correlation.clone(),
+        );
+        t.push("correlation_threshold", "1", &format!("two-sided {pct} significance threshold of the degree correlation (Student t, 2l dof)"), self.correlation_threshold.clone());
+        t.push(
+            "admittance",
+            "1",
+            "admittance S_AB / S_A (compared model regressed on the reference)",
+            self.admittance.clone(),
+        );
+        t.push(
+            "power_ratio",
+            "1",
+            "power ratio S_B / S_A",
+            self.power_ratio.clone(),
+        );
+        t.push(
+            "power_ratio_lower",
+            "1",
+            &format!("lower end of the {pct} interval of the power ratio (F with 2l+1, 2l+1 dof)"),
+            self.power_ratio_lower.clone(),
+        );
+        t.push(
+            "power_ratio_upper",
+            "1",
+            &format!("upper end of the {pct} interval of the power ratio (F with 2l+1, 2l+1 dof)"),
+            self.power_ratio_upper.clone(),
+        );
+        t.push(
+            "difference_degree_variance",
+            &sq,
+            "degree variance of the difference A - B",
+            self.difference_degree_variance.clone(),
+        );
+        t.push(
+            "half_wavelength_km",
+            "km",
+            "half-wavelength pi R / l on the reference sphere",
+            self.half_wavelength_km.clone(),
+        );
+        t.number_attribute("confidence_level", self.confidence);
+        t.attribute("reference_model", &self.reference_label);
+        t.attribute("compared_model", &self.other_label);
+        t.number_attribute("reference_radius_m", self.reference_radius_m);
+        t.attribute("coefficient_units", &self.units);
+        t.attribute(
+            "agreement_degree",
+            self.agreement_degree
+                .map(|l| l.to_string())
+                .unwrap_or_else(|| "none".into()),
+        );
+        if let Some(km) = self.agreement_half_wavelength_km {
+            t.attribute("agreement_half_wavelength_km", trim_number(km));
+        }
+        if !self.notes.is_empty() {
+            t.attribute("comparability_notes", self.notes.join("; "));
+        }
+        t
+    }
+
+    /// A few lines for people: agreement degree, correlation, notes.
+    pub fn summary(&self) -> String {
+        let mut out = String::new();
+        for n in &self.notes {
+            out += &format!("note: {n}\n");
+        }
+        out += &format!(
+            "compared degrees 0-{} of {} (reference) and {}\n",
+            self.lmax, self.reference_label, self.other_label
+        );
+        match (self.agreement_degree, self.first_disagreement_degree) {
+            (Some(l), None) => out += &format!(
+                "agree up to degree {l} (half-wavelength {:.0} km): difference power stays below the reference's power over the whole common range\n",
+                self.half_wavelength_km[l]
+            ),
+            (Some(l), Some(first)) => out += &format!(
+                "agree up to degree {l} (half-wavelength {:.0} km); from degree {first} the difference power exceeds the reference's power\n",
+                self.half_wavelength_km[l]
+            ),
+            (None, Some(first)) => out += &format!("no agreement: difference power exceeds the reference's power already at degree {first}\n"),
+            (None, None) => out += "too few degrees to judge agreement\n",
+        }
+        let significant = (1..=self.lmax)
+            .filter(|&l| self.correlation[l] > self.correlation_threshold[l])
+            .count();
+        out += &format!(
+            "degree correlation above the {}% significance threshold at {significant} of {} degrees\n",
+            trim_number(self.confidence * 100.0),
+            self.lmax
+        );
+        out
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn agreement_rule() {
+        // D exceeds S^A first at degree 4 → agree up to 3
+        let sa = [1.0, 1.0, 1.0, 1.0, 1.0, 1.0];
+        let d = [5.0, 0.1, 0.2, 0.9, 1.5, 0.5];
+        assert_eq!(agreement_degree(&sa, &d), (Some(3), Some(4)));
+        assert_eq!(agreement_degree(&sa, &[0.0; 6]), (Some(5), None));
+        assert_eq!(
+            agreement_degree(&sa, &[0.0, 2.0, 0.0, 0.0, 0.0, 0.0]),
+            (None, Some(1))
+        );
+    }
+
+    #[test]
+    fn threshold_matches_closed_form_for_one_degree() {
+        // l = 1: three pairs, r is a coordinate of a uniform unit vector in R³, which is uniform
+        // on [−1, 1] (Archimedes' hat-box theorem), so the two-sided 95% threshold is 0.95.
+        let r = correlation_threshold(1, 0.95).unwrap();
+        assert!((r - 0.95).abs() < 1e-12, "{r}");
+    }
+}
