@@ -6,6 +6,7 @@ pub mod bench;
 pub mod compare;
 pub mod convert;
 pub mod evaluate;
+pub mod field_options;
 pub mod filter;
 pub mod fit;
 pub mod grid;

@@ -1,43 +1,47 @@
-//! `kugel synthesize`: a coefficient model's values on a Gauss or regular grid, written as
-//! CF-1.8 NetCDF-4.
+//! `kugel synthesize MODEL -o MAP.nc --quantity Q[,Q…]`: quantities of a coefficient model on
+//! a global grid, one CF NetCDF variable per quantity.
 
 use std::path::PathBuf;
 
-use anyhow::Context;
-
+use super::field_options::{self, FieldOptions};
 use super::CommandContext;
-use crate::io::atomic::refuse_overwrite_of_input;
+use crate::error::Error;
+use crate::field::synthesis::synthesize_on_grid_with_progress;
+use crate::field::{cautions, Quantity, SynthesisRequest, TargetSurface};
 use crate::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention};
-use crate::io::model_file::read_model;
 use crate::io::provenance::Provenance;
-use crate::sht::equiangular::regular_grid_by_step;
-use crate::sht::{GaussGrid, Grid, TransformPlan};
+use crate::sht::{GaussGrid, Grid};
 
 #[derive(Debug, clap::Args)]
 pub struct Args {
     /// Coefficient model (NetCDF or text table).
     pub model: PathBuf,
-    /// Output grid (NetCDF-4).
-    #[arg(short = 'o', long, value_name = "MAP")]
+    /// Output NetCDF grid (written atomically; never the input).
+    #[arg(long, short = 'o')]
     pub output: PathBuf,
-    /// Truncate (or zero-pad) the model to this degree (default: the model's).
-    #[arg(long, value_name = "L")]
-    pub lmax: Option<usize>,
     /// Grid: `gauss` (Gauss–Legendre for the band limit) or `regular:STEP_DEG`
     /// (node-registered, both poles included; `regular:1` is 181 x 360).
-    #[arg(long, value_name = "gauss|regular:STEP", default_value = "gauss")]
+    #[arg(long, value_name = "KIND", default_value = "gauss")]
     pub grid: String,
-    /// Store values as float32 instead of float64.
+    /// Height above the model's reference sphere, km (negative = downward continuation).
+    #[arg(long, value_name = "H", allow_negative_numbers = true)]
+    pub altitude_km: Option<f64>,
+    /// Radius of the sphere to compute on, km (instead of --altitude-km).
+    #[arg(long, value_name = "R")]
+    pub radius_km: Option<f64>,
+    /// Store the data variables as 32-bit floats.
     #[arg(long)]
     pub float32: bool,
     /// Longitude range of the file: 0-360 or -180-180.
     #[arg(
         long,
-        value_name = "0-360|-180-180",
+        value_name = "RANGE",
         default_value = "0-360",
         allow_hyphen_values = true
     )]
     pub lon_range: String,
+    #[command(flatten)]
+    pub field: FieldOptions,
 }
 
 /// Parses `gauss` or `regular:STEP_DEG` into an engine grid for band limit `lmax`.
@@ -48,52 +52,119 @@ pub fn parse_grid_spec(spec: &str, lmax: usize) -> crate::Result<Grid> {
     }
     if let Some(step) = spec.strip_prefix("regular:") {
         let step: f64 = step.trim().parse().map_err(|_| {
-            crate::Error::invalid(format!("--grid {spec}: '{step}' is not a step in degrees"))
+            Error::invalid(format!("--grid {spec}: '{step}' is not a step in degrees"))
         })?;
-        return regular_grid_by_step(step);
+        return crate::sht::equiangular::regular_grid_by_step(step);
     }
-    Err(crate::Error::invalid(format!(
+    Err(Error::invalid(format!(
         "--grid '{spec}': expected gauss or regular:STEP_DEG (e.g. regular:1)"
     )))
 }
 
 pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
-    refuse_overwrite_of_input(&args.output, &[&args.model])?;
-    let lon_convention: LonConvention = args.lon_range.parse().context("--lon-range")?;
-    let model = read_model(&args.model)?;
-    let lmax = args.lmax.unwrap_or(model.lmax());
-    let grid = parse_grid_spec(&args.grid, lmax)?;
-    let (nlat, nlon) = grid.shape();
-    crate::memory::check_fits("the synthesised grid", (nlat * nlon * 8 * 4) as u64)?;
-    if !ctx.quiet {
-        eprintln!("synthesising degree {lmax} on a {nlat} x {nlon} grid");
+    crate::io::atomic::refuse_overwrite_of_input(&args.output, &[&args.model])?;
+    let parsed = args.field.parse()?;
+    let surface = field_options::target_surface(args.altitude_km, args.radius_km)?;
+    let lon_convention: LonConvention = args.lon_range.parse()?;
+    let model = field_options::read_model_truncated(&args.model, args.field.lmax)?;
+    let grid = parse_grid_spec(&args.grid, model.lmax())?;
+    if let Some(w) = field_options::total_potential_warning(&model, &parsed) {
+        eprintln!("{w}");
     }
-    let plan = TransformPlan::new(lmax, &grid)?;
-    let values = plan.synthesise(&model)?;
-    let mut file = GridFile::from_engine_grid(&grid, format!("field of {}", args.model.display()));
-    file.push(
-        "value",
-        "value of the spherical-harmonic expansion",
-        &model.units,
-        None,
-        values,
-    );
-    file.attributes.push((
-        "kugel_reference_radius_m".into(),
-        format!("{:e}", model.reference_radius_m),
-    ));
-    let mut prov = Provenance::from_command_line(&ctx.command_line);
-    prov.add_input(&args.model)?;
-    prov.lmax = Some(lmax);
-    prov.normalization = Some(model.normalization.name().to_string());
-    let opts = GridWriteOptions {
-        float32: args.float32,
-        lon_convention,
-        provenance: &prov,
+    let request = SynthesisRequest {
+        quantities: parsed.quantities.clone(),
+        surface,
+        normal_field: parsed.normal_field.clone(),
+        filter: parsed.filter.as_ref(),
+        continuation: parsed.continuation,
     };
-    write_grid(&args.output, &file, &opts)?;
+
+    let bar = field_options::progress_bar(0, "synthesising", ctx.quiet);
+    let fields = synthesize_on_grid_with_progress(&model, &grid, &request, &mut |done, total| {
+        bar.set_length(total as u64);
+        bar.set_position(done as u64);
+    })?;
+    bar.finish_and_clear();
+
+    let radius_m = surface.radius_m(model.reference_radius_m);
+    let removed = parsed.normal_field.ellipsoid().is_some();
+    let mut file = GridFile::from_engine_grid(&grid, title(&request.quantities, &surface));
+    for (q, data) in fields {
+        let units = q
+            .units()
+            .map_or_else(|| model.units.clone(), str::to_string);
+        file.push(
+            &q.variable_name(),
+            q.long_name(),
+            &units,
+            q.standard_name_given(removed),
+            data,
+        );
+    }
+    let caution: Vec<&str> = request
+        .quantities
+        .iter()
+        .filter_map(|q| cautions::caution_for(*q))
+        .collect();
+    if !caution.is_empty() {
+        file.attributes.push(("caution".into(), caution.join(" ")));
+        file.attributes.push(("comment".into(), caution.join(" ")));
+    }
+    file.attributes.extend([
+        ("kugel_radius_m".to_string(), format!("{radius_m}")),
+        (
+            "kugel_altitude_m".to_string(),
+            format!("{}", radius_m - model.reference_radius_m),
+        ),
+        (
+            "kugel_reference_radius_m".to_string(),
+            format!("{}", model.reference_radius_m),
+        ),
+    ]);
+    if let Some(gm) = model.gm_m3_s2 {
+        file.attributes
+            .push(("kugel_model_gm_m3_s2".into(), format!("{gm:e}")));
+    }
+
+    let mut provenance = Provenance::from_command_line(ctx.command_line.clone());
+    provenance.add_input(&args.model)?;
+    provenance.lmax = Some(model.lmax());
+    provenance.normalization = Some(model.normalization.to_string());
+    provenance.filter = parsed.filter.as_ref().map(|f| f.describe());
+    provenance.extra = field_options::describe(&parsed);
+    write_grid(
+        &args.output,
+        &file,
+        &GridWriteOptions {
+            float32: args.float32,
+            lon_convention,
+            provenance: &provenance,
+        },
+    )?;
+    field_options::print_cautions(&request.quantities);
     if !ctx.quiet {
-        eprintln!("wrote {}", args.output.display());
+        let (nlat, nlon) = grid.shape();
+        eprintln!(
+            "wrote {} on a {nlat} x {nlon} grid at radius {:.3} km to {}",
+            request
+                .quantities
+                .iter()
+                .map(|q| q.name())
+                .collect::<Vec<_>>()
+                .join(", "),
+            radius_m / 1e3,
+            args.output.display()
+        );
     }
     Ok(())
+}
+
+fn title(quantities: &[Quantity], surface: &TargetSurface) -> String {
+    let names: Vec<&str> = quantities.iter().map(|q| q.name()).collect();
+    let place = match surface {
+        TargetSurface::ReferenceSphere => "on the reference sphere".to_string(),
+        TargetSurface::Altitude { altitude_m } => format!("at {} km altitude", altitude_m / 1e3),
+        TargetSurface::Radius { radius_m } => format!("at radius {} km", radius_m / 1e3),
+    };
+    format!("kugel synthesis: {} {place}", names.join(", "))
 }

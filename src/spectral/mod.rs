@@ -15,3 +15,7 @@ pub use compare::{CompareOptions, Comparison};
 pub use power_law::PowerLawFit;
 pub use spectrum::{degree_variance, Spectrum, SpectrumOptions};
 pub use table::{SpectralColumn, SpectralTable};
+
+// Degree-domain filters and radial continuation (helper G).
+pub mod continuation;
+pub mod filter;

@@ -1,0 +1,386 @@
+//! The whole chain from a coefficient model to physical quantities on a grid or at points:
+//! check the quantities against the model's kind, convert to `geodesy`, remove the normal
+//! field, apply degree weights (filters), then per quantity scale a copy of the coefficients by
+//! its k_l ([`super::degree_factors`]) and synthesise once.
+
+use std::collections::BTreeMap;
+
+use ndarray::{Array2, Zip};
+
+use crate::coeffs::Coefficients;
+use crate::error::{Error, Result};
+use crate::sht::{evaluate_points, Grid, TransformPlan};
+
+use crate::spectral::continuation::{radial_factors, ContinuationOptions};
+use crate::spectral::filter::FilterChain;
+
+use super::degree_factors::{
+    magnetic_horizontal_factors, magnetic_radial_factors, scalar_factors, PotentialScale,
+};
+use super::magnetic::FieldVector;
+use super::model_kind::ModelKind;
+use super::normal_field::NormalField;
+use super::quantity::{Quantity, QuantityFamily};
+
+/// The sphere on which grid quantities are computed.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub enum TargetSurface {
+    /// r = R, the model's reference radius.
+    #[default]
+    ReferenceSphere,
+    /// r = R + h.
+    Altitude { altitude_m: f64 },
+    /// r given directly.
+    Radius { radius_m: f64 },
+}
+
+impl TargetSurface {
+    pub fn radius_m(&self, reference_radius_m: f64) -> f64 {
+        match *self {
+            TargetSurface::ReferenceSphere => reference_radius_m,
+            TargetSurface::Altitude { altitude_m } => reference_radius_m + altitude_m,
+            TargetSurface::Radius { radius_m } => radius_m,
+        }
+    }
+}
+
+/// A point in geocentric spherical coordinates, with the tilt of its local frame.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct GeocentricPoint {
+    pub radius_m: f64,
+    pub colatitude_rad: f64,
+    pub longitude_rad: f64,
+    /// Geodetic minus geocentric latitude, radians: magnetic X, Z (and H, D, I) are reported
+    /// in the local frame of the geodetic normal when the point was given on an ellipsoid;
+    /// 0 for points given on a sphere.
+    pub tilt_rad: f64,
+}
+
+impl GeocentricPoint {
+    /// A point from geocentric latitude and longitude in degrees at a radius.
+    pub fn from_degrees(lat_deg: f64, lon_deg: f64, radius_m: f64) -> GeocentricPoint {
+        GeocentricPoint {
+            radius_m,
+            colatitude_rad: (90.0 - lat_deg).to_radians(),
+            longitude_rad: lon_deg.to_radians(),
+            tilt_rad: 0.0,
+        }
+    }
+
+    /// A point from geodetic latitude, longitude (degrees) and ellipsoidal height (m).
+    pub fn from_geodetic(
+        ellipsoid: &super::Ellipsoid,
+        lat_deg: f64,
+        lon_deg: f64,
+        height_m: f64,
+    ) -> GeocentricPoint {
+        let g =
+            ellipsoid.geodetic_to_geocentric(lat_deg.to_radians(), lon_deg.to_radians(), height_m);
+        let geocentric_lat = std::f64::consts::FRAC_PI_2 - g.colatitude_rad;
+        GeocentricPoint {
+            radius_m: g.radius_m,
+            colatitude_rad: g.colatitude_rad,
+            longitude_rad: g.longitude_rad,
+            tilt_rad: lat_deg.to_radians() - geocentric_lat,
+        }
+    }
+}
+
+/// What to compute.
+#[derive(Debug, Clone)]
+pub struct SynthesisRequest<'a> {
+    pub quantities: Vec<Quantity>,
+    /// Where grid quantities are computed (points carry their own radius).
+    pub surface: TargetSurface,
+    pub normal_field: NormalField,
+    /// Degree-domain filter applied (with the model's reference radius) after the normal
+    /// field is removed and before the quantity factors.
+    pub filter: Option<&'a FilterChain>,
+    /// Cap and regularisation for downward continuation (r < R).
+    pub continuation: ContinuationOptions,
+}
+
+impl<'a> SynthesisRequest<'a> {
+    /// The quantities on the reference sphere, no normal field, no filter.
+    pub fn new(quantities: Vec<Quantity>) -> SynthesisRequest<'a> {
+        SynthesisRequest {
+            quantities,
+            surface: TargetSurface::ReferenceSphere,
+            normal_field: NormalField::None,
+            filter: None,
+            continuation: ContinuationOptions::default(),
+        }
+    }
+}
+
+/// The model after checks, conversion, normal-field removal and filtering.
+struct Prepared {
+    coeffs: Coefficients,
+    scale: Option<PotentialScale>,
+}
+
+fn prepare(model: &Coefficients, request: &SynthesisRequest) -> Result<Prepared> {
+    if request.quantities.is_empty() {
+        return Err(Error::invalid("no quantity requested"));
+    }
+    let kind = ModelKind::of(model);
+    for &q in &request.quantities {
+        kind.check_supports(model, q)?;
+    }
+    if request.normal_field != NormalField::None && kind != ModelKind::GravityPotential {
+        return Err(Error::invalid(format!(
+            "--normal-field applies to gravity potential models with GM only; this model is {}",
+            match kind {
+                ModelKind::Magnetic => "magnetic",
+                _ => "a generic field without GM",
+            }
+        )));
+    }
+    if !(model.reference_radius_m.is_finite() && model.reference_radius_m > 0.0) {
+        return Err(Error::invalid(format!(
+            "the model's reference_radius_m must be positive, got {}",
+            model.reference_radius_m
+        )));
+    }
+    let mut coeffs = model.to_geodesy()?;
+    coeffs.check_finite()?;
+    request.normal_field.remove_from(&mut coeffs)?;
+    if let Some(chain) = request.filter {
+        chain.apply(&mut coeffs)?;
+    }
+    let scale = match (kind, model.gm_m3_s2) {
+        (ModelKind::GravityPotential, Some(gm)) => Some(PotentialScale {
+            reference_radius_m: model.reference_radius_m,
+            gm_m3_s2: gm,
+        }),
+        _ => None,
+    };
+    Ok(Prepared { coeffs, scale })
+}
+
+/// A copy of `coeffs` with degree l scaled by `k[l]`.
+fn scaled(coeffs: &Coefficients, k: &[f64]) -> Coefficients {
+    let mut out = coeffs.clone();
+    out.clear_sigmas();
+    out.scale_by_degree(|l| k[l]);
+    out
+}
+
+/// Whether B_r is needed; with a tilted local frame X, H and D mix in Z as well.
+fn needs_radial(qs: &[Quantity], tilted: bool) -> bool {
+    use Quantity::*;
+    qs.iter().any(|q| {
+        matches!(q, Br | Z | F | Inclination) || (tilted && matches!(q, X | H | Declination))
+    })
+}
+
+/// Whether B_θ, B_λ are needed; with a tilted local frame Z mixes in X as well.
+fn needs_horizontal(qs: &[Quantity], tilted: bool) -> bool {
+    use Quantity::*;
+    qs.iter().any(|q| {
+        matches!(
+            q,
+            Btheta | Blambda | X | Y | H | F | Declination | Inclination
+        ) || (tilted && *q == Z)
+    })
+}
+
+/// Synthesises every requested quantity on `grid` (rows north to south), in request order.
+///
+/// The values are the model's at the grid nodes whatever the grid's spacing: when the grid has
+/// fewer than 2·lmax + 1 longitudes (a coarse map of a high-degree model), the synthesis runs on
+/// a grid with an integer multiple of its longitudes and keeps every stride-th column, so no
+/// degree is dropped and nothing aliases.
+pub fn synthesize_on_grid(
+    model: &Coefficients,
+    grid: &Grid,
+    request: &SynthesisRequest,
+) -> Result<Vec<(Quantity, Array2<f64>)>> {
+    synthesize_on_grid_with_progress(model, grid, request, &mut |_, _| {})
+}
+
+/// As [`synthesize_on_grid`], calling `progress(done, total)` after each synthesis.
+pub fn synthesize_on_grid_with_progress(
+    model: &Coefficients,
+    grid: &Grid,
+    request: &SynthesisRequest,
+    progress: &mut dyn FnMut(usize, usize),
+) -> Result<Vec<(Quantity, Array2<f64>)>> {
+    let (dense, stride) = longitude_densified(grid, model.lmax());
+    let plan = TransformPlan::new(model.lmax(), &dense)?;
+    let out = synthesize_with_plan(model, &plan, request, progress)?;
+    if stride == 1 {
+        return Ok(out);
+    }
+    Ok(out
+        .into_iter()
+        .map(|(q, f)| (q, f.slice(ndarray::s![.., ..;stride]).to_owned()))
+        .collect())
+}
+
+/// `grid` itself when it resolves `lmax` in longitude, else a copy with `stride` times as many
+/// longitudes (same first longitude and rings), stride ≥ 1 the smallest that does.
+pub fn longitude_densified(grid: &Grid, lmax: usize) -> (Grid, usize) {
+    let needed = 2 * lmax + 1;
+    if grid.nlon >= needed {
+        return (grid.clone(), 1);
+    }
+    let stride = needed.div_ceil(grid.nlon.max(1));
+    let mut dense = grid.clone();
+    dense.nlon = grid.nlon * stride;
+    (dense, stride)
+}
+
+/// As [`synthesize_on_grid`] with a prebuilt plan (reused across calls); `progress(done,
+/// total)` is called after each synthesis.
+pub fn synthesize_with_plan(
+    model: &Coefficients,
+    plan: &TransformPlan,
+    request: &SynthesisRequest,
+    progress: &mut dyn FnMut(usize, usize),
+) -> Result<Vec<(Quantity, Array2<f64>)>> {
+    let (nlat, nlon) = plan.grid().shape();
+    let qs = &request.quantities;
+    let magnetic = qs.iter().any(|q| q.family() == QuantityFamily::Magnetic);
+    let arrays = qs.len() + if magnetic { 3 } else { 1 };
+    crate::memory::check_fits(
+        &format!("{} grid(s) of {nlat} x {nlon}", arrays),
+        (arrays * nlat * nlon * 8) as u64,
+    )?;
+    let prepared = prepare(model, request)?;
+    let lmax = prepared.coeffs.lmax();
+    let r_ref = model.reference_radius_m;
+    let r = request.surface.radius_m(r_ref);
+    let s = r_ref / r;
+    let c = radial_factors(lmax, r_ref, r, &request.continuation)?;
+    let total = qs
+        .iter()
+        .filter(|q| q.family() != QuantityFamily::Magnetic)
+        .count()
+        + usize::from(magnetic && needs_radial(qs, false))
+        + usize::from(magnetic && needs_horizontal(qs, false));
+    let mut done = 0;
+    let mut out = Vec::with_capacity(qs.len());
+    let mut vector: Option<(Array2<f64>, Array2<f64>, Array2<f64>)> = None;
+    for &q in qs {
+        if let Some(k) = scalar_factors(q, prepared.scale, s, &c) {
+            out.push((q, plan.synthesise(&scaled(&prepared.coeffs, &k))?));
+            done += 1;
+            progress(done, total);
+            continue;
+        }
+        if vector.is_none() {
+            let zero = || Array2::<f64>::zeros((nlat, nlon));
+            let br = if needs_radial(qs, false) {
+                let k = magnetic_radial_factors(s, &c);
+                let f = plan.synthesise(&scaled(&prepared.coeffs, &k))?;
+                done += 1;
+                progress(done, total);
+                f
+            } else {
+                zero()
+            };
+            let (bt, bl) = if needs_horizontal(qs, false) {
+                let k = magnetic_horizontal_factors(s, &c);
+                let (dt, dl) = plan.synthesise_gradient(&scaled(&prepared.coeffs, &k))?;
+                done += 1;
+                progress(done, total);
+                (dt.mapv(|v| -v), dl.mapv(|v| -v))
+            } else {
+                (zero(), zero())
+            };
+            vector = Some((br, bt, bl));
+        }
+        let (br, bt, bl) = vector.as_ref().expect("set above");
+        let mut field = Array2::<f64>::zeros((nlat, nlon));
+        Zip::from(&mut field)
+            .and(br)
+            .and(bt)
+            .and(bl)
+            .for_each(|o, &br, &btheta, &blambda| {
+                let v = FieldVector {
+                    br,
+                    btheta,
+                    blambda,
+                };
+                *o = v.component(q, 0.0).unwrap_or(f64::NAN);
+            });
+        out.push((q, field));
+    }
+    Ok(out)
+}
+
+/// Evaluates every requested quantity at `points` (each at its own radius; `request.surface`
+/// is not used). Returns one vector per quantity, in request order, each with one value per
+/// point.
+pub fn evaluate_at_points(
+    model: &Coefficients,
+    points: &[GeocentricPoint],
+    request: &SynthesisRequest,
+) -> Result<Vec<Vec<f64>>> {
+    let prepared = prepare(model, request)?;
+    let qs = &request.quantities;
+    let lmax = prepared.coeffs.lmax();
+    let r_ref = model.reference_radius_m;
+    let mut out = vec![vec![f64::NAN; points.len()]; qs.len()];
+    // Points at the same radius share one set of scaled coefficients.
+    let mut by_radius: BTreeMap<u64, Vec<usize>> = BTreeMap::new();
+    for (i, p) in points.iter().enumerate() {
+        if !(p.radius_m.is_finite() && p.colatitude_rad.is_finite() && p.longitude_rad.is_finite())
+        {
+            return Err(Error::invalid(format!(
+                "point {} has non-finite coordinates",
+                i + 1
+            )));
+        }
+        by_radius.entry(p.radius_m.to_bits()).or_default().push(i);
+    }
+    for (bits, idx) in by_radius {
+        let r = f64::from_bits(bits);
+        let s = r_ref / r;
+        let c = radial_factors(lmax, r_ref, r, &request.continuation)?;
+        let angles: Vec<(f64, f64)> = idx
+            .iter()
+            .map(|&i| (points[i].colatitude_rad, points[i].longitude_rad))
+            .collect();
+        let tilted = idx.iter().any(|&i| points[i].tilt_rad != 0.0);
+        let mut vectors: Option<Vec<FieldVector>> = None;
+        for (qi, &q) in qs.iter().enumerate() {
+            if let Some(k) = scalar_factors(q, prepared.scale, s, &c) {
+                let values = evaluate_points(&scaled(&prepared.coeffs, &k), &angles)?;
+                for (&i, v) in idx.iter().zip(values) {
+                    out[qi][i] = v.value;
+                }
+                continue;
+            }
+            if vectors.is_none() {
+                let mut vs = vec![FieldVector::default(); idx.len()];
+                if needs_radial(qs, tilted) {
+                    let k = magnetic_radial_factors(s, &c);
+                    for (v, p) in vs
+                        .iter_mut()
+                        .zip(evaluate_points(&scaled(&prepared.coeffs, &k), &angles)?)
+                    {
+                        v.br = p.value;
+                    }
+                }
+                if needs_horizontal(qs, tilted) {
+                    let k = magnetic_horizontal_factors(s, &c);
+                    for (v, p) in vs
+                        .iter_mut()
+                        .zip(evaluate_points(&scaled(&prepared.coeffs, &k), &angles)?)
+                    {
+                        v.btheta = -p.d_theta;
+                        v.blambda = -p.d_lambda_over_sin;
+                    }
+                }
+                vectors = Some(vs);
+            }
+            let vs = vectors.as_ref().expect("set above");
+            for (&i, v) in idx.iter().zip(vs) {
+                out[qi][i] = v.component(q, points[i].tilt_rad).unwrap_or(f64::NAN);
+            }
+        }
+    }
+    Ok(out)
+}
