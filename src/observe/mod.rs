@@ -16,3 +16,10 @@ pub use degree_choice::default_lmax;
 pub use gaps::GapPolicy;
 pub use gridding::{grid_points, GriddedField, GriddingMethod, GriddingOptions};
 pub use points::{read_points, BadRowPolicy, PointReadOptions, PointReadReport, PointSet};
+pub mod lsq;
+pub mod lsq_design;
+pub mod lsq_gcv;
+pub mod lsq_normal;
+pub mod lsq_solve;
+
+pub use lsq::{fit, FitOptions, FitResult, Regularization};
