@@ -1,6 +1,7 @@
 //! Spherical-harmonic transforms: Legendre functions, quadrature, grid types, transform plans
 //! and their kernels. Knows nothing about files, physics or configuration.
 
+pub mod equiangular;
 pub mod gauss_legendre;
 pub mod grid;
 pub mod legendre;
