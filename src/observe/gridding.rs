@@ -44,7 +44,7 @@ impl GriddingMethod {
     pub fn describe(&self) -> String {
         match self {
             GriddingMethod::Kernel { radius_km } => format!(
-                "Gaussian-kernel mean within {radius_km} km (half-width {} km, weight 1/2 there; 1/16 at the edge)",
+                "Gaussian-kernel mean within {radius_km:.1} km (half-width {:.1} km, weight 1/2 there; ~1/16 at the edge)",
                 radius_km / super::kernel::RADIUS_PER_HALF_WIDTH
             ),
             GriddingMethod::Nearest { k } => {

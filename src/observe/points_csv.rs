@@ -1,5 +1,5 @@
 //! CSV point files: a header row naming the columns, one observation per line, `#` comments
-//! and blank lines allowed, comma separated.
+//! and blank lines allowed, comma separated (parsed by `io::csv_table`).
 
 use std::path::Path;
 
@@ -8,37 +8,10 @@ use crate::error::{Error, Result};
 use super::points::PointReadOptions;
 use super::validate::RawRecord;
 
-/// Reads the records of a CSV point file (unvalidated).
+/// Reads the records of a CSV point file (unvalidated), through `io::csv_table`.
 pub fn read_csv_records(path: &Path, options: &PointReadOptions) -> Result<Vec<RawRecord>> {
-    let (headers, rows, lines) = read_table(path)?;
-    records_from_table(path, &headers, &rows, &lines, options)
-}
-
-/// Splits the file into a header and data rows with their 1-based line numbers.
-fn read_table(path: &Path) -> Result<(Vec<String>, Vec<Vec<String>>, Vec<usize>)> {
-    let text = std::fs::read_to_string(path).map_err(|e| Error::io(path, e))?;
-    let mut headers: Option<Vec<String>> = None;
-    let mut rows = Vec::new();
-    let mut lines = Vec::new();
-    for (i, line) in text.lines().enumerate() {
-        let trimmed = line.trim();
-        if trimmed.is_empty() || trimmed.starts_with('#') {
-            continue;
-        }
-        let fields: Vec<String> = trimmed
-            .split(',')
-            .map(|f| f.trim().trim_matches('"').trim().to_string())
-            .collect();
-        if headers.is_none() {
-            headers = Some(fields);
-        } else {
-            rows.push(fields);
-            lines.push(i + 1);
-        }
-    }
-    let headers = headers
-        .ok_or_else(|| Error::format(path, "the file is empty: expected a header row such as `lat,lon,value`"))?;
-    Ok((headers, rows, lines))
+    let table = crate::io::csv_table::read_csv_table(path)?;
+    records_from_table(path, &table.headers, &table.rows, &table.line_numbers, options)
 }
 
 /// Finds a column by case-insensitive name.
