@@ -6,7 +6,10 @@
 //!   in Gerchberg 1974, Optica Acta 21:709; Papoulis 1975, IEEE Trans. Circuits Syst. 22:735):
 //!   start from the mean, then repeat analyse to L → synthesise → replace only the gap nodes,
 //!   until the largest change at a gap node, relative to the RMS of the data nodes, is below
-//!   `tol` or `max_iter` is reached. Data nodes are never altered.
+//!   `tol` or `max_iter` is reached. Data nodes are never altered. The result is the
+//!   band-limited completion nearest the starting fill; it equals the true field only when
+//!   the data nodes determine every degree-L coefficient (per order m, enough data latitudes
+//!   for the L − m + 1 unknowns), which large polar gaps at the grid's full degree do not.
 
 use ndarray::Array2;
 
