@@ -134,8 +134,8 @@ fn refusals_are_clear_and_leave_no_file() {
         output.to_str().unwrap(),
         "--altitude-km",
         "-1000",
-        "--tikhonov",
-        "1e-4",
+        "--downward",
+        "tikhonov:1e-4",
     ]);
     assert!(
         out.status.success(),

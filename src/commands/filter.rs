@@ -49,13 +49,10 @@ pub struct Args {
     #[arg(long, value_name = "R")]
     pub radius_km: Option<f64>,
 
-    /// Regularise downward continuation by Tikhonov: k_l = u_l/(u_l² + ALPHA), u_l = (r/R)^(l+1).
-    #[arg(long, value_name = "ALPHA", conflicts_with = "cutoff_degree")]
-    pub tikhonov: Option<f64>,
-
-    /// Regularise downward continuation by dropping every degree above this one.
-    #[arg(long, value_name = "L")]
-    pub cutoff_degree: Option<usize>,
+    /// Stabilise downward continuation (below the reference sphere): tikhonov:ALPHA
+    /// (k_l = u_l/(u_l² + ALPHA), u_l = (r/R)^(l+1)) or cutoff:L (drop degrees above L).
+    #[arg(long, value_name = "METHOD")]
+    pub downward: Option<String>,
 
     /// Also write the per-degree weights (combined, each filter, continuation factor) to this
     /// file: NetCDF for .nc, CSV otherwise.
@@ -165,11 +162,11 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
 
 /// Target radius and options from the command line, or None when no continuation is asked.
 fn continuation_request(args: &Args) -> anyhow::Result<Option<(Target, ContinuationOptions)>> {
-    let regularization = match (args.tikhonov, args.cutoff_degree) {
-        (Some(alpha), _) => Some(DownwardRegularization::Tikhonov { alpha }),
-        (None, Some(lmax)) => Some(DownwardRegularization::Cutoff { lmax }),
-        (None, None) => None,
-    };
+    let regularization = args
+        .downward
+        .as_deref()
+        .map(str::parse::<DownwardRegularization>)
+        .transpose()?;
     if !(args.max_amplification.is_finite() && args.max_amplification >= 1.0) {
         return Err(Error::invalid(format!(
             "--max-amplification must be a finite number ≥ 1, got {}",
@@ -185,7 +182,7 @@ fn continuation_request(args: &Args) -> anyhow::Result<Option<(Target, Continuat
         (None, None) => {
             if regularization.is_some() {
                 return Err(Error::invalid(
-                    "--tikhonov and --cutoff-degree regularise a continuation: give --altitude-km or --radius-km too",
+                    "--downward regularises a continuation: give --altitude-km or --radius-km too",
                 )
                 .into());
             }

@@ -35,10 +35,38 @@ pub enum DownwardRegularization {
 }
 
 impl DownwardRegularization {
+    /// The spec form, `tikhonov:ALPHA` or `cutoff:L`, that [`str::parse`] reads back.
     pub fn describe(&self) -> String {
         match self {
-            DownwardRegularization::Tikhonov { alpha } => format!("tikhonov(alpha={alpha:e})"),
-            DownwardRegularization::Cutoff { lmax } => format!("cutoff(lmax={lmax})"),
+            DownwardRegularization::Tikhonov { alpha } => format!("tikhonov:{alpha:e}"),
+            DownwardRegularization::Cutoff { lmax } => format!("cutoff:{lmax}"),
+        }
+    }
+}
+
+impl std::str::FromStr for DownwardRegularization {
+    type Err = Error;
+
+    /// Parses `tikhonov:ALPHA` (ALPHA > 0) or `cutoff:L` (a degree).
+    fn from_str(spec: &str) -> Result<Self> {
+        let bad = || {
+            Error::invalid(format!(
+                "downward regularisation '{spec}': expected tikhonov:ALPHA (ALPHA > 0) or cutoff:L (a degree)"
+            ))
+        };
+        let (method, value) = spec.trim().split_once(':').ok_or_else(bad)?;
+        match method.trim().to_ascii_lowercase().as_str() {
+            "tikhonov" => {
+                let alpha: f64 = value.trim().parse().map_err(|_| bad())?;
+                if !(alpha.is_finite() && alpha > 0.0) {
+                    return Err(bad());
+                }
+                Ok(DownwardRegularization::Tikhonov { alpha })
+            }
+            "cutoff" => Ok(DownwardRegularization::Cutoff {
+                lmax: value.trim().parse().map_err(|_| bad())?,
+            }),
+            _ => Err(bad()),
         }
     }
 }
@@ -241,6 +269,27 @@ mod tests {
         let k = radial_factors(100, 2.0, 1.0, &opts).unwrap();
         assert_eq!(k[40], 2f64.powi(41));
         assert!(k[41..].iter().all(|&v| v == 0.0));
+    }
+
+    #[test]
+    fn regularisation_specs_round_trip() {
+        for text in ["tikhonov:1e-6", "cutoff:120"] {
+            let r: DownwardRegularization = text.parse().unwrap();
+            assert_eq!(r.describe().parse::<DownwardRegularization>().unwrap(), r);
+        }
+        assert_eq!(
+            "Tikhonov: 2.5e-3"
+                .parse::<DownwardRegularization>()
+                .unwrap(),
+            DownwardRegularization::Tikhonov { alpha: 2.5e-3 }
+        );
+        for bad in ["tikhonov:0", "tikhonov:-1", "cutoff:x", "lasso:3", "3"] {
+            let msg = bad
+                .parse::<DownwardRegularization>()
+                .unwrap_err()
+                .to_string();
+            assert!(msg.contains(bad) && msg.contains("tikhonov:ALPHA"), "{msg}");
+        }
     }
 
     #[test]

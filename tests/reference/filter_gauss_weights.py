@@ -19,8 +19,10 @@ CASES = [
     (150.0, 2000.0),
     (500.0, 2000.0),
     (50.0, 1737.4),
+    (5.0, 6371.0),   # narrow kernels: b ~ 2e6 and 6e7, far above the degrees checked
+    (1.0, 6371.0),
 ]
-DEGREES = [0, 1, 2, 3, 5, 10, 30, 60, 100, 200, 400, 700, 1000, 1500, 2000, 3000]
+DEGREES = [0, 1, 2, 3, 5, 10, 30, 60, 100, 200, 400, 700, 1000, 1500, 2000, 3000, 5000, 10800]
 
 print(f"# Gaussian filter weights W_l = I_(l+1/2)(b)/I_(1/2)(b); mpmath {mpmath.__version__}, mp.dps = {mpmath.mp.dps}")
 print("half_width_km,radius_km,b,degree,weight")

@@ -26,12 +26,17 @@
 
 use crate::error::{Error, Result};
 
-/// Extra backward steps beyond max(lmax, b): from there on ρ_k < 0.42, and 64 steps damp the
-/// error of the arbitrary start ρ = 0 by (0.42²)^64 ≈ 1e-48.
-const MILLER_MARGIN: usize = 64;
+/// Where the backward recurrence starts. Uniform asymptotics give ρ_k ≈ b/(k + √(k² + b²)),
+/// i.e. ln ρ_k ≈ −asinh(k/b) (DLMF §10.41), so an error in the start value reaches degree lmax
+/// damped by Π ρ_k² ≈ exp(−(N² − lmax²)/b) when N ≤ b, and faster beyond. Starting at
+/// N = √(lmax² + 80 b) + 64 damps the arbitrary start ρ_{N+1} = 0 by ~e^{−80} ≈ 1e-35; the
+/// extra 64 steps cover small b, where ρ_k < 1/2 for k > b and each step damps by ≥ 4.
+fn start_degree(lmax: usize, b: f64) -> f64 {
+    ((lmax as f64).powi(2) + 80.0 * b).sqrt().ceil() + 64.0
+}
 
-/// Backward steps allowed before refusing (b grows like 2(R/r)² for small half-widths).
-const MAX_STEPS: f64 = 2.0e9;
+/// Backward steps allowed before refusing (the start grows like √(80 b) ≈ 12.6 R/r).
+const MAX_STEPS: f64 = 1.0e8;
 
 /// Gaussian smoothing of a given half-width (the distance at which the kernel falls to half).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -81,12 +86,14 @@ pub fn kernel_parameter(half_width_m: f64, radius_m: f64) -> Result<f64> {
 /// Values below the double-precision range come out as (subnormal or) zero.
 pub fn gauss_weights(lmax: usize, half_width_m: f64, radius_m: f64) -> Result<Vec<f64>> {
     let b = kernel_parameter(half_width_m, radius_m)?;
-    let start = (lmax as f64).max(b.ceil()) + MILLER_MARGIN as f64;
+    let start = start_degree(lmax, b);
     if start > MAX_STEPS {
+        // W_l ≈ exp(−l(l+1)/(2b)) for l ≪ b: say how little such a kernel would change
+        let change = (lmax * (lmax + 1)) as f64 / (2.0 * b);
         return Err(Error::invalid(format!(
-            "gauss half-width {:.4} km is too small for a sphere of radius {:.1} km \
-             (kernel parameter b = {b:.3e} would need {start:.2e} recurrence steps); \
-             a kernel this narrow does not smooth below degree {lmax}: leave it out",
+            "gauss half-width {:.4} km is too narrow for a sphere of radius {:.1} km \
+             (kernel parameter b = {b:.3e}): its weights differ from 1 by only about \
+             {change:.1e} up to degree {lmax}; leave the filter out",
             half_width_m / 1e3,
             radius_m / 1e3
         )));
@@ -180,10 +187,30 @@ mod tests {
     }
 
     #[test]
+    fn result_does_not_depend_on_the_start_of_the_backward_pass() {
+        // Miller's algorithm: starting much higher must not change the weights
+        for (r_km, lmax) in [(100.0, 2000), (1.0, 3000), (2000.0, 500), (30.0, 10)] {
+            let b = kernel_parameter(r_km * 1e3, EARTH_M).unwrap();
+            let n = start_degree(lmax, b) as usize;
+            let a = ratios_backward(lmax, b, n);
+            let far = ratios_backward(lmax, b, 4 * n + 1000);
+            for l in 1..=lmax {
+                assert!((a[l] / far[l] - 1.0).abs() < 1e-15, "r={r_km} l={l}");
+            }
+        }
+    }
+
+    #[test]
     fn rejects_bad_half_widths() {
         assert!(GaussFilter::new(0.0).is_err());
         assert!(GaussFilter::new(f64::NAN).is_err());
         let msg = gauss_weights(10, 3.0e7, EARTH_M).unwrap_err().to_string();
         assert!(msg.contains("half the circumference"), "{msg}");
+        // 0.5 m on the Earth: b = 2.25e14, weights within 3e-7 of 1 up to degree 10 800
+        let msg = gauss_weights(10_800, 0.5, EARTH_M).unwrap_err().to_string();
+        assert!(
+            msg.contains("too narrow") && msg.contains("2.6e-7"),
+            "{msg}"
+        );
     }
 }
