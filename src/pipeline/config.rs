@@ -145,6 +145,10 @@ pub struct StepSpec {
     /// compare: the models are different quantities (e.g. gravity and topography, for
     /// admittance); compared as given instead of refused for differing units.
     pub cross_quantity: Option<bool>,
+    /// compare: leave degrees below this out (set to zero in both copies); e.g. 2 for
+    /// disturbing potentials, whose degrees 0 and 1 vanish by definition but are estimated
+    /// as noise by a fit.
+    pub from_degree: Option<usize>,
     /// spectrum, compare: confidence level of the intervals (default 0.95).
     pub confidence: Option<f64>,
     /// spectrum: degree range [lmin, lmax] of the power-law fit.

@@ -10,4 +10,5 @@ pub mod surveys;
 pub mod write;
 
 pub use scenario::{Scenario, Truth};
-pub use write::{write_demo, DemoReport};
+pub use surveys::SurveyDesign;
+pub use write::{write_demo, write_demo_with, DemoReport};

@@ -42,7 +42,17 @@ fn provenance(scenario: &Scenario) -> Provenance {
 
 /// Generates the scenario and writes it to `out`. `step` is told the name of each stage as it
 /// starts (for progress display).
-pub fn write_demo(out: &Path, scenario: &Scenario, mut step: impl FnMut(&str)) -> Result<DemoReport> {
+pub fn write_demo(out: &Path, scenario: &Scenario, step: impl FnMut(&str)) -> Result<DemoReport> {
+    write_demo_with(out, scenario, &[SurveyDesign::wickline(), SurveyDesign::halyard()], step)
+}
+
+/// As [`write_demo`] with other survey designs (smaller data sets for tests).
+pub fn write_demo_with(
+    out: &Path,
+    scenario: &Scenario,
+    designs: &[SurveyDesign],
+    mut step: impl FnMut(&str),
+) -> Result<DemoReport> {
     std::fs::create_dir_all(out).map_err(|e| Error::io(out, e))?;
     let prov = provenance(scenario);
     let mut report = DemoReport::default();
@@ -68,9 +78,9 @@ pub fn write_demo(out: &Path, scenario: &Scenario, mut step: impl FnMut(&str)) -
     write_grid(&path, &file, &options)?;
     report.files.push(sized(path)?);
 
-    for design in [SurveyDesign::wickline(), SurveyDesign::halyard()] {
+    for design in designs {
         step(&format!("sampling the {} survey ({} sites)", design.name, design.points));
-        let survey = sample(&design, scenario, &truth.gravity)?;
+        let survey = sample(design, scenario, &truth.gravity)?;
         let rows: Vec<Vec<String>> = (0..survey.lat_deg.len())
             .map(|i| {
                 vec![

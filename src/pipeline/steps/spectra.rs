@@ -57,7 +57,13 @@ pub fn spectrum(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcom
 
 pub fn compare(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
     let names = step.models.clone().unwrap_or_default();
-    let (a, b) = (env.model(names.first())?, env.model(names.get(1))?);
+    let (mut a, mut b) = (env.model(names.first())?.clone(), env.model(names.get(1))?.clone());
+    if let Some(l0) = step.from_degree {
+        for m in [&mut a, &mut b] {
+            m.scale_by_degree(|l| if l < l0 { 0.0 } else { 1.0 });
+        }
+    }
+    let (a, b) = (&a, &b);
     let options = CompareOptions { confidence: step.confidence.unwrap_or(0.95), force: step.cross_quantity.unwrap_or(false) };
     let mut cmp = Comparison::compute(a, b, &options)?;
     cmp.reference_label = names[0].clone();
@@ -72,7 +78,13 @@ pub fn compare(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome
         (Some(l), None) => format!("degree {l}"),
         _ => "none".into(),
     };
-    out.numbers.push(("agree up to".into(), agreement));
+    if step.cross_quantity == Some(true) {
+        // different quantities never "agree"; their relation is the correlation and admittance
+        let l = cmp.lmax.min(20);
+        out.numbers.push((format!("admittance at degree {l}"), format!("{:.4e} {}", cmp.admittance[l], "(table column admittance)")));
+    } else {
+        out.numbers.push(("agree up to".into(), agreement));
+    }
     let mean_r = mean_correlation(&cmp);
     out.numbers.push(("mean correlation (l ≥ 2)".into(), format!("{mean_r:.3}")));
     out.product = Some(Product::Comparison(Box::new(cmp)));
