@@ -1,23 +1,27 @@
-//! Checks of names whose vocabulary belongs to other modules: quantities and filter specs.
-//! Kept in one place so that the config check and the run agree.
+//! Checks of values whose vocabulary belongs to other modules (quantities, filters, fit
+//! regularisations, gap policies): the config check calls the same parsers the run uses, so
+//! the two cannot disagree.
 
-/// Quantities a synthesis or evaluation may ask for.
-pub const QUANTITIES: &[&str] = &[
-    "value", "potential", "geoid", "gravity-disturbance", "gravity-anomaly", "radial-gradient",
-    "br", "btheta", "blambda", "x", "y", "z", "h", "f", "declination", "inclination",
-];
+use std::path::Path;
+
+use crate::field::quantity::Quantity;
+use crate::observe::gaps::GapPolicy;
+use crate::observe::lsq::Regularization;
+use crate::spectral::filter::FilterChain;
 
 pub fn check_quantity(q: &str) -> Result<(), String> {
-    if QUANTITIES.contains(&q) {
-        Ok(())
-    } else {
-        Err(format!("unknown quantity '{q}'{}", super::suggest::hint(q, QUANTITIES)))
-    }
+    q.parse::<Quantity>().map(|_| ()).map_err(|e| e.to_string())
 }
 
-pub fn check_filter(spec: &str) -> Result<(), String> {
-    if spec.trim().is_empty() {
-        return Err("empty filter spec".into());
-    }
-    Ok(())
+/// Filter specs may name spectrum files (Wiener filters), relative to the config's folder.
+pub fn check_filter(spec: &str, base: &Path) -> Result<(), String> {
+    FilterChain::parse_relative_to(spec, base).map(|_| ()).map_err(|e| e.to_string())
+}
+
+pub fn check_regularization(spec: &str) -> Result<(), String> {
+    Regularization::parse(spec).map(|_| ()).map_err(|e| e.to_string())
+}
+
+pub fn check_gaps(spec: &str) -> Result<(), String> {
+    GapPolicy::parse(spec).map(|_| ()).map_err(|e| e.to_string())
 }

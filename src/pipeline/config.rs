@@ -129,14 +129,9 @@ pub struct StepSpec {
     pub neighbours: Option<usize>,
     /// grid: how empty cells are filled — "nearest" (default), "mean" or "iterative".
     pub gaps: Option<String>,
-    /// fit: "none", "damping", "kaula" or "gcv" (default).
+    /// fit: "none", "damping:λ", "kaula:A,p", "kaula:A,p:gcv" or "gcv" (default), as in
+    /// `kugel fit --regularization`.
     pub regularization: Option<String>,
-    /// fit, damping: the damping factor λ.
-    pub lambda: Option<f64>,
-    /// fit, kaula: per-coefficient RMS amplitude A of A·l^−p.
-    pub kaula_amplitude: Option<f64>,
-    /// fit, kaula: exponent p of A·l^−p.
-    pub kaula_exponent: Option<f64>,
     /// filter, synthesize: filter spec such as "gauss:300" (several joined by '+').
     pub filter: Option<String>,
     /// synthesize: quantities to map, e.g. ["gravity-anomaly", "geoid"].
@@ -147,6 +142,13 @@ pub struct StepSpec {
     pub altitude_m: Option<f64>,
     /// synthesize: band limit of the output Gauss grid (default: the model's lmax).
     pub grid_lmax: Option<usize>,
+    /// compare: the models are different quantities (e.g. gravity and topography, for
+    /// admittance); compared as given instead of refused for differing units.
+    pub cross_quantity: Option<bool>,
+    /// compare: leave degrees below this out (set to zero in both copies); e.g. 2 for
+    /// disturbing potentials, whose degrees 0 and 1 vanish by definition but are estimated
+    /// as noise by a fit.
+    pub from_degree: Option<usize>,
     /// spectrum, compare: confidence level of the intervals (default 0.95).
     pub confidence: Option<f64>,
     /// spectrum: degree range [lmin, lmax] of the power-law fit.

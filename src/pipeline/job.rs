@@ -92,7 +92,7 @@ impl Job {
             deps.insert(name.clone(), step_uses(step));
         }
         for (name, step) in &config.steps {
-            check_step(name, step, &kinds, &mut problems);
+            check_step(name, step, &kinds, &base_dir, &mut problems);
         }
         let levels = match dag::levels(&deps) {
             Ok(l) => l,
@@ -253,10 +253,8 @@ fn check_input(name: &str, input: &InputSpec, base: &Path, problems: &mut Vec<St
     check_choice(&format!("inputs.{name}.quantity"), input.quantity.as_deref(), &["value", "potential"], problems);
 }
 
-/// Accepted `method`, `gaps` and `regularization` values.
+/// Accepted gridding `method` values.
 pub const GRID_METHODS: &[&str] = &["kernel", "nearest"];
-pub const GAP_POLICIES: &[&str] = &["nearest", "mean", "iterative"];
-pub const REGULARIZATIONS: &[&str] = &["none", "damping", "kaula", "gcv"];
 
 fn check_choice(path: &str, given: Option<&str>, known: &[&str], problems: &mut Vec<String>) {
     if let Some(g) = given {
@@ -266,7 +264,13 @@ fn check_choice(path: &str, given: Option<&str>, known: &[&str], problems: &mut 
     }
 }
 
-fn check_step(name: &str, step: &StepSpec, kinds: &BTreeMap<String, ProductKind>, problems: &mut Vec<String>) {
+fn check_step(
+    name: &str,
+    step: &StepSpec,
+    kinds: &BTreeMap<String, ProductKind>,
+    base: &Path,
+    problems: &mut Vec<String>,
+) {
     let at = |key: &str| format!("steps.{name}.{key}");
     let mut need = |key: &str, value: Option<&String>, want: &[ProductKind]| match value {
         None => problems.push(format!("{}: missing; this {} step needs it", at(key), step.kind)),
@@ -324,23 +328,19 @@ fn check_step(name: &str, step: &StepSpec, kinds: &BTreeMap<String, ProductKind>
         }
     }
     check_choice(&at("method"), step.method.as_deref(), GRID_METHODS, problems);
-    check_choice(&at("gaps"), step.gaps.as_deref(), GAP_POLICIES, problems);
-    check_choice(&at("regularization"), step.regularization.as_deref(), REGULARIZATIONS, problems);
-    match step.regularization.as_deref() {
-        Some("damping") if step.lambda.is_none() => {
-            problems.push(format!("{}: missing; damping needs the factor λ", at("lambda")))
+    if let Some(g) = &step.gaps {
+        if let Err(e) = super::checks::check_gaps(g) {
+            problems.push(format!("{}: {e}", at("gaps")));
         }
-        Some("kaula") if step.kaula_amplitude.is_none() || step.kaula_exponent.is_none() => problems.push(format!(
-            "{}: kaula regularization needs kaula_amplitude and kaula_exponent",
-            at("regularization")
-        )),
-        _ => {}
     }
-    for (key, v) in [("radius_km", step.radius_km), ("lambda", step.lambda), ("kaula_amplitude", step.kaula_amplitude)] {
-        if let Some(v) = v {
-            if !(v.is_finite() && v > 0.0) {
-                problems.push(format!("{}: must be positive, not {v}", at(key)));
-            }
+    if let Some(r) = &step.regularization {
+        if let Err(e) = super::checks::check_regularization(r) {
+            problems.push(format!("{}: {e}", at("regularization")));
+        }
+    }
+    if let Some(v) = step.radius_km {
+        if !(v.is_finite() && v > 0.0) {
+            problems.push(format!("{}: must be a positive number of km, not {v}", at("radius_km")));
         }
     }
     if let Some(c) = step.confidence {
@@ -370,7 +370,7 @@ fn check_step(name: &str, step: &StepSpec, kinds: &BTreeMap<String, ProductKind>
         problems.push(format!("{}: missing; give a filter such as \"gauss:300\"", at("filter")));
     }
     if let Some(f) = &step.filter {
-        if let Err(e) = super::checks::check_filter(f) {
+        if let Err(e) = super::checks::check_filter(f, base) {
             problems.push(format!("{}: {e}", at("filter")));
         }
     }

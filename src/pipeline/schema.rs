@@ -27,11 +27,11 @@ pub const STEP_KINDS: &[(&str, &[&str])] = &[
     ("grid", &["kind", "input", "lmax", "method", "radius_km", "neighbours", "gaps"]),
     (
         "fit",
-        &["kind", "input", "lmax", "regularization", "lambda", "kaula_amplitude", "kaula_exponent"],
+        &["kind", "input", "lmax", "regularization"],
     ),
     ("analyse", &["kind", "input", "lmax"]),
     ("spectrum", &["kind", "model", "confidence", "fit_range"]),
-    ("compare", &["kind", "models", "confidence"]),
+    ("compare", &["kind", "models", "confidence", "cross_quantity", "from_degree"]),
     ("filter", &["kind", "model", "filter"]),
     ("synthesize", &["kind", "model", "quantities", "altitude_m", "filter", "grid_lmax"]),
     ("evaluate", &["kind", "model", "points", "quantity", "altitude_m"]),
@@ -188,9 +188,9 @@ mod tests {
                 "kind" => "kind = \"fit\"".to_string(),
                 "models" | "quantities" => format!("{key} = [\"a\", \"b\"]"),
                 "fit_range" => "fit_range = [2, 10]".into(),
-                "lmax" | "neighbours" | "grid_lmax" => format!("{key} = 3"),
-                "radius_km" | "lambda" | "kaula_amplitude" | "kaula_exponent" | "altitude_m"
-                | "confidence" => format!("{key} = 1.0"),
+                "lmax" | "neighbours" | "grid_lmax" | "from_degree" => format!("{key} = 3"),
+                "cross_quantity" => format!("{key} = true"),
+                "radius_km" | "altitude_m" | "confidence" => format!("{key} = 1.0"),
                 _ => format!("{key} = \"x\""),
             };
             let extra = if key == "kind" { String::new() } else { "kind = \"fit\"\n".into() };

@@ -80,8 +80,12 @@ pub fn render_points_png(lat_deg: &[f64], lon_deg: &[f64], value: &[f64], style:
 
 fn frame_with_title(style: &MapStyle) -> Canvas {
     let mut canvas = Canvas::new(LEFT + MAP_W + RIGHT, TOP + MAP_H + BOTTOM, WHITE);
-    canvas.text_centred(LEFT + MAP_W / 2, 8, &style.title, 3, BLACK);
-    canvas.text_centred(LEFT + MAP_W / 2, 36, &style.degree_range, 1, BLACK);
+    // the largest text size at which the title fits the map's width
+    let scale = (1..=3).rev().find(|s| super::font::text_width(&style.title) * s <= MAP_W).unwrap_or(1);
+    canvas.text_centred(LEFT + MAP_W / 2, 8 + (3 - scale) * 4, &style.title, scale, BLACK);
+    let max_chars = (LEFT + MAP_W + RIGHT) / (super::font::GLYPH_W + 1);
+    let sub: String = style.degree_range.chars().take(max_chars).collect();
+    canvas.text_centred((LEFT + MAP_W + RIGHT) / 2, 36, &sub, 1, BLACK);
     canvas
 }
 

@@ -4,7 +4,7 @@
 pub mod canvas;
 pub mod colormap;
 pub mod font;
+pub mod html;
 pub mod maps;
-pub mod ticks;
-
 pub mod plots;
+pub mod ticks;

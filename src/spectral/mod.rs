@@ -1,11 +1,7 @@
 //! Degree-domain analysis: spectra, cross-spectra and their statistics, filters and
 //! continuation. Works on coefficient sets only; never touches grids.
 
-// Degree-domain filters and radial continuation (helper G).
-pub mod continuation;
-pub mod filter;
-
-// Spectra, comparisons and statistics (helper C).
+// Spectra, comparisons and statistics.
 pub mod comparable;
 pub mod compare;
 pub mod degree_power;
@@ -19,3 +15,7 @@ pub use compare::{CompareOptions, Comparison};
 pub use power_law::PowerLawFit;
 pub use spectrum::{degree_variance, Spectrum, SpectrumOptions};
 pub use table::{SpectralColumn, SpectralTable};
+
+// Degree-domain filters and radial continuation.
+pub mod continuation;
+pub mod filter;

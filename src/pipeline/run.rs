@@ -1,0 +1,202 @@
+//! Runs a checked job: loads inputs, runs the steps level by level (the syntheses of one level
+//! in parallel when their memory fits), writes the report, then moves every output into place.
+
+use std::collections::BTreeMap;
+use std::time::Instant;
+
+use rayon::prelude::*;
+
+use super::config::InputSpec;
+use super::job::Job;
+use super::outputs::{OutputFile, Staging};
+use super::products::{Points, Product};
+use super::steps::{run_step, ReportPart, StepEnv, StepOutcome};
+use crate::error::Result;
+use crate::io::grid_read::{read_grid, GridReadOptions};
+use crate::io::model_file::read_model;
+use crate::io::provenance::Provenance;
+use crate::observe::points::{read_points, BadRowPolicy, ColumnNames, PointReadOptions};
+use crate::report::html::Block;
+
+/// How to run.
+#[derive(Debug, Clone, Default)]
+pub struct RunOptions {
+    pub command_line: String,
+    pub quiet: bool,
+    pub verbose: bool,
+}
+
+/// One row of the summary table.
+#[derive(Debug, Clone)]
+pub struct StepRow {
+    pub name: String,
+    pub kind: String,
+    pub seconds: f64,
+    pub numbers: Vec<(String, String)>,
+}
+
+/// What a run did.
+#[derive(Debug, Clone)]
+pub struct RunSummary {
+    pub steps: Vec<StepRow>,
+    pub files: Vec<OutputFile>,
+    pub seconds: f64,
+}
+
+/// Runs `job`. On failure nothing is left in the output folder but what was there before.
+pub fn run_job(job: &Job, options: &RunOptions) -> Result<RunSummary> {
+    crate::memory::check_fits("this job (see the memory estimate)", job.memory.peak_bytes)?;
+    let inputs: Vec<std::path::PathBuf> = job.config.inputs.keys().filter_map(|n| job.input_path(n)).collect();
+    for input in &inputs {
+        let out_dir = job.output_dir.canonicalize().unwrap_or_else(|_| job.output_dir.clone());
+        if input.canonicalize().map(|p| p.starts_with(&out_dir)).unwrap_or(false) {
+            return Err(crate::Error::invalid(format!(
+                "output.folder {} contains the input {}; choose another folder so inputs are never overwritten",
+                job.output_dir.display(),
+                input.display()
+            )));
+        }
+    }
+    let mut staging = Staging::create(&job.output_dir)?;
+    match run_staged(job, options, &mut staging) {
+        Ok((steps, seconds)) => {
+            let files = staging.commit()?;
+            Ok(RunSummary { steps, files, seconds })
+        }
+        Err(e) => {
+            staging.discard();
+            Err(e)
+        }
+    }
+}
+
+fn run_staged(job: &Job, options: &RunOptions, staging: &mut Staging) -> Result<(Vec<StepRow>, f64)> {
+    let start = Instant::now();
+    let mut provenance = Provenance::from_command_line(options.command_line.clone());
+    provenance.config_digest = Some(job.config_sha256.clone());
+    for name in job.config.inputs.keys() {
+        if let Some(p) = job.input_path(name) {
+            provenance.add_input(&p)?;
+        }
+    }
+    let mut products = BTreeMap::new();
+    let mut report: Vec<(ReportPart, Block)> = Vec::new();
+    for (name, input) in &job.config.inputs {
+        let (product, blocks) = load_input(job, name, input)?;
+        report.extend(blocks.into_iter().map(|b| (ReportPart::Inputs, b)));
+        products.insert(name.clone(), product);
+    }
+    let steps_total = job.step_order().len() as u64;
+    let progress = super::progress::Progress::new(options.quiet, steps_total);
+    let mut rows = Vec::new();
+    let mut cautions: Vec<String> = Vec::new();
+    for level in &job.levels {
+        let names: Vec<&String> = level.iter().filter(|n| job.config.steps.contains_key(n.as_str())).collect();
+        let parallel_bytes: u64 = job
+            .memory
+            .items
+            .iter()
+            .filter(|(s, _, _)| names.iter().any(|n| *n == s))
+            .map(|(_, _, b)| *b)
+            .sum();
+        let parallel = names.len() > 1
+            && names.iter().all(|n| job.config.steps[n.as_str()].kind == "synthesize")
+            && crate::memory::check_fits("parallel syntheses", parallel_bytes).is_ok();
+        let env = StepEnv { job, staging_dir: &staging.dir, provenance: &provenance, products: &products, quiet: options.quiet };
+        let run_one = |name: &String| -> Result<(String, StepOutcome, f64)> {
+            let t = Instant::now();
+            let step = &job.config.steps[name.as_str()];
+            let outcome = run_step(name, step, &env)
+                .map_err(|e| crate::Error::invalid(format!("step '{name}' ({}): {e}", step.kind)))?;
+            Ok((name.clone(), outcome, t.elapsed().as_secs_f64()))
+        };
+        for n in &names {
+            progress.stage(&format!("{n} ({})", job.config.steps[n.as_str()].kind));
+        }
+        // results come back in level order either way, so outputs do not depend on scheduling
+        let results: Vec<(String, StepOutcome, f64)> = if parallel {
+            names.par_iter().map(|n| run_one(n)).collect::<Result<_>>()?
+        } else {
+            names.iter().map(|n| run_one(n)).collect::<Result<_>>()?
+        };
+        for (name, outcome, seconds) in results {
+            if options.verbose && !options.quiet {
+                eprintln!("step {name}: {:.1} s, {} file(s)", seconds, outcome.files.len());
+            }
+            for (file, what) in &outcome.files {
+                staging.record(file, what.clone())?;
+            }
+            report.extend(outcome.report);
+            for c in outcome.cautions {
+                if !cautions.contains(&c) {
+                    cautions.push(c);
+                }
+            }
+            rows.push(StepRow { name: name.clone(), kind: job.config.steps[name.as_str()].kind.clone(), seconds, numbers: outcome.numbers });
+            if let Some(p) = outcome.product {
+                products.insert(name, p);
+            }
+        }
+    }
+    progress.finish();
+    if job.config.output.wants("html") {
+        let html = super::report::build(job, &provenance, &report, &rows, &staging.files, &cautions);
+        staging.write_bytes("report.html", html.as_bytes(), "the run report (open in a browser)")?;
+    }
+    Ok((rows, start.elapsed().as_secs_f64()))
+}
+
+fn load_input(job: &Job, name: &str, input: &InputSpec) -> Result<(Product, Vec<Block>)> {
+    let path = job.input_path(name).unwrap_or_default();
+    match input.kind.as_str() {
+        "points" => {
+            let mut columns = ColumnNames::default();
+            if let Some(c) = &input.columns {
+                for (slot, given) in [(&mut columns.lat, &c.lat), (&mut columns.lon, &c.lon), (&mut columns.value, &c.value), (&mut columns.sigma, &c.sigma)] {
+                    if let Some(g) = given {
+                        *slot = g.clone();
+                    }
+                }
+            }
+            let on_bad_row = match input.on_bad_row.as_deref() {
+                Some("skip") => BadRowPolicy::Skip,
+                _ => BadRowPolicy::Error,
+            };
+            let options = PointReadOptions { columns, on_bad_row, ..Default::default() };
+            let (set, read) = read_points(&path, &options)?;
+            let quantity = input.quantity.clone().unwrap_or_else(|| "value".into());
+            let units = input.units.clone().unwrap_or_else(|| if quantity == "potential" { "m2 s-2".into() } else { "1".into() });
+            let style = crate::report::maps::MapStyle {
+                title: format!("{name}: observations"),
+                units: units.clone(),
+                degree_range: format!("{} points from {}", set.len(), path.file_name().map(|f| f.to_string_lossy().to_string()).unwrap_or_default()),
+                ..Default::default()
+            };
+            let png = crate::report::maps::render_points_png(&set.lat_deg, &set.lon_deg, &set.value, &style);
+            let blocks = vec![
+                Block::Paragraph(format!("Point set '{name}': {}", read.summary())),
+                Block::Png { bytes: png, caption: format!("{name}: observation sites coloured by value ({units})") },
+            ];
+            Ok((Product::Points(Points { set, quantity, units }), blocks))
+        }
+        "grid" => {
+            let g = read_grid(&path, &GridReadOptions { variable: input.variable.clone(), index: None })?;
+            let (nlat, nlon) = g.grid.shape();
+            let style = crate::report::maps::MapStyle {
+                title: format!("{name}: {}", g.variable),
+                units: g.units.clone(),
+                degree_range: format!("input grid {nlat} x {nlon}"),
+                lat_deg: Some(g.grid.latitudes_deg()),
+                lon0_deg: g.grid.lon0_rad.to_degrees(),
+            };
+            let png = crate::report::maps::render_map_png(&g.field, &style);
+            let blocks = vec![Block::Png { bytes: png, caption: format!("{name}: input grid {} ({})", path.display(), g.units) }];
+            Ok((Product::Grid(Box::new(g)), blocks))
+        }
+        _ => {
+            let m = read_model(&path)?;
+            let blocks = vec![Block::Paragraph(format!("Model '{name}' ({}): degree {}, {} normalisation, units {}", path.display(), m.lmax(), m.normalization, m.units))];
+            Ok((Product::Model(m), blocks))
+        }
+    }
+}
