@@ -83,10 +83,10 @@ pub struct GaussGrid;
 impl GaussGrid {
     pub fn new(lmax: usize) -> Grid {
         let nlat = lmax + 1;
-        let (x, w) = super::gauss_legendre::nodes_and_weights(nlat);
+        let (theta, w) = super::gauss_legendre::colatitudes_and_weights(nlat);
         Grid {
             kind: GridKind::Gauss,
-            colatitude_rad: x.iter().map(|&xi| xi.clamp(-1.0, 1.0).acos()).collect(),
+            colatitude_rad: theta,
             weights: w,
             nlon: fft_friendly_length(2 * lmax + 1),
             lon0_rad: 0.0,

@@ -4,10 +4,13 @@
 pub mod equiangular;
 pub mod gauss_legendre;
 pub mod grid;
+pub mod kernel;
 pub mod legendre;
 pub mod plan;
 pub mod points;
+pub mod reference;
 
 pub use grid::{GaussGrid, Grid, GridKind};
+pub use kernel::KernelPath;
 pub use plan::TransformPlan;
 pub use points::{evaluate_points, PointValue};

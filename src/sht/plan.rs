@@ -3,31 +3,55 @@
 //! Analysis: C_lm − i S_lm = (1/4π) Σ_j w_j P̄_lm(cos θ_j) G_m(θ_j), with
 //! G_m = (2π/nlon) Σ_k f_jk e^{−imλ_k} (CONVENTIONS.md §4). Synthesis is its transpose.
 //! Coefficients are `geodesy` without phase inside; other conventions are converted at the edge.
+//!
+//! Execution (ARCHITECTURE.md, "Transform design"):
+//! - Legendre stage: rayon over orders m (one task per order, work stealing balances the
+//!   cost that falls with m); per order, the rings run in blocks of SIMD lanes, north and
+//!   south rings together when the grid is symmetric, with the recursion computed on the fly
+//!   (no tables of P̄_lm).
+//! - Fourier stage: rayon over rings, one real FFT each (realfft), per-thread scratch.
+//! - Synthesis keeps each ring's half-spectrum inside its own output row (2L + 1 ≤ nlon reals)
+//!   and transforms the row in place, so no nlat × (L+1) complex array is held beside the grid.
+//!   Analysis processes the rings in chunks whose spectra fit a fixed budget.
 
+use std::ops::Range;
 use std::sync::Arc;
 
 use ndarray::Array2;
+use rayon::prelude::*;
 use realfft::num_complex::Complex64;
 use realfft::{ComplexToReal, RealFftPlanner, RealToComplex};
 
-use crate::coeffs::{Coefficients, Normalization};
+use crate::coeffs::{packed_len, Coefficients, Normalization};
 use crate::error::{Error, Result};
+use crate::memory;
 
 use super::grid::Grid;
-use super::legendre;
+use super::kernel::dispatch::{self, KernelPath};
+use super::kernel::lanes::{build_lanes, is_symmetric, Lane};
+use super::kernel::order::{AnalysisJob, OrderScratch, SharedMut, SynthJob};
+use super::legendre::recursion::sectoral_factors;
 
-/// Transform plan: grid, degree and FFT plans. `Send + Sync`; build once, reuse for every
-/// field of this shape.
+/// Budget for the ring spectra held at once during analysis.
+const ANALYSIS_CHUNK_BYTES: usize = 256 << 20;
+
+/// Transform plan: grid, degree, lane layout, FFT plans and the chosen kernel path.
+/// `Send + Sync`; build once, reuse for every field of this shape.
 pub struct TransformPlan {
     lmax: usize,
     grid: Grid,
     forward: Arc<dyn RealToComplex<f64>>,
     inverse: Arc<dyn ComplexToReal<f64>>,
+    symmetric: bool,
+    lanes: Vec<Lane>,
+    sectoral_factors: Vec<f64>,
+    rotation: Vec<Complex64>,
+    path: KernelPath,
 }
 
 impl TransformPlan {
     /// Builds a plan for band limit `lmax` on `grid`. Fails if the grid cannot resolve `lmax`
-    /// (nlon < 2·lmax + 1).
+    /// (nlon < 2·lmax + 1) or if the grid description is inconsistent.
     pub fn new(lmax: usize, grid: &Grid) -> Result<Self> {
         if grid.nlon < 2 * lmax + 1 {
             return Err(Error::invalid(format!(
@@ -36,13 +60,57 @@ impl TransformPlan {
                 (grid.nlon.saturating_sub(1)) / 2
             )));
         }
+        if grid.nlat() == 0 || grid.weights.len() != grid.nlat() {
+            return Err(Error::ShapeMismatch(format!(
+                "grid has {} latitudes but {} quadrature weights",
+                grid.nlat(),
+                grid.weights.len()
+            )));
+        }
+        if let Some(j) = grid
+            .colatitude_rad
+            .iter()
+            .position(|t| !t.is_finite() || *t < 0.0 || *t > std::f64::consts::PI)
+        {
+            return Err(Error::invalid(format!(
+                "grid row {j}: colatitude {} rad is outside [0, π]",
+                grid.colatitude_rad[j]
+            )));
+        }
         let mut planner = RealFftPlanner::<f64>::new();
+        let symmetric = is_symmetric(grid);
         Ok(TransformPlan {
             lmax,
             grid: grid.clone(),
             forward: planner.plan_fft_forward(grid.nlon),
             inverse: planner.plan_fft_inverse(grid.nlon),
+            symmetric,
+            lanes: build_lanes(grid, symmetric),
+            sectoral_factors: sectoral_factors(lmax),
+            rotation: (0..=lmax)
+                .map(|m| Complex64::from_polar(1.0, m as f64 * grid.lon0_rad))
+                .collect(),
+            path: KernelPath::detect(),
         })
+    }
+
+    /// The same plan running a given kernel path (refused when the CPU lacks it).
+    pub fn with_kernel_path(mut self, path: KernelPath) -> Result<Self> {
+        if !path.is_supported() {
+            return Err(Error::invalid(format!(
+                "this CPU cannot run the {} kernels",
+                path.name()
+            )));
+        }
+        self.path = path;
+        Ok(self)
+    }
+
+    /// The same plan without equatorial pairing of rings (for testing the fallback).
+    pub fn without_symmetry(mut self) -> Self {
+        self.symmetric = false;
+        self.lanes = build_lanes(&self.grid, false);
+        self
     }
 
     pub fn lmax(&self) -> usize {
@@ -53,155 +121,329 @@ impl TransformPlan {
         &self.grid
     }
 
+    pub fn kernel_path(&self) -> KernelPath {
+        self.path
+    }
+
+    /// Whether north and south rings are paired (the grid is symmetric about the equator).
+    pub fn is_symmetric(&self) -> bool {
+        self.symmetric
+    }
+
+    /// Bytes a synthesis needs beyond its input (output grid, converted input, scratch).
+    pub fn synthesis_bytes(&self, outputs: usize) -> u64 {
+        let (nlat, nlon) = self.grid.shape();
+        let threads = rayon::current_num_threads() as u64;
+        (outputs * nlat * nlon * 8) as u64
+            + (2 * packed_len(self.lmax) * 8) as u64
+            + threads * (OrderScratch::bytes(self.lmax) + (nlon as u64) * 48)
+    }
+
+    /// Bytes an analysis needs beyond its input (coefficients, ring spectra, scratch).
+    pub fn analysis_bytes(&self) -> u64 {
+        let threads = rayon::current_num_threads() as u64;
+        (2 * packed_len(self.lmax) * 8) as u64
+            + self.analysis_chunk_lanes() as u64 * 2 * (self.lmax as u64 + 1) * 16
+            + threads * (OrderScratch::bytes(self.lmax) + (self.grid.nlon as u64) * 48)
+    }
+
+    fn analysis_chunk_lanes(&self) -> usize {
+        let per_lane = 2 * (self.lmax + 1) * 16;
+        let w = 16; // a multiple of every path's lane count
+        let lanes = (ANALYSIS_CHUNK_BYTES / per_lane).max(w) / w * w;
+        lanes.min(self.lanes.len().div_ceil(w) * w)
+    }
+
     /// Analyses a field (nlat × nlon, rows north to south) into `geodesy` coefficients.
     pub fn analyse(&self, field: &Array2<f64>) -> Result<Coefficients> {
+        self.analyse_rings(field, 0..self.grid.nlat())
+    }
+
+    /// The contribution of rows `rings` to the analysis of `field`: summing the results over
+    /// disjoint ring ranges that cover the grid gives [`TransformPlan::analyse`] (a seam for
+    /// sharding work across machines).
+    pub fn analyse_rings(&self, field: &Array2<f64>, rings: Range<usize>) -> Result<Coefficients> {
         let (nlat, nlon) = field.dim();
         self.grid.check_shape(nlat, nlon)?;
-        if self.lmax > self.grid.max_exact_degree {
+        if rings.end > nlat || rings.start > rings.end {
             return Err(Error::invalid(format!(
-                "this grid's quadrature is exact to degree {} only, not {}",
-                self.grid.max_exact_degree, self.lmax
+                "ring range {}..{} is outside the grid's {nlat} rows",
+                rings.start, rings.end
             )));
         }
-        let l = self.lmax;
-        let mut out = Coefficients::zeros(l, Normalization::Geodesy);
-        let mut spectrum = self.forward.make_output_vec();
-        let mut row = self.forward.make_input_vec();
-        let mut col = vec![0.0; l + 1];
-        let scale = 2.0 * std::f64::consts::PI / nlon as f64 / (4.0 * std::f64::consts::PI);
-        for j in 0..nlat {
-            row.copy_from_slice(field.row(j).as_slice().unwrap_or(&field.row(j).to_vec()));
-            self.forward
-                .process(&mut row, &mut spectrum)
-                .map_err(|e| Error::invalid(format!("FFT failed: {e}")))?;
-            let theta = self.grid.colatitude_rad[j];
-            let (t, u) = (theta.cos(), theta.sin());
-            let w = self.grid.weights[j] * scale;
-            for m in 0..=l {
-                let g = spectrum[m] * Complex64::from_polar(1.0, -(m as f64) * self.grid.lon0_rad);
-                legendre::column(m, l, t, u, &mut col);
-                for deg in m..=l {
-                    let p = col[deg - m] * w;
-                    let i = crate::coeffs::packed_index(deg, m);
-                    out.c_packed_mut()[i] += p * g.re;
-                    if m > 0 {
-                        out.s_packed_mut()[i] -= p * g.im;
+        if self.lmax > self.grid.max_exact_degree {
+            return Err(Error::invalid(format!(
+                "this grid's quadrature is exact to degree {} only, not {}: use a finer grid or lmax ≤ {}",
+                self.grid.max_exact_degree, self.lmax, self.grid.max_exact_degree
+            )));
+        }
+        if let Some((idx, v)) = field.indexed_iter().find(|(_, v)| !v.is_finite()) {
+            return Err(Error::invalid(format!(
+                "field value at row {}, column {} is not finite ({v}); mask or fill gaps before analysis",
+                idx.0, idx.1
+            )));
+        }
+        memory::check_fits(
+            &format!("analysis to degree {} on a {nlat} x {nlon} grid", self.lmax),
+            self.analysis_bytes(),
+        )?;
+        let lanes: Vec<Lane> = if rings == (0..nlat) {
+            self.lanes.clone()
+        } else {
+            self.lanes_for_rows(&rings)
+        };
+        let field = field.as_standard_layout();
+        let data = field.as_slice().expect("standard layout");
+        let lmax = self.lmax;
+        let stride = lmax + 1;
+        let mut out = Coefficients::zeros(lmax, Normalization::Geodesy);
+        let chunk_lanes = self.analysis_chunk_lanes();
+        let mut spectra = vec![Complex64::new(0.0, 0.0); chunk_lanes.min(lanes.len()) * 2 * stride];
+        let scale = 1.0 / (2.0 * nlon as f64);
+        let (cp, sp) = {
+            let c = out.c_packed_mut().as_mut_ptr();
+            (SharedMut(c), SharedMut(out.s_packed_mut().as_mut_ptr()))
+        };
+        for chunk in lanes.chunks(chunk_lanes.max(1)) {
+            // Fourier stage: weighted, rotated half-spectra of the chunk's rings.
+            let used = &mut spectra[..chunk.len() * 2 * stride];
+            used.par_chunks_mut(2 * stride).zip(chunk.par_iter()).for_each_init(
+                || RingScratch::new(&*self.forward, &*self.inverse),
+                |rs, (dst, lane)| {
+                    let (north, south) = dst.split_at_mut(stride);
+                    self.ring_spectrum(data, lane.north, scale, rs, north);
+                    match lane.south {
+                        Some(row) => self.ring_spectrum(data, row, scale, rs, south),
+                        None => south.iter_mut().for_each(|z| *z = Complex64::new(0.0, 0.0)),
                     }
-                }
-            }
+                },
+            );
+            // Legendre stage: one task per order.
+            let job = AnalysisJob {
+                lmax,
+                lanes: chunk,
+                sectoral_factors: &self.sectoral_factors,
+                spectra: used,
+                c: cp,
+                s: sp,
+            };
+            let path = self.path;
+            (0..lmax + 1)
+                .into_par_iter()
+                .with_max_len(1)
+                .for_each_init(|| OrderScratch::new(lmax), |sc, m| dispatch::analysis(path, &job, m, sc));
         }
         Ok(out)
+    }
+
+    /// H_m = w_j/(2 nlon) e^{−imλ_0} X_m for one row (X = the row's forward real FFT).
+    fn ring_spectrum(&self, data: &[f64], row: usize, scale: f64, rs: &mut RingScratch, out: &mut [Complex64]) {
+        let nlon = self.grid.nlon;
+        rs.real.copy_from_slice(&data[row * nlon..(row + 1) * nlon]);
+        self.forward
+            .process_with_scratch(&mut rs.real, &mut rs.spectrum, &mut rs.fft_scratch)
+            .expect("buffer sizes come from the same plan");
+        let w = self.grid.weights[row] * scale;
+        for (m, o) in out.iter_mut().enumerate() {
+            *o = rs.spectrum[m] * self.rotation[m].conj() * w;
+        }
+    }
+
+    /// Lanes of a subset of rows: mirror pairs when both rows are inside, single rings otherwise.
+    fn lanes_for_rows(&self, rows: &Range<usize>) -> Vec<Lane> {
+        let mut out = Vec::new();
+        for lane in &self.lanes {
+            let n_in = rows.contains(&lane.north);
+            let s_in = lane.south.is_some_and(|s| rows.contains(&s));
+            match (n_in, s_in) {
+                (true, true) => out.push(*lane),
+                (true, false) => out.push(Lane { south: None, ..*lane }.as_single(&self.grid)),
+                (false, true) => {
+                    let s = lane.south.expect("checked");
+                    out.push(Lane { north: s, south: None, ..*lane }.as_single(&self.grid))
+                }
+                (false, false) => {}
+            }
+        }
+        out
     }
 
     /// Synthesises `coeffs` (any normalisation; truncated or zero-padded to the plan's lmax)
     /// on the plan's grid.
     pub fn synthesise(&self, coeffs: &Coefficients) -> Result<Array2<f64>> {
-        self.synthesise_with(coeffs, false)
+        self.synthesise_orders(coeffs, 0..self.lmax + 1)
     }
 
-    /// ∂f/∂θ and (1/sin θ) ∂f/∂λ on the plan's grid.
-    pub fn synthesise_gradient(&self, coeffs: &Coefficients) -> Result<(Array2<f64>, Array2<f64>)> {
-        let dtheta = self.synthesise_with(coeffs, true)?;
-        let dlambda = self.synthesise_dlambda(coeffs)?;
-        Ok((dtheta, dlambda))
-    }
-
-    fn prepared(&self, coeffs: &Coefficients) -> Result<Coefficients> {
-        coeffs.check_finite()?;
-        Ok(coeffs.to_geodesy()?.resized(self.lmax))
-    }
-
-    fn synthesise_with(&self, coeffs: &Coefficients, d_theta: bool) -> Result<Array2<f64>> {
-        let g = self.prepared(coeffs)?;
-        let kind = if d_theta { RingKind::DTheta } else { RingKind::Value };
-        self.synthesise_rings(&g, kind)
-    }
-
-    fn synthesise_dlambda(&self, coeffs: &Coefficients) -> Result<Array2<f64>> {
-        let g = self.prepared(coeffs)?;
-        self.synthesise_rings(&g, RingKind::DLambdaOverSin)
-    }
-
-    /// Reference ring-by-ring synthesis: per ring, Fourier coefficients a_m − i b_m from the
-    /// Legendre sums, then one inverse real FFT.
-    fn synthesise_rings(&self, g: &Coefficients, kind: RingKind) -> Result<Array2<f64>> {
-        let (nlat, nlon) = self.grid.shape();
-        let l = self.lmax;
-        let mut out = Array2::zeros((nlat, nlon));
-        let mut spectrum = self.inverse.make_input_vec();
-        let mut row = self.inverse.make_output_vec();
-        let mut col = vec![0.0; l + 1];
-        let mut dcol = vec![0.0; l + 1];
-        for j in 0..nlat {
-            let theta = self.grid.colatitude_rad[j];
-            let (t, u) = (theta.cos(), theta.sin());
-            spectrum.iter_mut().for_each(|z| *z = Complex64::new(0.0, 0.0));
-            for m in 0..=l {
-                legendre::column(m, l, t, u, &mut col);
-                let p: &[f64] = if kind == RingKind::DTheta {
-                    super::points::derivative_column(m, l, t, u, &col, &mut dcol);
-                    &dcol
-                } else {
-                    &col
-                };
-                let (mut a, mut b) = (0.0, 0.0);
-                for deg in m..=l {
-                    a += g.c(deg, m) * p[deg - m];
-                    b += g.s(deg, m) * p[deg - m];
-                }
-                if kind == RingKind::DLambdaOverSin {
-                    // ∂/∂λ of a cos mλ + b sin mλ = m b cos mλ − m a sin mλ
-                    let inv_u = if u > 0.0 { 1.0 / u } else { 0.0 };
-                    (a, b) = (m as f64 * b * inv_u, -(m as f64) * a * inv_u);
-                }
-                let half = if m == 0 { 1.0 } else { 0.5 };
-                spectrum[m] = Complex64::new(a * half, -b * half)
-                    * Complex64::from_polar(1.0, m as f64 * self.grid.lon0_rad);
-            }
-            spectrum[0].im = 0.0;
-            if let Some(last) = spectrum.last_mut() {
-                if nlon % 2 == 0 {
-                    last.im = 0.0;
-                }
-            }
-            self.inverse
-                .process(&mut spectrum, &mut row)
-                .map_err(|e| Error::invalid(format!("FFT failed: {e}")))?;
-            out.row_mut(j).assign(&ndarray::ArrayView1::from(&row[..]));
-        }
+    /// The part of the synthesis carried by orders `orders`: summing the fields over disjoint
+    /// order ranges gives [`TransformPlan::synthesise`] (a seam for sharding).
+    pub fn synthesise_orders(&self, coeffs: &Coefficients, orders: Range<usize>) -> Result<Array2<f64>> {
+        let g = self.prepared(coeffs, 1)?;
+        let mut out = self.allocate_grid()?;
+        self.legendre_synthesis(&g, orders, false, &mut out, None);
+        self.inverse_rings(&mut out);
         Ok(out)
     }
+
+    /// ∂f/∂θ and (1/sin θ) ∂f/∂λ on the plan's grid. On pole rows (sin θ = 0) both are the
+    /// limits along each meridian λ_k (only order 1 contributes there).
+    pub fn synthesise_gradient(&self, coeffs: &Coefficients) -> Result<(Array2<f64>, Array2<f64>)> {
+        let g = self.prepared(coeffs, 2)?;
+        let mut d_theta = self.allocate_grid()?;
+        let mut d_lambda = self.allocate_grid()?;
+        self.legendre_synthesis(&g, 0..self.lmax + 1, true, &mut d_theta, Some(&mut d_lambda));
+        self.pole_gradient_rows(&g, &mut d_theta, &mut d_lambda);
+        self.inverse_rings(&mut d_theta);
+        self.inverse_rings(&mut d_lambda);
+        Ok((d_theta, d_lambda))
+    }
+
+    fn allocate_grid(&self) -> Result<Array2<f64>> {
+        Ok(Array2::zeros(self.grid.shape()))
+    }
+
+    fn prepared(&self, coeffs: &Coefficients, outputs: usize) -> Result<Coefficients> {
+        coeffs.check_finite()?;
+        memory::check_fits(
+            &format!(
+                "synthesis to degree {} on a {} x {} grid",
+                self.lmax,
+                self.grid.nlat(),
+                self.grid.nlon
+            ),
+            self.synthesis_bytes(outputs),
+        )?;
+        let g = coeffs.to_geodesy()?;
+        Ok(if g.lmax() == self.lmax { g } else { g.resized(self.lmax) })
+    }
+
+    fn legendre_synthesis(
+        &self,
+        g: &Coefficients,
+        orders: Range<usize>,
+        grad: bool,
+        out0: &mut Array2<f64>,
+        out1: Option<&mut Array2<f64>>,
+    ) {
+        let interior: Vec<Lane>;
+        let lanes: &[Lane] = if grad {
+            interior = self.lanes.iter().copied().filter(|l| l.u > 0.0).collect();
+            &interior
+        } else {
+            &self.lanes
+        };
+        let p0 = SharedMut(out0.as_mut_ptr());
+        let p1 = SharedMut(out1.map_or(std::ptr::null_mut(), |a| a.as_mut_ptr()));
+        let job = SynthJob {
+            lmax: self.lmax,
+            lanes,
+            sectoral_factors: &self.sectoral_factors,
+            c: g.c_packed(),
+            s: g.s_packed(),
+            rotation: &self.rotation,
+            nlon: self.grid.nlon,
+            out0: p0,
+            out1: p1,
+        };
+        let path = self.path;
+        let lmax = self.lmax;
+        let orders = orders.start.min(lmax + 1)..orders.end.min(lmax + 1);
+        orders
+            .into_par_iter()
+            .with_max_len(1)
+            .for_each_init(|| OrderScratch::new(lmax), |sc, m| dispatch::synth(path, grad, &job, m, sc));
+    }
+
+    /// Gradient Fourier columns of rows at the poles: only order 1 survives, with
+    /// lim P̄_l1/sin θ = ±dP̄_l1/dθ = sqrt((2l+1) l(l+1)/2) up to the sign at the south pole.
+    fn pole_gradient_rows(&self, g: &Coefficients, d_theta: &mut Array2<f64>, d_lambda: &mut Array2<f64>) {
+        if self.lmax == 0 {
+            return;
+        }
+        for (row, &theta) in self.grid.colatitude_rad.iter().enumerate() {
+            if theta.sin() != 0.0 && theta != std::f64::consts::PI {
+                continue;
+            }
+            let south = theta > 1.0;
+            let (mut a_d, mut b_d, mut a_p, mut b_p) = (0.0, 0.0, 0.0, 0.0);
+            for l in 1..=self.lmax {
+                let lf = l as f64;
+                let s = ((2.0 * lf + 1.0) * lf * (lf + 1.0) / 2.0).sqrt();
+                let odd = l % 2 == 1;
+                // north: dP/dθ = s, P/u = s; south: dP/dθ = (−1)^l s, P/u = (−1)^{l+1} s
+                let (d, p) = if !south {
+                    (s, s)
+                } else if odd {
+                    (-s, s)
+                } else {
+                    (s, -s)
+                };
+                a_d += g.c(l, 1) * d;
+                b_d += g.s(l, 1) * d;
+                a_p += g.c(l, 1) * p;
+                b_p += g.s(l, 1) * p;
+            }
+            let put = |arr: &mut Array2<f64>, a: f64, b: f64| {
+                arr.row_mut(row).fill(0.0);
+                let x = Complex64::new(0.5 * a, -0.5 * b) * self.rotation[1];
+                arr[[row, 1]] = x.re;
+                arr[[row, 2]] = x.im;
+            };
+            put(d_theta, a_d, b_d);
+            // (1/sin θ) ∂/∂λ (a cos λ + b sin λ) P/u → A' = B·(P/u), B' = −A·(P/u)
+            put(d_lambda, b_p, -a_p);
+        }
+    }
+
+    /// Turns every row's packed half-spectrum [Re X_0, Re X_1, Im X_1, ...] into its values.
+    fn inverse_rings(&self, grid: &mut Array2<f64>) {
+        let nlon = self.grid.nlon;
+        let lmax = self.lmax;
+        let data = grid.as_slice_mut().expect("standard layout");
+        data.par_chunks_mut(nlon).for_each_init(
+            || RingScratch::new(&*self.forward, &*self.inverse),
+            |rs, row| {
+                rs.spectrum.iter_mut().for_each(|z| *z = Complex64::new(0.0, 0.0));
+                rs.spectrum[0] = Complex64::new(row[0], 0.0);
+                for m in 1..=lmax {
+                    rs.spectrum[m] = Complex64::new(row[2 * m - 1], row[2 * m]);
+                }
+                self.inverse
+                    .process_with_scratch(&mut rs.spectrum, &mut rs.real, &mut rs.fft_scratch)
+                    .expect("buffer sizes come from the same plan");
+                row.copy_from_slice(&rs.real);
+            },
+        );
+    }
 }
 
-#[derive(Clone, Copy, PartialEq, Eq)]
-enum RingKind {
-    Value,
-    DTheta,
-    DLambdaOverSin,
+impl Lane {
+    fn as_single(self, grid: &Grid) -> Lane {
+        let th = grid.colatitude_rad[self.north];
+        Lane {
+            t: th.cos(),
+            u: th.sin().abs(),
+            north: self.north,
+            south: None,
+        }
+    }
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-    use crate::sht::GaussGrid;
+/// Per-thread buffers of the Fourier stage.
+struct RingScratch {
+    real: Vec<f64>,
+    spectrum: Vec<Complex64>,
+    fft_scratch: Vec<Complex64>,
+}
 
-    #[test]
-    fn reference_round_trip_small() {
-        // common practice: Gauss–Legendre analysis inverts synthesis for band-limited fields
-        let lmax = 20;
-        let grid = GaussGrid::new(lmax);
-        let plan = TransformPlan::new(lmax, &grid).unwrap();
-        let mut c = Coefficients::zeros(lmax, Normalization::Geodesy);
-        for (i, (l, m)) in (0..=lmax).flat_map(|l| (0..=l).map(move |m| (l, m))).enumerate() {
-            c.set(l, m, ((i * 7919) % 13) as f64 - 6.0, ((i * 104729) % 11) as f64 - 5.0);
-        }
-        let f = plan.synthesise(&c).unwrap();
-        let back = plan.analyse(&f).unwrap();
-        for (a, b) in c.c_packed().iter().zip(back.c_packed()) {
-            assert!((a - b).abs() < 1e-12, "{a} {b}");
-        }
-        for (a, b) in c.s_packed().iter().zip(back.s_packed()) {
-            assert!((a - b).abs() < 1e-12, "{a} {b}");
+impl RingScratch {
+    fn new(forward: &dyn RealToComplex<f64>, inverse: &dyn ComplexToReal<f64>) -> Self {
+        RingScratch {
+            real: forward.make_input_vec(),
+            spectrum: forward.make_output_vec(),
+            fft_scratch: vec![
+                Complex64::new(0.0, 0.0);
+                forward.get_scratch_len().max(inverse.get_scratch_len())
+            ],
         }
     }
 }

@@ -1,0 +1,239 @@
+//! The work for one order m: recursion coefficients, column starts per lane, the block kernels
+//! and the hand-over to the ring (Fourier) stage. Generic over the lane count and FMA use; the
+//! instruction-set variants are instantiated in `kernel::dispatch`.
+
+use realfft::num_complex::Complex64;
+
+use super::block::{analysis_block, synth_block, Event, OrderCoefficients, FOLD};
+use super::lanes::Lane;
+use crate::coeffs::packed_index;
+use crate::sht::legendre::recursion::{a_lm, b_lm, column_start, f_lm, sectoral};
+
+/// A raw pointer shared by the per-order tasks, each of which writes a disjoint set of
+/// elements (its own order's Fourier columns or coefficients).
+#[derive(Clone, Copy)]
+pub struct SharedMut(pub *mut f64);
+unsafe impl Send for SharedMut {}
+unsafe impl Sync for SharedMut {}
+
+/// Per-thread scratch for one order (allocated once per thread, reused for every order).
+pub struct OrderScratch {
+    pub a: Vec<f64>,
+    pub b: Vec<f64>,
+    pub f: Vec<f64>,
+    pub c: Vec<f64>,
+    pub s: Vec<f64>,
+    pub events: Vec<Event>,
+    pub acc_re: Vec<f64>,
+    pub acc_im: Vec<f64>,
+}
+
+impl OrderScratch {
+    pub fn new(lmax: usize) -> Self {
+        let n = lmax + 2;
+        OrderScratch {
+            a: vec![0.0; n],
+            b: vec![0.0; n],
+            f: vec![0.0; n],
+            c: vec![0.0; n],
+            s: vec![0.0; n],
+            events: Vec::with_capacity(64),
+            acc_re: vec![0.0; n * FOLD],
+            acc_im: vec![0.0; n * FOLD],
+        }
+    }
+
+    /// Bytes held by one scratch set.
+    pub fn bytes(lmax: usize) -> u64 {
+        ((lmax + 2) * (5 + 2 * FOLD) * 8 + 64 * 32) as u64
+    }
+
+    fn fill(&mut self, m: usize, lmax: usize, grad: bool) {
+        for l in (m + 1)..=lmax {
+            self.a[l] = a_lm(l, m);
+            self.b[l] = b_lm(l, m);
+        }
+        if grad {
+            for l in m..=lmax {
+                self.f[l] = f_lm(l, m);
+            }
+        }
+    }
+}
+
+/// Collects the column starts of a block's lanes; returns the lane cos θ values.
+fn block_events<const W: usize>(
+    m: usize,
+    lmax: usize,
+    c_m: f64,
+    block: &[Lane],
+    sc: &mut OrderScratch,
+) -> [f64; W] {
+    let mut x = [0.0; W];
+    sc.events.clear();
+    for (i, lane) in block.iter().enumerate() {
+        x[i] = lane.t;
+        if let Some(st) = column_start(m, lmax, lane.t, sectoral(m, c_m, lane.u), &sc.a, &sc.b) {
+            sc.events.push(Event {
+                l: st.l,
+                lane: i,
+                p_prev: st.p_prev,
+                p: st.p,
+            });
+        }
+    }
+    sc.events.sort_unstable_by_key(|e| e.l);
+    x
+}
+
+/// What a synthesis pass reads and where it writes.
+pub struct SynthJob<'a> {
+    pub lmax: usize,
+    pub lanes: &'a [Lane],
+    pub sectoral_factors: &'a [f64],
+    /// Packed `geodesy` C and S.
+    pub c: &'a [f64],
+    pub s: &'a [f64],
+    /// e^{i m λ_0} per order.
+    pub rotation: &'a [Complex64],
+    pub nlon: usize,
+    /// Value grid (or ∂/∂θ grid for gradients): row-major nlat × nlon, Fourier columns packed
+    /// as [Re X_0, Re X_1, Im X_1, Re X_2, ...].
+    pub out0: SharedMut,
+    /// (1/sin θ) ∂/∂λ grid (gradients only).
+    pub out1: SharedMut,
+}
+
+#[inline(always)]
+fn put_fourier(job: &SynthJob, out: SharedMut, row: usize, m: usize, a: f64, b: f64) {
+    let base = row * job.nlon;
+    // SAFETY: rows < nlat and 2m ≤ 2·lmax < nlon; each order writes only its own columns.
+    unsafe {
+        if m == 0 {
+            *out.0.add(base) = a;
+        } else {
+            let x = Complex64::new(0.5 * a, -0.5 * b) * job.rotation[m];
+            *out.0.add(base + 2 * m - 1) = x.re;
+            *out.0.add(base + 2 * m) = x.im;
+        }
+    }
+}
+
+/// Synthesis of order m into the packed Fourier columns of every ring.
+#[inline(always)]
+pub fn synth_order<const W: usize, const FMA: bool, const GRAD: bool>(
+    job: &SynthJob,
+    m: usize,
+    sc: &mut OrderScratch,
+) {
+    let lmax = job.lmax;
+    sc.fill(m, lmax, GRAD);
+    for l in m..=lmax {
+        let i = packed_index(l, m);
+        sc.c[l] = job.c[i];
+        sc.s[l] = job.s[i];
+    }
+    let c_m = job.sectoral_factors[m];
+    for block in job.lanes.chunks(W) {
+        let x = block_events::<W>(m, lmax, c_m, block, sc);
+        if sc.events.is_empty() {
+            // lanes run from the equator to the poles: every later block is negligible too
+            break;
+        }
+        let rc = OrderCoefficients {
+            m,
+            lmax,
+            a: &sc.a,
+            b: &sc.b,
+            f: &sc.f,
+        };
+        let sums = synth_block::<W, FMA, GRAD>(&rc, &x, &sc.events, &sc.c, &sc.s);
+        let mf = m as f64;
+        for (i, lane) in block.iter().enumerate() {
+            let (ce, co, se, so) = (sums.c[0][i], sums.c[1][i], sums.s[0][i], sums.s[1][i]);
+            if !GRAD {
+                put_fourier(job, job.out0, lane.north, m, ce + co, se + so);
+                if let Some(south) = lane.south {
+                    put_fourier(job, job.out0, south, m, ce - co, se - so);
+                }
+            } else {
+                let inv_u = 1.0 / lane.u;
+                let (de, do_, dse, dso) = (sums.dc[0][i], sums.dc[1][i], sums.ds[0][i], sums.ds[1][i]);
+                put_fourier(job, job.out0, lane.north, m, (de + do_) * inv_u, (dse + dso) * inv_u);
+                put_fourier(job, job.out1, lane.north, m, mf * (se + so) * inv_u, -mf * (ce + co) * inv_u);
+                if let Some(south) = lane.south {
+                    // d/dθ of a mirrored function changes sign: P̄'(π−θ) = −(−1)^{l−m} P̄'(θ)
+                    put_fourier(job, job.out0, south, m, -(de - do_) * inv_u, -(dse - dso) * inv_u);
+                    put_fourier(job, job.out1, south, m, mf * (se - so) * inv_u, -mf * (ce - co) * inv_u);
+                }
+            }
+        }
+    }
+}
+
+/// What an analysis pass reads and where it adds its results.
+pub struct AnalysisJob<'a> {
+    pub lmax: usize,
+    /// The lanes of this chunk of rings.
+    pub lanes: &'a [Lane],
+    pub sectoral_factors: &'a [f64],
+    /// Weighted, rotated ring spectra H_m: lane k's north ring at row 2k, its mirror at 2k + 1,
+    /// each row `lmax + 1` long.
+    pub spectra: &'a [Complex64],
+    /// Packed `geodesy` C and S being accumulated.
+    pub c: SharedMut,
+    pub s: SharedMut,
+}
+
+/// Analysis of order m over one chunk of rings; adds into the packed coefficients.
+#[inline(always)]
+pub fn analysis_order<const W: usize, const FMA: bool>(job: &AnalysisJob, m: usize, sc: &mut OrderScratch) {
+    let lmax = job.lmax;
+    let stride = lmax + 1;
+    sc.fill(m, lmax, false);
+    sc.acc_re[m * FOLD..(lmax + 1) * FOLD].iter_mut().for_each(|v| *v = 0.0);
+    sc.acc_im[m * FOLD..(lmax + 1) * FOLD].iter_mut().for_each(|v| *v = 0.0);
+    let c_m = job.sectoral_factors[m];
+    for (bi, block) in job.lanes.chunks(W).enumerate() {
+        let x = block_events::<W>(m, lmax, c_m, block, sc);
+        if sc.events.is_empty() {
+            break;
+        }
+        let mut hr = [[0.0; W]; 2];
+        let mut hi = [[0.0; W]; 2];
+        for (i, lane) in block.iter().enumerate() {
+            let k = bi * W + i;
+            let hn = job.spectra[2 * k * stride + m];
+            let (e, o) = if lane.south.is_some() {
+                let hs = job.spectra[(2 * k + 1) * stride + m];
+                (hn + hs, hn - hs)
+            } else {
+                (hn, hn)
+            };
+            hr[0][i] = e.re;
+            hi[0][i] = e.im;
+            hr[1][i] = o.re;
+            hi[1][i] = o.im;
+        }
+        let rc = OrderCoefficients {
+            m,
+            lmax,
+            a: &sc.a,
+            b: &sc.b,
+            f: &sc.f,
+        };
+        analysis_block::<W, FMA>(&rc, &x, &sc.events, &hr, &hi, &mut sc.acc_re, &mut sc.acc_im);
+    }
+    for l in m..=lmax {
+        let re: f64 = sc.acc_re[l * FOLD..(l + 1) * FOLD].iter().sum();
+        let im: f64 = sc.acc_im[l * FOLD..(l + 1) * FOLD].iter().sum();
+        let i = packed_index(l, m);
+        // SAFETY: index (l, m) belongs to this order only; chunks run one after another.
+        unsafe {
+            *job.c.0.add(i) += re;
+            if m > 0 {
+                *job.s.0.add(i) -= im;
+            }
+        }
+    }
+}
