@@ -8,7 +8,7 @@ use crate::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention
 use crate::io::provenance::Provenance;
 use crate::observe::degree_choice::default_lmax_with_index;
 use crate::observe::gaps::{GapPolicy, DEFAULT_GAP_ITERATIONS, DEFAULT_GAP_TOLERANCE};
-use crate::observe::gridding::{grid_points_with_progress, GriddingMethod, GriddingOptions};
+use crate::observe::gridding::{default_radius_km, grid_points_with_progress, GriddingMethod, GriddingOptions};
 use crate::observe::points::{read_points, BadRowPolicy, ColumnNames, PointReadOptions, PointSet};
 use crate::observe::progress::Progress;
 use crate::observe::spatial::SphereIndex;
@@ -92,11 +92,6 @@ pub struct Args {
     pub lon_range: String,
     #[command(flatten)]
     pub input: PointInputArgs,
-}
-
-/// Default search radius: twice the node spacing πR/(L+1), so the half-width is one spacing.
-pub fn default_radius_km(lmax: usize, body_radius_m: f64) -> f64 {
-    2.0 * std::f64::consts::PI * body_radius_m / 1000.0 / (lmax + 1) as f64
 }
 
 pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {

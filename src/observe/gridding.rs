@@ -31,6 +31,12 @@ pub const EARTH_MEAN_RADIUS_M: f64 = 6_371_000.0;
 /// a node dominates without an infinite weight.
 pub const IDW_MIN_DISTANCE_M: f64 = 1.0;
 
+/// Default search radius, km: twice the node spacing πR/(L+1), so the kernel's half-width is
+/// one node spacing.
+pub fn default_radius_km(lmax: usize, body_radius_m: f64) -> f64 {
+    2.0 * std::f64::consts::PI * body_radius_m / 1000.0 / (lmax + 1) as f64
+}
+
 /// How each node's value is formed.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum GriddingMethod {
