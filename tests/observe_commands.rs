@@ -23,11 +23,20 @@ fn write_points(dir: &Path, bad_row: bool) -> PathBuf {
 }
 
 fn input_args() -> PointInputArgs {
-    PointInputArgs { columns: None, on_bad_row: "error".into(), body_radius_km: 6371.0, units: "mGal".into() }
+    PointInputArgs {
+        columns: None,
+        on_bad_row: "error".into(),
+        body_radius_km: 6371.0,
+        units: "mGal".into(),
+    }
 }
 
 fn ctx() -> CommandContext {
-    CommandContext { command_line: "kugel test".into(), quiet: true, verbose: false }
+    CommandContext {
+        command_line: "kugel test".into(),
+        quiet: true,
+        verbose: false,
+    }
 }
 
 fn grid_args(points: PathBuf, output: PathBuf) -> grid::Args {
@@ -54,8 +63,14 @@ fn grid_writes_field_with_ancillary_coverage_layers() {
     grid::run(&grid_args(points, out.clone()), &ctx()).unwrap();
     let file = netcdf_reader::NcFile::open(&out).unwrap();
     let value = file.variable("value").unwrap();
-    let anc = value.attribute("ancillary_variables").expect("ancillary_variables");
-    assert!(format!("{:?}", anc.value).contains("count nearest_km"), "{:?}", anc.value);
+    let anc = value
+        .attribute("ancillary_variables")
+        .expect("ancillary_variables");
+    assert!(
+        format!("{:?}", anc.value).contains("count nearest_km"),
+        "{:?}",
+        anc.value
+    );
     let count = file.read_variable_as_f64("count").unwrap();
     let (nlat, nlon) = kugel::sht::GaussGrid::new(8).shape();
     assert_eq!(count.shape(), &[nlat, nlon]);
@@ -71,10 +86,16 @@ fn bad_rows_leave_no_output_and_name_the_file() {
     let out = dir.path().join("g.nc");
     let err = grid::run(&grid_args(points.clone(), out.clone()), &ctx()).unwrap_err();
     let msg = format!("{err:#}");
-    assert!(msg.contains("obs.csv") && msg.contains("line 402: longitude 400"), "{msg}");
+    assert!(
+        msg.contains("obs.csv") && msg.contains("line 402: longitude 400"),
+        "{msg}"
+    );
     assert_eq!(kugel::exit_code_for(&err), 3);
     assert!(!out.exists());
-    let leftovers: Vec<_> = std::fs::read_dir(dir.path()).unwrap().map(|e| e.unwrap().file_name()).collect();
+    let leftovers: Vec<_> = std::fs::read_dir(dir.path())
+        .unwrap()
+        .map(|e| e.unwrap().file_name())
+        .collect();
     assert_eq!(leftovers.len(), 1, "{leftovers:?}");
     // the output may never be the input
     let err = grid::run(&grid_args(points.clone(), points.clone()), &ctx()).unwrap_err();
@@ -98,9 +119,17 @@ fn fit_writes_model_with_sigmas() {
     assert_eq!(model.lmax(), 4);
     assert_eq!(model.reference_radius_m, 6_371_000.0);
     // value = 3z² − 1 = (2/√5) P̄_20: C_20 = 2/√5 (closed form of P̄_20, any geodesy text)
-    assert!((model.c(2, 0) - 2.0 / 5f64.sqrt()).abs() < 1e-6, "{}", model.c(2, 0));
+    assert!(
+        (model.c(2, 0) - 2.0 / 5f64.sqrt()).abs() < 1e-6,
+        "{}",
+        model.c(2, 0)
+    );
     assert!(model.sigma(2, 0).unwrap().0 > 0.0);
-    let bad = fit::Args { regularization: "ridge:1".into(), output: dir.path().join("x.nc"), ..args };
+    let bad = fit::Args {
+        regularization: "ridge:1".into(),
+        output: dir.path().join("x.nc"),
+        ..args
+    };
     assert!(format!("{:#}", fit::run(&bad, &ctx()).unwrap_err()).contains("expected none, damping"));
     assert!(!dir.path().join("x.nc").exists());
 }

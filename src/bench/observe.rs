@@ -11,7 +11,9 @@ use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 
 use crate::observe::gaps::GapPolicy;
-use crate::observe::gridding::{default_radius_km, grid_points, GriddingMethod, GriddingOptions, EARTH_MEAN_RADIUS_M};
+use crate::observe::gridding::{
+    default_radius_km, grid_points, GriddingMethod, GriddingOptions, EARTH_MEAN_RADIUS_M,
+};
 use crate::observe::lsq::{fit, FitOptions, Regularization};
 use crate::observe::points::PointSet;
 
@@ -29,7 +31,11 @@ pub struct ObserveBenchArgs {
 /// plus N(0, 0.01²) noise, σ = 0.01.
 pub fn synthetic_points(n: usize, seed: u64) -> PointSet {
     let mut rng = ChaCha8Rng::seed_from_u64(seed);
-    let (mut lat, mut lon, mut value) = (Vec::with_capacity(n), Vec::with_capacity(n), Vec::with_capacity(n));
+    let (mut lat, mut lon, mut value) = (
+        Vec::with_capacity(n),
+        Vec::with_capacity(n),
+        Vec::with_capacity(n),
+    );
     for _ in 0..n {
         let z: f64 = rng.gen_range(-1.0..1.0);
         let o: f64 = rng.gen_range(-180.0..180.0);
@@ -37,9 +43,19 @@ pub fn synthetic_points(n: usize, seed: u64) -> PointSet {
         let noise: f64 = rng.sample::<f64, _>(rand_distr::StandardNormal) * 0.01;
         lat.push(z.asin().to_degrees());
         lon.push(o);
-        value.push(0.8 * (3.0 * t * t - 1.0) + 0.5 * u * (5.0 * t * t - 1.0) * o.to_radians().cos() + noise);
+        value.push(
+            0.8 * (3.0 * t * t - 1.0)
+                + 0.5 * u * (5.0 * t * t - 1.0) * o.to_radians().cos()
+                + noise,
+        );
     }
-    PointSet { lat_deg: lat, lon_deg: lon, value, sigma: Some(vec![0.01; n]), source_lines: (0..n).collect() }
+    PointSet {
+        lat_deg: lat,
+        lon_deg: lon,
+        value,
+        sigma: Some(vec![0.01; n]),
+        source_lines: (0..n).collect(),
+    }
 }
 
 fn print_result(args: &ObserveBenchArgs, case: &str, seconds: &[f64], extra: &[(&str, String)]) {
@@ -97,7 +113,10 @@ pub fn run_gridding_bench(args: &ObserveBenchArgs) -> anyhow::Result<()> {
 /// residuals (no regularisation).
 pub fn run_fit_bench(args: &ObserveBenchArgs) -> anyhow::Result<()> {
     let points = synthetic_points(args.points, args.seed);
-    let options = FitOptions { regularization: Regularization::None, body_radius_m: EARTH_MEAN_RADIUS_M };
+    let options = FitOptions {
+        regularization: Regularization::None,
+        body_radius_m: EARTH_MEAN_RADIUS_M,
+    };
     let mut seconds = Vec::new();
     let mut extra = Vec::new();
     for _ in 0..args.repeat.max(1) {
@@ -107,7 +126,10 @@ pub fn run_fit_bench(args: &ObserveBenchArgs) -> anyhow::Result<()> {
         extra = vec![
             ("chi2_per_dof", format!("{:.4}", result.chi2_per_dof)),
             ("residual_rms", format!("{:.4e}", result.residual_rms)),
-            ("condition_estimate", format!("{:.3e}", result.condition_estimate)),
+            (
+                "condition_estimate",
+                format!("{:.3e}", result.condition_estimate),
+            ),
         ];
     }
     print_result(args, "fit", &seconds, &extra);
@@ -120,7 +142,13 @@ mod tests {
 
     #[test]
     fn small_benchmarks_run() {
-        let args = ObserveBenchArgs { points: 2000, lmax: 8, repeat: 1, json: true, seed: 1 };
+        let args = ObserveBenchArgs {
+            points: 2000,
+            lmax: 8,
+            repeat: 1,
+            json: true,
+            seed: 1,
+        };
         run_gridding_bench(&args).unwrap();
         run_fit_bench(&args).unwrap();
     }
