@@ -24,8 +24,3 @@ pub struct CommandContext {
     pub quiet: bool,
     pub verbose: bool,
 }
-
-/// Placeholder used while a command is being built: fails loudly, never pretends.
-pub(crate) fn not_yet(name: &str) -> anyhow::Result<()> {
-    anyhow::bail!("`kugel {name}` is not available in this build yet")
-}

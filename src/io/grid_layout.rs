@@ -90,17 +90,16 @@ pub fn latitude_axis(lat_deg: &[f64], what: &str, claimed_gauss: bool) -> Result
             .fold(0.0, f64::max)
     };
 
-    let (x, w) = gauss_legendre::nodes_and_weights(n);
-    let gauss_lat: Vec<f64> = x
-        .iter()
-        .map(|&xi| 90.0 - xi.clamp(-1.0, 1.0).acos().to_degrees())
-        .collect();
+    // the same colatitudes and weights as `GaussGrid::new`, so a kugel Gauss grid read back is
+    // bit-identical to the one it was synthesised on
+    let (theta, w) = gauss_legendre::colatitudes_and_weights(n);
+    let gauss_lat: Vec<f64> = theta.iter().map(|&t| 90.0 - t.to_degrees()).collect();
     let gauss_diff = max_diff(&gauss_lat);
     if gauss_diff < tol {
         return Ok(LatitudeAxis {
             order,
             kind: GridKind::Gauss,
-            colatitude_rad: x.iter().map(|&xi| xi.clamp(-1.0, 1.0).acos()).collect(),
+            colatitude_rad: theta,
             weights: w,
             max_degree: n - 1,
         });
