@@ -3,28 +3,15 @@
 //! of degree ≤ 2L + 1 exactly, so analysis inverts synthesis for band-limited fields
 //! (common practice; CONVENTIONS.md §4).
 
-use kugel::coeffs::{Coefficients, Normalization};
+use kugel::coeffs::Coefficients;
 use kugel::sht::grid::{Grid, GridKind};
 use kugel::sht::reference;
 use kugel::sht::{GaussGrid, KernelPath, TransformPlan};
 
-/// Deterministic pseudo-random coefficients in [−1, 1) (a small LCG; no test depends on the
-/// particular values).
-pub fn sample(lmax: usize, seed: u64) -> Coefficients {
-    let mut state = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
-    let mut next = move || {
-        state = state.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
-        ((state >> 11) as f64 / (1u64 << 53) as f64) * 2.0 - 1.0
-    };
-    let mut c = Coefficients::zeros(lmax, Normalization::Geodesy);
-    for l in 0..=lmax {
-        for m in 0..=l {
-            let (a, b) = (next(), next());
-            c.set(l, m, a, b);
-        }
-    }
-    c
+mod common {
+    include!("sht_common/sample.rs");
 }
+use common::sample;
 
 fn max_abs_diff(a: &Coefficients, b: &Coefficients) -> f64 {
     a.c_packed()
@@ -40,7 +27,10 @@ fn max_abs(a: &ndarray::Array2<f64>) -> f64 {
 }
 
 fn max_grid_diff(a: &ndarray::Array2<f64>, b: &ndarray::Array2<f64>) -> f64 {
-    a.iter().zip(b).map(|(x, y)| (x - y).abs()).fold(0.0, f64::max)
+    a.iter()
+        .zip(b)
+        .map(|(x, y)| (x - y).abs())
+        .fold(0.0, f64::max)
 }
 
 #[test]
@@ -51,7 +41,10 @@ fn fast_round_trip_every_path_and_degree() {
         let grid = GaussGrid::new(lmax);
         let c = sample(lmax, lmax as u64);
         for path in KernelPath::available() {
-            let plan = TransformPlan::new(lmax, &grid).unwrap().with_kernel_path(path).unwrap();
+            let plan = TransformPlan::new(lmax, &grid)
+                .unwrap()
+                .with_kernel_path(path)
+                .unwrap();
             assert!(plan.is_symmetric());
             let f = plan.synthesise(&c).unwrap();
             let back = plan.analyse(&f).unwrap();
@@ -75,7 +68,10 @@ fn fast_matches_reference_synthesis_and_analysis() {
     let c_ref = reference::analyse(lmax, &grid, &f_ref).unwrap();
     for path in KernelPath::available() {
         for symmetric in [true, false] {
-            let mut plan = TransformPlan::new(lmax, &grid).unwrap().with_kernel_path(path).unwrap();
+            let mut plan = TransformPlan::new(lmax, &grid)
+                .unwrap()
+                .with_kernel_path(path)
+                .unwrap();
             if !symmetric {
                 plan = plan.without_symmetry();
             }
@@ -105,7 +101,9 @@ fn gradient_matches_reference_including_poles() {
     let c = sample(lmax, 11);
     // a grid with pole rows: equally spaced colatitudes including θ = 0 and π
     let nlat = 33;
-    let theta: Vec<f64> = (0..nlat).map(|j| std::f64::consts::PI * j as f64 / (nlat - 1) as f64).collect();
+    let theta: Vec<f64> = (0..nlat)
+        .map(|j| std::f64::consts::PI * j as f64 / (nlat - 1) as f64)
+        .collect();
     let poles = Grid {
         kind: GridKind::Custom,
         colatitude_rad: theta,
@@ -120,7 +118,15 @@ fn gradient_matches_reference_including_poles() {
         let dt_ref = reference::synthesise(&c, &grid, reference::Quantity::DTheta);
         let dl_ref = reference::synthesise(&c, &grid, reference::Quantity::DLambdaOverSin);
         let s = max_abs(&dt_ref).max(max_abs(&dl_ref));
-        assert!(max_grid_diff(&dt, &dt_ref) < 1e-11 * s, "dθ {}", max_grid_diff(&dt, &dt_ref) / s);
-        assert!(max_grid_diff(&dl, &dl_ref) < 1e-11 * s, "dλ {}", max_grid_diff(&dl, &dl_ref) / s);
+        assert!(
+            max_grid_diff(&dt, &dt_ref) < 1e-11 * s,
+            "dθ {}",
+            max_grid_diff(&dt, &dt_ref) / s
+        );
+        assert!(
+            max_grid_diff(&dl, &dl_ref) < 1e-11 * s,
+            "dλ {}",
+            max_grid_diff(&dl, &dl_ref) / s
+        );
     }
 }

@@ -1,3 +1,4 @@
 //! Benchmarks behind `kugel bench`: each case in its own file, printing a table or one JSON line.
 
 pub mod observe;
+pub mod transform;

@@ -1,10 +1,75 @@
-//! `kugel bench`.
+//! `kugel bench`: speed, accuracy and memory of the transforms (and of the scattered-data
+//! steps), for checking the project's performance goals.
 
 use super::CommandContext;
+use crate::bench::observe::{run_fit_bench, run_gridding_bench, ObserveBenchArgs};
+use crate::bench::transform::{print_result, run_transform_bench, TransformBenchArgs};
+
+/// Which benchmark to run.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum Case {
+    /// Synthesis then analysis on the Gauss grid of degree L.
+    Transform,
+    /// Gridding of scattered observations.
+    Grid,
+    /// Least-squares fit of scattered observations.
+    Fit,
+}
 
 #[derive(Debug, clap::Args)]
-pub struct Args {}
+pub struct Args {
+    /// Band limit (maximum degree) L.
+    #[arg(long)]
+    pub lmax: usize,
+    /// Worker threads (default: all cores).
+    #[arg(long, default_value_t = 0)]
+    pub threads: usize,
+    /// Repeats; the median time is reported.
+    #[arg(long, default_value_t = 3)]
+    pub repeat: usize,
+    /// Print exactly one JSON object on one line.
+    #[arg(long)]
+    pub json: bool,
+    /// What to benchmark.
+    #[arg(long, value_enum, default_value_t = Case::Transform)]
+    pub case: Case,
+    /// Number of scattered points (grid and fit cases).
+    #[arg(long, default_value_t = 100_000)]
+    pub points: usize,
+    /// Seed of the random inputs.
+    #[arg(long, default_value_t = 20_260_101)]
+    pub seed: u64,
+}
 
-pub fn run(_args: &Args, _ctx: &CommandContext) -> anyhow::Result<()> {
-    super::not_yet("bench")
+pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
+    if args.repeat == 0 {
+        anyhow::bail!("--repeat must be at least 1");
+    }
+    match args.case {
+        Case::Transform => {
+            let r = run_transform_bench(&TransformBenchArgs {
+                lmax: args.lmax,
+                threads: args.threads,
+                repeat: args.repeat,
+                json: args.json,
+                seed: args.seed,
+                quiet: ctx.quiet,
+            })?;
+            print_result(&r, args.json)
+        }
+        Case::Grid | Case::Fit => {
+            let o = ObserveBenchArgs {
+                points: args.points,
+                lmax: args.lmax,
+                repeat: args.repeat,
+                json: args.json,
+                seed: args.seed,
+            };
+            if args.case == Case::Grid {
+                run_gridding_bench(&o)
+            } else {
+                run_fit_bench(&o)
+            }
+        }
+    }
 }

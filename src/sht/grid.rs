@@ -55,12 +55,17 @@ impl Grid {
     }
 
     pub fn longitudes_deg(&self) -> Vec<f64> {
-        (0..self.nlon).map(|k| self.longitude_rad(k).to_degrees()).collect()
+        (0..self.nlon)
+            .map(|k| self.longitude_rad(k).to_degrees())
+            .collect()
     }
 
     /// Latitudes of the rows in degrees (north to south, engine order).
     pub fn latitudes_deg(&self) -> Vec<f64> {
-        self.colatitude_rad.iter().map(|&t| 90.0 - t.to_degrees()).collect()
+        self.colatitude_rad
+            .iter()
+            .map(|&t| 90.0 - t.to_degrees())
+            .collect()
     }
 
     /// Checks that a field array has this grid's shape.

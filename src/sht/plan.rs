@@ -14,6 +14,7 @@
 //!   and transforms the row in place, so no nlat × (L+1) complex array is held beside the grid.
 //!   Analysis processes the rings in chunks whose spectra fit a fixed budget.
 
+use std::borrow::Cow;
 use std::ops::Range;
 use std::sync::Arc;
 
@@ -77,6 +78,15 @@ impl TransformPlan {
                 grid.colatitude_rad[j]
             )));
         }
+        // Refuse before planning anything: a plan is only useful if one field and one
+        // coefficient set of its shape fit in memory.
+        let (nlat, nlon) = (grid.nlat() as f64, grid.nlon as f64);
+        let l1 = lmax as f64 + 1.0;
+        let estimate = nlat * nlon * 8.0 + l1 * (l1 + 1.0) * 8.0 + nlon * 48.0;
+        memory::check_fits(
+            &format!("a transform to degree {lmax} on a {} x {} grid (one field and one coefficient set)", grid.nlat(), grid.nlon),
+            estimate.min(u64::MAX as f64) as u64,
+        )?;
         let mut planner = RealFftPlanner::<f64>::new();
         let symmetric = is_symmetric(grid);
         Ok(TransformPlan {
@@ -207,17 +217,19 @@ impl TransformPlan {
         for chunk in lanes.chunks(chunk_lanes.max(1)) {
             // Fourier stage: weighted, rotated half-spectra of the chunk's rings.
             let used = &mut spectra[..chunk.len() * 2 * stride];
-            used.par_chunks_mut(2 * stride).zip(chunk.par_iter()).for_each_init(
-                || RingScratch::new(&*self.forward, &*self.inverse),
-                |rs, (dst, lane)| {
-                    let (north, south) = dst.split_at_mut(stride);
-                    self.ring_spectrum(data, lane.north, scale, rs, north);
-                    match lane.south {
-                        Some(row) => self.ring_spectrum(data, row, scale, rs, south),
-                        None => south.iter_mut().for_each(|z| *z = Complex64::new(0.0, 0.0)),
-                    }
-                },
-            );
+            used.par_chunks_mut(2 * stride)
+                .zip(chunk.par_iter())
+                .for_each_init(
+                    || RingScratch::new(&*self.forward, &*self.inverse),
+                    |rs, (dst, lane)| {
+                        let (north, south) = dst.split_at_mut(stride);
+                        self.ring_spectrum(data, lane.north, scale, rs, north);
+                        match lane.south {
+                            Some(row) => self.ring_spectrum(data, row, scale, rs, south),
+                            None => south.iter_mut().for_each(|z| *z = Complex64::new(0.0, 0.0)),
+                        }
+                    },
+                );
             // Legendre stage: one task per order.
             let job = AnalysisJob {
                 lmax,
@@ -228,16 +240,23 @@ impl TransformPlan {
                 s: sp,
             };
             let path = self.path;
-            (0..lmax + 1)
-                .into_par_iter()
-                .with_max_len(1)
-                .for_each_init(|| OrderScratch::new(lmax), |sc, m| dispatch::analysis(path, &job, m, sc));
+            (0..lmax + 1).into_par_iter().with_max_len(1).for_each_init(
+                || OrderScratch::new(lmax),
+                |sc, m| dispatch::analysis(path, &job, m, sc),
+            );
         }
         Ok(out)
     }
 
     /// H_m = w_j/(2 nlon) e^{−imλ_0} X_m for one row (X = the row's forward real FFT).
-    fn ring_spectrum(&self, data: &[f64], row: usize, scale: f64, rs: &mut RingScratch, out: &mut [Complex64]) {
+    fn ring_spectrum(
+        &self,
+        data: &[f64],
+        row: usize,
+        scale: f64,
+        rs: &mut RingScratch,
+        out: &mut [Complex64],
+    ) {
         let nlon = self.grid.nlon;
         rs.real.copy_from_slice(&data[row * nlon..(row + 1) * nlon]);
         self.forward
@@ -257,10 +276,23 @@ impl TransformPlan {
             let s_in = lane.south.is_some_and(|s| rows.contains(&s));
             match (n_in, s_in) {
                 (true, true) => out.push(*lane),
-                (true, false) => out.push(Lane { south: None, ..*lane }.as_single(&self.grid)),
+                (true, false) => out.push(
+                    Lane {
+                        south: None,
+                        ..*lane
+                    }
+                    .as_single(&self.grid),
+                ),
                 (false, true) => {
                     let s = lane.south.expect("checked");
-                    out.push(Lane { north: s, south: None, ..*lane }.as_single(&self.grid))
+                    out.push(
+                        Lane {
+                            north: s,
+                            south: None,
+                            ..*lane
+                        }
+                        .as_single(&self.grid),
+                    )
                 }
                 (false, false) => {}
             }
@@ -276,7 +308,11 @@ impl TransformPlan {
 
     /// The part of the synthesis carried by orders `orders`: summing the fields over disjoint
     /// order ranges gives [`TransformPlan::synthesise`] (a seam for sharding).
-    pub fn synthesise_orders(&self, coeffs: &Coefficients, orders: Range<usize>) -> Result<Array2<f64>> {
+    pub fn synthesise_orders(
+        &self,
+        coeffs: &Coefficients,
+        orders: Range<usize>,
+    ) -> Result<Array2<f64>> {
         let g = self.prepared(coeffs, 1)?;
         let mut out = self.allocate_grid()?;
         self.legendre_synthesis(&g, orders, false, &mut out, None);
@@ -290,7 +326,13 @@ impl TransformPlan {
         let g = self.prepared(coeffs, 2)?;
         let mut d_theta = self.allocate_grid()?;
         let mut d_lambda = self.allocate_grid()?;
-        self.legendre_synthesis(&g, 0..self.lmax + 1, true, &mut d_theta, Some(&mut d_lambda));
+        self.legendre_synthesis(
+            &g,
+            0..self.lmax + 1,
+            true,
+            &mut d_theta,
+            Some(&mut d_lambda),
+        );
         self.pole_gradient_rows(&g, &mut d_theta, &mut d_lambda);
         self.inverse_rings(&mut d_theta);
         self.inverse_rings(&mut d_lambda);
@@ -301,7 +343,12 @@ impl TransformPlan {
         Ok(Array2::zeros(self.grid.shape()))
     }
 
-    fn prepared(&self, coeffs: &Coefficients, outputs: usize) -> Result<Coefficients> {
+    /// The input as `geodesy` coefficients of the plan's degree, borrowed when it already is.
+    fn prepared<'c>(
+        &self,
+        coeffs: &'c Coefficients,
+        outputs: usize,
+    ) -> Result<Cow<'c, Coefficients>> {
         coeffs.check_finite()?;
         memory::check_fits(
             &format!(
@@ -312,8 +359,18 @@ impl TransformPlan {
             ),
             self.synthesis_bytes(outputs),
         )?;
+        if coeffs.normalization == Normalization::Geodesy
+            && !coeffs.condon_shortley
+            && coeffs.lmax() == self.lmax
+        {
+            return Ok(Cow::Borrowed(coeffs));
+        }
         let g = coeffs.to_geodesy()?;
-        Ok(if g.lmax() == self.lmax { g } else { g.resized(self.lmax) })
+        Ok(Cow::Owned(if g.lmax() == self.lmax {
+            g
+        } else {
+            g.resized(self.lmax)
+        }))
     }
 
     fn legendre_synthesis(
@@ -347,15 +404,20 @@ impl TransformPlan {
         let path = self.path;
         let lmax = self.lmax;
         let orders = orders.start.min(lmax + 1)..orders.end.min(lmax + 1);
-        orders
-            .into_par_iter()
-            .with_max_len(1)
-            .for_each_init(|| OrderScratch::new(lmax), |sc, m| dispatch::synth(path, grad, &job, m, sc));
+        orders.into_par_iter().with_max_len(1).for_each_init(
+            || OrderScratch::new(lmax),
+            |sc, m| dispatch::synth(path, grad, &job, m, sc),
+        );
     }
 
     /// Gradient Fourier columns of rows at the poles: only order 1 survives, with
     /// lim P̄_l1/sin θ = ±dP̄_l1/dθ = sqrt((2l+1) l(l+1)/2) up to the sign at the south pole.
-    fn pole_gradient_rows(&self, g: &Coefficients, d_theta: &mut Array2<f64>, d_lambda: &mut Array2<f64>) {
+    fn pole_gradient_rows(
+        &self,
+        g: &Coefficients,
+        d_theta: &mut Array2<f64>,
+        d_lambda: &mut Array2<f64>,
+    ) {
         if self.lmax == 0 {
             return;
         }
@@ -402,7 +464,9 @@ impl TransformPlan {
         data.par_chunks_mut(nlon).for_each_init(
             || RingScratch::new(&*self.forward, &*self.inverse),
             |rs, row| {
-                rs.spectrum.iter_mut().for_each(|z| *z = Complex64::new(0.0, 0.0));
+                rs.spectrum
+                    .iter_mut()
+                    .for_each(|z| *z = Complex64::new(0.0, 0.0));
                 rs.spectrum[0] = Complex64::new(row[0], 0.0);
                 for m in 1..=lmax {
                     rs.spectrum[m] = Complex64::new(row[2 * m - 1], row[2 * m]);

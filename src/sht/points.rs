@@ -27,11 +27,9 @@ pub struct PointValue {
 /// Evaluates `coeffs` (any normalisation) at points given as (colatitude, longitude) in radians.
 pub fn evaluate_points(coeffs: &Coefficients, points: &[(f64, f64)]) -> Result<Vec<PointValue>> {
     coeffs.check_finite()?;
-    if let Some((i, p)) = points
-        .iter()
-        .enumerate()
-        .find(|(_, (t, l))| !t.is_finite() || !l.is_finite() || *t < 0.0 || *t > std::f64::consts::PI)
-    {
+    if let Some((i, p)) = points.iter().enumerate().find(|(_, (t, l))| {
+        !t.is_finite() || !l.is_finite() || *t < 0.0 || *t > std::f64::consts::PI
+    }) {
         return Err(Error::invalid(format!(
             "point {i}: (colatitude {}, longitude {}) rad is not a valid position (colatitude in [0, π], both finite)",
             p.0, p.1
@@ -41,7 +39,10 @@ pub fn evaluate_points(coeffs: &Coefficients, points: &[(f64, f64)]) -> Result<V
     let factors = sectoral_factors(g.lmax());
     Ok(points
         .par_iter()
-        .map_init(|| PointScratch::new(g.lmax()), |sc, &(theta, lambda)| evaluate_one(&g, &factors, sc, theta, lambda))
+        .map_init(
+            || PointScratch::new(g.lmax()),
+            |sc, &(theta, lambda)| evaluate_one(&g, &factors, sc, theta, lambda),
+        )
         .collect())
 }
 
@@ -68,12 +69,30 @@ impl PointScratch {
     fn column(&mut self, m: usize, lmax: usize, t: f64, u: f64, c_m: f64, into_above: bool) {
         fill_coefficients(m, lmax, &mut self.a, &mut self.b);
         let n = lmax - m + 1;
-        let dst = if into_above { &mut self.above } else { &mut self.here };
-        column_with_coefficients(m, lmax, t, sectoral(m, c_m, u), &self.a, &self.b, &mut dst[..n]);
+        let dst = if into_above {
+            &mut self.above
+        } else {
+            &mut self.here
+        };
+        column_with_coefficients(
+            m,
+            lmax,
+            t,
+            sectoral(m, c_m, u),
+            &self.a,
+            &self.b,
+            &mut dst[..n],
+        );
     }
 }
 
-fn evaluate_one(g: &Coefficients, factors: &[f64], sc: &mut PointScratch, theta: f64, lambda: f64) -> PointValue {
+fn evaluate_one(
+    g: &Coefficients,
+    factors: &[f64],
+    sc: &mut PointScratch,
+    theta: f64,
+    lambda: f64,
+) -> PointValue {
     let lmax = g.lmax();
     let (t, u) = (theta.cos(), theta.sin().abs());
     let mut pv = PointValue::default();

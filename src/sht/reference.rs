@@ -24,9 +24,11 @@ pub fn analyse(lmax: usize, grid: &Grid, field: &Array2<f64>) -> Result<Coeffici
     let mut col = vec![0.0; lmax + 1];
     for j in 0..nlat {
         row.iter_mut().zip(field.row(j)).for_each(|(r, v)| *r = *v);
-        fft.process(&mut row, &mut spectrum).expect("sizes from the plan");
+        fft.process(&mut row, &mut spectrum)
+            .expect("sizes from the plan");
         let theta = grid.colatitude_rad[j];
-        let w = grid.weights[j] * (2.0 * std::f64::consts::PI / nlon as f64) / (4.0 * std::f64::consts::PI);
+        let w = grid.weights[j] * (2.0 * std::f64::consts::PI / nlon as f64)
+            / (4.0 * std::f64::consts::PI);
         for m in 0..=lmax {
             let g = spectrum[m] * Complex64::from_polar(1.0, -(m as f64) * grid.lon0_rad);
             legendre::column(m, lmax, theta.cos(), theta.sin().abs(), &mut col);
@@ -59,7 +61,9 @@ pub fn synthesise(g: &Coefficients, grid: &Grid, quantity: Quantity) -> Array2<f
     for j in 0..nlat {
         let theta = grid.colatitude_rad[j];
         let u = theta.sin().abs();
-        spectrum.iter_mut().for_each(|z| *z = Complex64::new(0.0, 0.0));
+        spectrum
+            .iter_mut()
+            .for_each(|z| *z = Complex64::new(0.0, 0.0));
         for m in 0..=lmax {
             let (p, d) = legendre::column_with_derivative(m, lmax, theta);
             let (mut a, mut b) = (0.0, 0.0);
@@ -72,7 +76,11 @@ pub fn synthesise(g: &Coefficients, grid: &Grid, quantity: Quantity) -> Array2<f
                             m as f64 * p[l - m] / u
                         } else if m == 1 {
                             // lim P̄_l1 / sin θ: +dP̄_l1/dθ at the north pole, − at the south
-                            if theta < 1.0 { d[l - m] } else { -d[l - m] }
+                            if theta < 1.0 {
+                                d[l - m]
+                            } else {
+                                -d[l - m]
+                            }
                         } else {
                             0.0
                         }
@@ -85,11 +93,16 @@ pub fn synthesise(g: &Coefficients, grid: &Grid, quantity: Quantity) -> Array2<f
                 (a, b) = (b, -a);
             }
             let half = if m == 0 { 1.0 } else { 0.5 };
-            spectrum[m] = Complex64::new(a * half, -b * half) * Complex64::from_polar(1.0, m as f64 * grid.lon0_rad);
+            spectrum[m] = Complex64::new(a * half, -b * half)
+                * Complex64::from_polar(1.0, m as f64 * grid.lon0_rad);
         }
         spectrum[0].im = 0.0;
-        ifft.process(&mut spectrum, &mut row).expect("sizes from the plan");
-        out.row_mut(j).iter_mut().zip(&row).for_each(|(o, r)| *o = *r);
+        ifft.process(&mut spectrum, &mut row)
+            .expect("sizes from the plan");
+        out.row_mut(j)
+            .iter_mut()
+            .zip(&row)
+            .for_each(|(o, r)| *o = *r);
     }
     out
 }

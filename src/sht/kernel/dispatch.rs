@@ -63,10 +63,14 @@ impl KernelPath {
 
     /// Every path this CPU can run.
     pub fn available() -> Vec<KernelPath> {
-        [KernelPath::Portable, KernelPath::Avx2Fma, KernelPath::Avx512]
-            .into_iter()
-            .filter(|p| p.is_supported())
-            .collect()
+        [
+            KernelPath::Portable,
+            KernelPath::Avx2Fma,
+            KernelPath::Avx512,
+        ]
+        .into_iter()
+        .filter(|p| p.is_supported())
+        .collect()
     }
 
     pub fn name(self) -> &'static str {

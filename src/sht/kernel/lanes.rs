@@ -25,7 +25,10 @@ pub struct Lane {
 pub fn is_symmetric(grid: &Grid) -> bool {
     let n = grid.nlat();
     let tol = 8.0 * f64::EPSILON * std::f64::consts::PI;
-    (0..n).all(|j| (grid.colatitude_rad[j] + grid.colatitude_rad[n - 1 - j] - std::f64::consts::PI).abs() <= tol)
+    (0..n).all(|j| {
+        (grid.colatitude_rad[j] + grid.colatitude_rad[n - 1 - j] - std::f64::consts::PI).abs()
+            <= tol
+    })
 }
 
 /// The lanes of a grid, equator first. `symmetric` pairs mirror rings.

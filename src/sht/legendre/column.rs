@@ -16,7 +16,15 @@ pub fn column(m: usize, lmax: usize, t: f64, u: f64, out: &mut [f64]) {
     let mut a = vec![0.0; lmax + 1];
     let mut b = vec![0.0; lmax + 1];
     fill_coefficients(m, lmax, &mut a, &mut b);
-    column_with_coefficients(m, lmax, t, sectoral(m, sectoral_factor(m), u), &a, &b, &mut out[..n]);
+    column_with_coefficients(
+        m,
+        lmax,
+        t,
+        sectoral(m, sectoral_factor(m), u),
+        &a,
+        &b,
+        &mut out[..n],
+    );
 }
 
 /// As [`column`] with precomputed a_lm, b_lm (indexed by l) and the sectoral X-number.

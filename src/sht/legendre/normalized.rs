@@ -14,7 +14,11 @@ use super::column::{column, column_with_derivative, derivative_from_neighbours};
 /// Multiplies a `geodesy` value by N/N̄ and the phase, in logarithms where the factor is large.
 #[inline]
 fn rescale(v: f64, l: usize, m: usize, norm: Normalization, condon_shortley: bool) -> f64 {
-    let sign = if condon_shortley && m % 2 == 1 { -1.0 } else { 1.0 };
+    let sign = if condon_shortley && m % 2 == 1 {
+        -1.0
+    } else {
+        1.0
+    };
     if norm == Normalization::Geodesy || v == 0.0 {
         return sign * v;
     }
@@ -35,7 +39,13 @@ pub struct LegendreValue {
 }
 
 /// P_lm(cos θ) in normalisation `norm`, with (−1)^m when `condon_shortley` is set.
-pub fn associated(l: usize, m: usize, theta_rad: f64, norm: Normalization, condon_shortley: bool) -> f64 {
+pub fn associated(
+    l: usize,
+    m: usize,
+    theta_rad: f64,
+    norm: Normalization,
+    condon_shortley: bool,
+) -> f64 {
     assert!(m <= l, "order m = {m} exceeds degree l = {l}");
     let mut col = vec![0.0; l - m + 1];
     column(m, l, theta_rad.cos(), theta_rad.sin().abs(), &mut col);

@@ -34,7 +34,10 @@ impl XNumber {
     #[inline]
     pub fn normalized(mut self) -> Self {
         if self.mant == 0.0 || !self.mant.is_finite() {
-            return XNumber { mant: self.mant, k: 0 };
+            return XNumber {
+                mant: self.mant,
+                k: 0,
+            };
         }
         while self.mant.abs() >= BIG_SQRT {
             self.mant *= BIG_INV;
