@@ -49,6 +49,15 @@ fn convert_round_trip_through_normalisations() {
     }
     assert_eq!(g.reference_radius_m, 6378137.0);
     assert_eq!(g.units, "m");
+    // the history keeps both steps, newest first (common practice of NetCDF tools)
+    let h = &g.attributes["history"];
+    assert_eq!(h.matches("convert").count(), 2, "{h}");
+    assert!(
+        h.find("back.txt").unwrap()
+            < h.find("m_schmidt.nc --normalization schmidt")
+                .unwrap_or(usize::MAX),
+        "{h}"
+    );
     // orthonormal with the phase on flips odd orders
     let o = dir.path().join("o.txt");
     assert!(

@@ -129,6 +129,11 @@ fn awkward_packed_classic_and_netcdf4_grids() {
             "{:?}",
             g.notes
         );
+        assert!(
+            !g.notes.iter().any(|n| n.contains("differs")),
+            "{:?}",
+            g.notes
+        );
         // tolerance 1e-4: int16 packing with scale 1e-4 (rounding error ≤ 5e-5 per cell)
         check_coefficients(&p, &GridReadOptions::default(), 6, 1e-4);
         let err = g.check_degree(19).unwrap_err().to_string();
@@ -411,5 +416,32 @@ fn masked_cells_point_to_gap_policies() {
             && err.contains("--gaps")
             && err.contains("latitude 40.0000, longitude 70.0000"),
         "{err}"
+    );
+}
+
+#[test]
+fn inconsistent_wrap_column_is_noted() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("wrap.nc");
+    let (lat, lon) = (deg_range(-90.0, 10.0, 19), deg_range(0.0, 10.0, 37));
+    let mut b = NcFileBuilder::new();
+    let dy = b.add_dimension("lat", 19).unwrap();
+    let dx = b.add_dimension("lon", 37).unwrap();
+    let vy = b.add_variable::<f64>("lat", &[dy]).unwrap();
+    b.write_variable(vy, &lat).unwrap();
+    let vx = b.add_variable::<f64>("lon", &[dx]).unwrap();
+    b.write_variable(vx, &lon).unwrap();
+    let v = b.add_variable::<f64>("ramp", &[dy, dx]).unwrap();
+    let data: Vec<f64> = lat.iter().flat_map(|_| lon.iter().copied()).collect();
+    b.write_variable(v, &data).unwrap();
+    std::fs::write(&p, b.to_vec(NcWriteOptions::classic()).unwrap().1).unwrap();
+    let g = read_grid(&p, &GridReadOptions::default()).unwrap();
+    assert_eq!(g.grid.nlon, 36);
+    assert!(
+        g.notes
+            .iter()
+            .any(|n| n.contains("differs") && n.contains("3.6e2")),
+        "{:?}",
+        g.notes
     );
 }

@@ -166,3 +166,31 @@ fn comparison_table_has_the_documented_columns() {
         assert_eq!(col.values.len(), 31);
     }
 }
+
+#[test]
+fn difference_power_of_two_noisy_surveys_matches_their_error_degree_variance() {
+    // Two surveys of one truth with independent noise of known sigma: D_l/(E^A_l + E^B_l) is
+    // χ²(2l+1)/(2l+1) distributed (common practice), so its mean over many degrees is 1.
+    let lmax = 200;
+    let truth = random_model(lmax, 21, variance);
+    let (sa, sb) = (2e-8, 3e-8);
+    let mut a = truth.clone();
+    a.add_scaled(&random_model(lmax, 22, |_| 1.0), sa).unwrap();
+    let mut b = truth.clone();
+    b.add_scaled(&random_model(lmax, 23, |_| 1.0), sb).unwrap();
+    let n = kugel::coeffs::packed_len(lmax);
+    a.set_sigmas(vec![sa; n], vec![sa; n]).unwrap();
+    b.set_sigmas(vec![sb; n], vec![sb; n]).unwrap();
+    let cmp = Comparison::compute(&a, &b, &CompareOptions::default()).unwrap();
+    let e = cmp.difference_error_degree_variance.as_ref().unwrap();
+    let ratios: Vec<f64> = (1..=lmax)
+        .map(|l| cmp.difference_degree_variance[l] / e[l])
+        .collect();
+    let mean = ratios.iter().sum::<f64>() / ratios.len() as f64;
+    eprintln!("mean D_l / E_l over degrees 1-{lmax}: {mean}");
+    // sd of the mean ≈ sqrt(mean of 2/(2l+1)) / sqrt(200) ≈ 0.009
+    assert!((mean - 1.0).abs() < 0.04, "mean ratio {mean}");
+    assert!((e[10] - 21.0 * (sa * sa + sb * sb)).abs() < 1e-12 * e[10]);
+    let table = cmp.to_table();
+    assert!(table.column("difference_error_degree_variance").is_some());
+}

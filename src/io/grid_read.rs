@@ -389,6 +389,26 @@ pub fn read_grid(path: &Path, options: &GridReadOptions) -> Result<UserGrid> {
             field[[r, c]] = v;
         }
     }
+    if lon_axis.dropped_wrap_column {
+        // the file column left out of the eastward order is the duplicate of the first one
+        let first = lon_axis.order[0];
+        let last = (0..nlon_file).sum::<usize>() - lon_axis.order.iter().sum::<usize>();
+        let worst = lat_axis
+            .order
+            .iter()
+            .map(|&i| (at(i, first) - at(i, last)).abs())
+            .filter(|d| !d.is_nan())
+            .fold(0.0, f64::max);
+        let scale = field
+            .iter()
+            .filter(|v| v.is_finite())
+            .fold(0.0f64, |a, v| a.max(v.abs()));
+        if worst > 1e-6 * scale.max(f64::MIN_POSITIVE) {
+            notes.push(format!(
+                "the wrap-around column differs from the first column by up to {worst:e}; the first was kept"
+            ));
+        }
+    }
     let mask = field.mapv(f64::is_nan);
     let attributes: Vec<(String, String)> = var
         .attributes()

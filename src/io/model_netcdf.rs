@@ -92,7 +92,12 @@ pub fn write_model_netcdf(
         .get("title")
         .cloned()
         .unwrap_or_else(|| "spherical-harmonic coefficient model".to_string());
-    nc::add_globals(&mut b, path, &title, provenance, &[])?;
+    let previous: Vec<(String, String)> = coeffs
+        .attributes
+        .get("history")
+        .map(|h| vec![("history".to_string(), h.clone())])
+        .unwrap_or_default();
+    nc::add_globals(&mut b, path, &title, provenance, &previous)?;
     let put = |b: &mut NcFileBuilder, name: &str, v: NcAttrValue| {
         b.add_attribute(name, v)
             .map_err(|e| nc::write_error(path, e))
@@ -243,7 +248,9 @@ fn check_finite_named(coeffs: &Coefficients, path: &Path) -> Result<()> {
 fn carried_attributes(globals: &[netcdf_reader::NcAttribute]) -> BTreeMap<String, String> {
     globals
         .iter()
-        .filter(|a| !RESERVED.contains(&a.name.as_str()) || a.name == "title")
+        .filter(|a| {
+            !RESERVED.contains(&a.name.as_str()) || a.name == "title" || a.name == "history"
+        })
         .map(|a| (a.name.clone(), nc::as_text(&a.value)))
         .collect()
 }

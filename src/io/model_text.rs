@@ -329,6 +329,13 @@ pub fn model_text(coeffs: &Coefficients, provenance: &Provenance) -> String {
     let _ = writeln!(out, "units = {}", one_line(&coeffs.units));
     let _ = writeln!(out, "lmax = {}", coeffs.lmax());
     let mut extra: Vec<(String, String)> = provenance.to_attributes();
+    if let Some(previous) = coeffs.attributes.get("history") {
+        for (k, v) in extra.iter_mut() {
+            if k == "history" {
+                *v = super::provenance::chain_history(v, Some(previous), " | ");
+            }
+        }
+    }
     for (k, v) in &coeffs.attributes {
         if !extra.iter().any(|(e, _)| e == k) {
             extra.push((k.clone(), v.clone()));

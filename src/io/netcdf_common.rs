@@ -87,7 +87,8 @@ pub fn var_text(
 }
 
 /// Adds `Conventions`, `title`, `source` and the provenance attributes, then `extra` (skipping
-/// names already set, so callers cannot produce duplicates).
+/// names already set, so callers cannot produce duplicates). A `history` in `extra` is the
+/// input's history: the new line is put in front of it (newest first, as NetCDF tools do).
 pub fn add_globals(
     b: &mut NcFileBuilder,
     path: &Path,
@@ -107,8 +108,20 @@ pub fn add_globals(
     put(b, "Conventions", "CF-1.8")?;
     put(b, "title", title)?;
     put(b, "source", &source_attribute())?;
+    let previous_history = extra
+        .iter()
+        .find(|(k, _)| k == "history")
+        .map(|(_, v)| v.as_str());
     for (k, v) in provenance.to_attributes() {
-        put(b, &k, &v)?;
+        if k == "history" {
+            put(
+                b,
+                &k,
+                &super::provenance::chain_history(&v, previous_history, "\n"),
+            )?;
+        } else {
+            put(b, &k, &v)?;
+        }
     }
     for (k, v) in extra {
         put(b, k, v)?;

@@ -81,6 +81,14 @@ impl Provenance {
     }
 }
 
+/// A new history line in front of an input's history (newest first), separated by `sep`.
+pub fn chain_history(new: &str, previous: Option<&str>, sep: &str) -> String {
+    match previous.map(str::trim).filter(|p| !p.is_empty()) {
+        Some(p) => format!("{new}{sep}{p}"),
+        None => new.to_string(),
+    }
+}
+
 /// The `source` attribute value: "kugel <version>".
 pub fn source_attribute() -> String {
     format!("kugel {}", env!("CARGO_PKG_VERSION"))

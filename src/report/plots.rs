@@ -173,6 +173,7 @@ pub fn comparison_svg(comparison: &Comparison, title: &str) -> String {
             &c.reference_power[..],
             &c.other_power,
             &c.difference_degree_variance,
+            c.difference_error_degree_variance.as_deref().unwrap_or(&[]),
         ],
         1,
     );
@@ -214,6 +215,22 @@ pub fn comparison_svg(comparison: &Comparison, title: &str) -> String {
         sd,
         "difference-power",
     );
+    let mut legend = vec![
+        (
+            format!("{} (reference)", c.reference_label),
+            Swatch::Line(sa),
+        ),
+        (c.other_label.clone(), Swatch::Line(sb)),
+        ("difference A − B".to_string(), Swatch::Line(sd)),
+    ];
+    if let Some(e) = &c.difference_error_degree_variance {
+        let se = Stroke::dashed(BLACK, 1.2, "2 3");
+        top.series(&mut doc, e, se, "difference-error");
+        legend.push((
+            "error of the difference (from sigmas)".to_string(),
+            Swatch::Line(se),
+        ));
+    }
     let marker = Stroke::dashed(GREEN, 1.2, "3 3");
     if let Some(l) = c.agreement_degree {
         let km = c
@@ -227,18 +244,7 @@ pub fn comparison_svg(comparison: &Comparison, title: &str) -> String {
             &format!("agree up to l = {l}{km}"),
         );
     }
-    top.legend(
-        &mut doc,
-        &[
-            (
-                format!("{} (reference)", c.reference_label),
-                Swatch::Line(sa),
-            ),
-            (c.other_label.clone(), Swatch::Line(sb)),
-            ("difference A − B".to_string(), Swatch::Line(sd)),
-        ],
-        Corner::TopRight,
-    );
+    top.legend(&mut doc, &legend, Corner::TopRight);
     let negative = c
         .correlation
         .iter()

@@ -11,9 +11,12 @@
 //! - anything else (a function on the sphere itself: topography, a field on a grid): the radius
 //!   only labels the sphere and there is no continuation law, so different radii are refused
 //!   unless forced, and then compared as given.
+//!
 //! Different `units` mean different quantities: refused unless forced.
 
-use crate::coeffs::Coefficients;
+use std::borrow::Cow;
+
+use crate::coeffs::{Coefficients, Normalization};
 use crate::error::{Error, Result};
 
 /// What a coefficient set expands, as far as rescaling is concerned.
@@ -39,12 +42,23 @@ impl QuantityKind {
 
 /// Two models in `geodesy` normalisation (no phase), same radius and units, cut to a common lmax.
 #[derive(Debug, Clone)]
-pub struct ComparablePair {
-    pub reference: Coefficients,
-    pub other: Coefficients,
+///
+/// Inputs already in that form are borrowed, not copied (models at degree thousands are large).
+pub struct ComparablePair<'a> {
+    pub reference: Cow<'a, Coefficients>,
+    pub other: Cow<'a, Coefficients>,
     pub lmax: usize,
     /// What was done to make them comparable, for the summary and the file attributes.
     pub notes: Vec<String>,
+}
+
+/// The set in `geodesy` normalisation without phase: borrowed when it already is.
+pub fn in_geodesy(c: &Coefficients) -> Result<Cow<'_, Coefficients>> {
+    if c.normalization == Normalization::Geodesy && !c.condon_shortley {
+        Ok(Cow::Borrowed(c))
+    } else {
+        Ok(Cow::Owned(c.converted(Normalization::Geodesy, false)?))
+    }
 }
 
 fn same_radius(a: f64, b: f64) -> bool {
@@ -52,11 +66,11 @@ fn same_radius(a: f64, b: f64) -> bool {
 }
 
 /// Brings `other` onto the conventions of `reference` (see the module documentation).
-pub fn make_comparable(
-    reference: &Coefficients,
-    other: &Coefficients,
+pub fn make_comparable<'a>(
+    reference: &'a Coefficients,
+    other: &'a Coefficients,
     force: bool,
-) -> Result<ComparablePair> {
+) -> Result<ComparablePair<'a>> {
     let mut notes = Vec::new();
     let (ua, ub) = (reference.units.trim(), other.units.trim());
     if ua != ub {
@@ -71,7 +85,7 @@ pub fn make_comparable(
         ));
     }
     for (which, c) in [("first", reference), ("second", other)] {
-        if c.normalization != crate::coeffs::Normalization::Geodesy || c.condon_shortley {
+        if c.normalization != Normalization::Geodesy || c.condon_shortley {
             notes.push(format!(
                 "{which} model converted from {}{} to geodesy normalisation",
                 c.normalization,
@@ -83,8 +97,8 @@ pub fn make_comparable(
             ));
         }
     }
-    let reference = reference.to_geodesy()?;
-    let mut other = other.to_geodesy()?;
+    let reference = in_geodesy(reference)?;
+    let mut other = in_geodesy(other)?;
     let (r1, r2) = (reference.reference_radius_m, other.reference_radius_m);
     let kind = QuantityKind::of(&other);
     let gm_ratio = match (kind, reference.gm_m3_s2, other.gm_m3_s2) {
@@ -96,16 +110,18 @@ pub fn make_comparable(
         match kind {
             QuantityKind::GravitationalPotential => {
                 let gm = gm_ratio.unwrap_or(1.0);
-                other.scale_by_degree(|l| gm * ratio.powi(l as i32));
+                other
+                    .to_mut()
+                    .scale_by_degree(|l| gm * ratio.powi(l as i32));
                 notes.push(format!(
                     "second model rescaled from R = {r2} m{} to R = {r1} m{} as a gravitational potential: C' = C (GM2/GM1) (R2/R1)^l",
                     other.gm_m3_s2.map(|g| format!(", GM = {g}")).unwrap_or_default(),
                     reference.gm_m3_s2.map(|g| format!(", GM = {g}")).unwrap_or_default()
                 ));
-                other.gm_m3_s2 = reference.gm_m3_s2;
+                other.to_mut().gm_m3_s2 = reference.gm_m3_s2;
             }
             QuantityKind::MagneticPotential => {
-                other.scale_by_degree(|l| ratio.powi(l as i32 + 2));
+                other.to_mut().scale_by_degree(|l| ratio.powi(l as i32 + 2));
                 notes.push(format!(
                     "second model rescaled from a = {r2} m to a = {r1} m as Gauss coefficients: g' = g (a2/a1)^(l+2)"
                 ));
@@ -123,7 +139,7 @@ pub fn make_comparable(
                 ));
             }
         }
-        other.reference_radius_m = r1;
+        other.to_mut().reference_radius_m = r1;
     }
     other.check_finite().map_err(|e| {
         Error::invalid(format!(
@@ -139,7 +155,13 @@ pub fn make_comparable(
         ));
     }
     // Cut only what is longer than the common degree: models at degree thousands are large.
-    let cut = |c: Coefficients| if c.lmax() == lmax { c } else { c.resized(lmax) };
+    let cut = |c: Cow<'a, Coefficients>| {
+        if c.lmax() == lmax {
+            c
+        } else {
+            Cow::Owned(c.resized(lmax))
+        }
+    };
     Ok(ComparablePair {
         reference: cut(reference),
         other: cut(other),

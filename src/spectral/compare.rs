@@ -16,9 +16,12 @@
 //! - Difference degree variance D_l = Σ_m ((C^A − C^B)² + (S^A − S^B)²).
 //! - Agreement: the first degree l ≥ 1 with D_l > S^A_l is where the models stop agreeing;
 //!   "agree up to" is the degree before it (the whole common range when there is none).
+//!   Degrees where the reference has no power at all are skipped.
 
 use super::comparable::make_comparable;
-use super::degree_power::{cross_sum, difference_sum_of_squares, sum_of_squares};
+use super::degree_power::{
+    cross_sum, difference_sum_of_squares, error_sum_of_squares, sum_of_squares,
+};
 use super::spectrum::{check_confidence, trim_number};
 use super::stats::{f_quantile, student_t_quantile};
 use super::table::SpectralTable;
@@ -64,6 +67,9 @@ pub struct Comparison {
     pub power_ratio_lower: Vec<f64>,
     pub power_ratio_upper: Vec<f64>,
     pub difference_degree_variance: Vec<f64>,
+    /// Error degree variance of the difference, E^A_l + E^B_l, when both models carry sigmas
+    /// (errors taken as independent between the models).
+    pub difference_error_degree_variance: Option<Vec<f64>>,
     pub half_wavelength_km: Vec<f64>,
     /// Last degree before the difference first exceeds the reference's power ("agree up to").
     pub agreement_degree: Option<usize>,
@@ -93,13 +99,17 @@ fn ratio_or_nan(num: f64, den: f64) -> f64 {
 }
 
 /// Degree at which models stop agreeing: (agree up to, first disagreement).
+///
+/// Degrees where the reference carries no power at all (degree 1 of a model in a
+/// centre-of-mass frame, say) give no signal to compare against and are skipped.
 pub fn agreement_degree(
     reference_power: &[f64],
     difference: &[f64],
 ) -> (Option<usize>, Option<usize>) {
     let lmax = reference_power.len().saturating_sub(1);
-    match (1..=lmax).find(|&l| difference[l] > reference_power[l]) {
-        Some(first) => ((first >= 2).then_some(first - 1), Some(first)),
+    let has_signal = |l: usize| reference_power[l] > 0.0;
+    match (1..=lmax).find(|&l| has_signal(l) && difference[l] > reference_power[l]) {
+        Some(first) => ((1..first).rev().find(|&l| has_signal(l)), Some(first)),
         None if lmax >= 1 => (Some(lmax), None),
         None => (None, None),
     }
@@ -139,6 +149,13 @@ impl Comparison {
         let admittance = (0..=lmax).map(|l| ratio_or_nan(sab[l], sa[l])).collect();
         let radius = pair.reference.reference_radius_m;
         let (agree, first) = agreement_degree(&sa, &diff);
+        let difference_error = match (
+            error_sum_of_squares(&pair.reference),
+            error_sum_of_squares(&pair.other),
+        ) {
+            (Some(ea), Some(eb)) => Some(ea.iter().zip(&eb).map(|(x, y)| x + y).collect()),
+            _ => None,
+        };
         Ok(Comparison {
             lmax,
             reference_radius_m: radius,
@@ -156,6 +173,7 @@ impl Comparison {
             power_ratio_lower: lower,
             power_ratio_upper: upper,
             difference_degree_variance: diff,
+            difference_error_degree_variance: difference_error,
             half_wavelength_km: (0..=lmax).map(|l| half_wavelength_km(l, radius)).collect(),
             agreement_degree: agree,
             agreement_half_wavelength_km: agree.map(|l| half_wavelength_km(l, radius)),
@@ -227,6 +245,14 @@ impl Comparison {
             "degree variance of the difference A - B",
             self.difference_degree_variance.clone(),
         );
+        if let Some(e) = &self.difference_error_degree_variance {
+            t.push(
+                "difference_error_degree_variance",
+                &sq,
+                "error degree variance of A - B from both models' sigmas (independent errors)",
+                e.clone(),
+            );
+        }
         t.push(
             "half_wavelength_km",
             "km",
@@ -302,6 +328,12 @@ mod tests {
             agreement_degree(&sa, &[0.0, 2.0, 0.0, 0.0, 0.0, 0.0]),
             (None, Some(1))
         );
+        // a degree without reference power is skipped, not counted as disagreement
+        let sa0 = [1.0, 0.0, 1.0, 1.0, 1.0, 1.0];
+        let d0 = [0.0, 1e-9, 0.1, 2.0, 0.0, 0.0];
+        assert_eq!(agreement_degree(&sa0, &d0), (Some(2), Some(3)));
+        let d1 = [0.0, 1e-9, 2.0, 0.0, 0.0, 0.0];
+        assert_eq!(agreement_degree(&sa0, &d1), (None, Some(2)));
     }
 
     #[test]

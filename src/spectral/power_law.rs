@@ -60,8 +60,12 @@ pub fn fit_power_law(
     }
     let (mut w_sum, mut sx, mut sy, mut sxx, mut sxy) = (0.0, 0.0, 0.0, 0.0, 0.0);
     let mut points = Vec::new();
-    for l in lmin..=lmax {
-        let p = per_coefficient_power[l];
+    for (l, &p) in per_coefficient_power
+        .iter()
+        .enumerate()
+        .take(lmax + 1)
+        .skip(lmin)
+    {
         if !(p > 0.0 && p.is_finite()) {
             continue;
         }

@@ -14,6 +14,7 @@
 //!   the mean square over the sphere of radius r of the field B = −∇V.
 //! - Half-wavelength πR/l in km, R the model's reference radius.
 
+use super::comparable::in_geodesy;
 use super::degree_power::{error_sum_of_squares, sum_of_squares};
 use super::power_law::{fit_power_law, log_chi2_moments, PowerLawFit};
 use super::stats::chi2_quantile;
@@ -24,7 +25,7 @@ use crate::error::{Error, Result};
 
 /// Degree variance S_l (l = 0..=lmax) after conversion to `geodesy` normalisation.
 pub fn degree_variance(coeffs: &Coefficients) -> Vec<f64> {
-    match coeffs.to_geodesy() {
+    match in_geodesy(coeffs) {
         Ok(g) => sum_of_squares(&g),
         // Conversion only fails when a converted value overflows; report that as non-finite power.
         Err(_) => vec![f64::NAN; coeffs.lmax() + 1],
@@ -108,7 +109,7 @@ impl Spectrum {
     pub fn compute(coeffs: &Coefficients, options: &SpectrumOptions) -> Result<Spectrum> {
         check_confidence(options.confidence)?;
         coeffs.check_finite()?;
-        let geodesy = coeffs.to_geodesy()?;
+        let geodesy = in_geodesy(coeffs)?;
         let lmax = geodesy.lmax();
         let s = sum_of_squares(&geodesy);
         let per_coefficient: Vec<f64> = s
@@ -353,6 +354,12 @@ impl Spectrum {
                 fit.exponent_sigma,
                 fit.reduced_chi2,
                 if fit.reduced_chi2 > 1.0 { " (uncertainties scaled up by it)" } else { "" }
+            );
+            // Kaula-type form: RMS per coefficient K·l^-q with K = √A, q = p/2.
+            out += &format!(
+                "  as an RMS per coefficient (Kaula form): {:.4e} · l^-{:.4}\n",
+                fit.amplitude.sqrt(),
+                fit.exponent / 2.0
             );
         }
         if let Some(snr) = &self.signal_to_noise {

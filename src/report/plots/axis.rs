@@ -85,7 +85,7 @@ impl Axis {
                 let labelled =
                     (major && e.rem_euclid(stride) == 0) || (label_minor && (k == 2 || k == 5));
                 let label = labelled.then(|| {
-                    if integer_labels && e >= 0 && e <= 6 {
+                    if integer_labels && (0..=6).contains(&e) {
                         Markup::plain(&format!("{}", v.round() as i64))
                     } else if major {
                         power_of_ten(e)

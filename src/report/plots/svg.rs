@@ -184,6 +184,8 @@ impl SvgDocument {
     }
 
     /// Text at (x, y); `rotate` in degrees about the anchor point.
+    // The arguments are the SVG text attributes themselves; a style struct would only rename them.
+    #[allow(clippy::too_many_arguments)]
     pub fn text(
         &mut self,
         x: f64,

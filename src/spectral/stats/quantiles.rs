@@ -227,7 +227,7 @@ mod tests {
         // χ²(2) is exponential with mean 2: quantile = −2 ln(1 − p) (closed form, common practice)
         for &p in &[1e-6, 0.025, 0.5, 0.95, 0.999_999] {
             let x = chi2_quantile(p, 2.0).unwrap();
-            let expect = -2.0 * (-p as f64).ln_1p();
+            let expect = -2.0 * (-p).ln_1p();
             assert!(
                 (x - expect).abs() <= 1e-13 * expect,
                 "p = {p}: {x} vs {expect}"
