@@ -57,8 +57,16 @@ pub fn in_geodesy(c: &Coefficients) -> Result<Cow<'_, Coefficients>> {
     if c.normalization == Normalization::Geodesy && !c.condon_shortley {
         Ok(Cow::Borrowed(c))
     } else {
+        check_copy_fits(c, "converting the model to geodesy normalisation")?;
         Ok(Cow::Owned(c.converted(Normalization::Geodesy, false)?))
     }
+}
+
+/// Refuses, with the estimate, a working copy of `c` that would not fit in memory.
+fn check_copy_fits(c: &Coefficients, what: &str) -> Result<()> {
+    let arrays = if c.sigmas().is_some() { 4 } else { 2 };
+    let bytes = crate::coeffs::packed_len(c.lmax()) * arrays * std::mem::size_of::<f64>();
+    crate::memory::check_fits(&format!("{what} (degree {})", c.lmax()), bytes as u64)
 }
 
 fn same_radius(a: f64, b: f64) -> bool {
@@ -106,6 +114,12 @@ pub fn make_comparable<'a>(
         _ => None,
     };
     if !same_radius(r1, r2) || gm_ratio.is_some() {
+        if matches!(other, Cow::Borrowed(_)) {
+            check_copy_fits(
+                &other,
+                "rescaling the second model to the first one's radius",
+            )?;
+        }
         let ratio = r2 / r1;
         match kind {
             QuantityKind::GravitationalPotential => {
