@@ -75,3 +75,28 @@ fn unknown_names_are_refused_with_the_choices() {
         .to_string();
     assert!(e.contains("a > 0"), "{e}");
 }
+
+#[test]
+fn grids_that_do_not_fit_in_memory_are_refused_with_the_estimate() {
+    // 200 000 x 400 000 cells x 8 bytes x 2 arrays ≈ 1.3 TB: far above this machine's memory.
+    let n = 200_000;
+    let grid = kugel::sht::Grid {
+        kind: kugel::sht::GridKind::Custom,
+        colatitude_rad: (0..n)
+            .map(|j| (j as f64 + 0.5) * std::f64::consts::PI / n as f64)
+            .collect(),
+        weights: vec![2.0 / n as f64; n],
+        nlon: 400_000,
+        lon0_rad: 0.0,
+        max_exact_degree: 0,
+    };
+    let m = model("1", Some(3.986e14));
+    let err =
+        kugel::field::synthesize_on_grid(&m, &grid, &SynthesisRequest::new(vec![Quantity::Geoid]))
+            .unwrap_err();
+    assert!(
+        matches!(err, kugel::Error::InsufficientMemory { .. }),
+        "{err}"
+    );
+    assert!(err.to_string().contains("200000 x 400000"), "{err}");
+}

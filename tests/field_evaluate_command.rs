@@ -132,3 +132,48 @@ fn value_column_gets_a_residual_and_bad_input_is_named() {
     ]);
     assert!(String::from_utf8_lossy(&o.stderr).contains("--ellipsoid"));
 }
+
+#[test]
+fn geodetic_points_with_an_ellipsoid() {
+    // At the geodetic pole the point lies at r = b (WGS84 b = 6 356 752.3142 m, NIMA TR8350.2,
+    // from memory) on the axis, where the frames agree: an axial dipole gives
+    // Z = −2 g10 (a/r)³ (any geomagnetism text). At the equator r = a_ellipsoid.
+    let dir = tempfile::tempdir().unwrap();
+    let model = dipole_model(dir.path());
+    let pts = dir.path().join("geo.csv");
+    std::fs::write(&pts, "lat,lon,height_m\n90,0,0\n0,45,1000\n").unwrap();
+    let out = dir.path().join("geo_out.csv");
+    let o = kugel(&[
+        "evaluate",
+        model.to_str().unwrap(),
+        pts.to_str().unwrap(),
+        "-q",
+        "z,x",
+        "--ellipsoid",
+        "wgs84",
+        "-o",
+        out.to_str().unwrap(),
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let t = kugel::io::csv_table::read_csv_table(&out).unwrap();
+    let z = t.numeric_column("z").unwrap();
+    let x = t.numeric_column("x").unwrap();
+    let want_pole = 2.0 * 30_000.0 * (6_371_200.0f64 / 6_356_752.314_2).powi(3);
+    // b is published to 0.1 mm: 1.6e-11 relative, ×3 through (a/r)³ → 3e-6 nT of 6e4 nT.
+    assert!((z[0] - want_pole).abs() < 5e-6, "{} vs {want_pole}", z[0]);
+    let want_x_eq = 30_000.0 * (6_371_200.0f64 / 6_379_137.0).powi(3);
+    assert!((x[1] - want_x_eq).abs() < 1e-6, "{} vs {want_x_eq}", x[1]);
+    assert!(z[1].abs() < 1e-6);
+    // altitude_km together with --ellipsoid is refused.
+    std::fs::write(&pts, "lat,lon,altitude_km\n10,20,5\n").unwrap();
+    let o = kugel(&[
+        "evaluate",
+        model.to_str().unwrap(),
+        pts.to_str().unwrap(),
+        "--ellipsoid",
+        "wgs84",
+        "-o",
+        out.to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(3));
+}

@@ -68,47 +68,53 @@ fn expected(q: Quantity, (x, y, z): (f64, f64, f64)) -> f64 {
 }
 
 #[test]
-fn axial_dipole_at_points_surface_and_altitude() {
+fn dipoles_at_points_surface_altitude_and_poles() {
     // 1e-9 relative: the synthesis is a short sum of exact terms (few ulps).
-    let (g10, g11, h11) = (-29_400.0, 0.0, 0.0);
-    let model = dipole(g10, g11, h11);
-    for alt_km in [0.0, 400.0, 35_786.0] {
-        let r = A_M + alt_km * 1e3;
-        let pts: Vec<GeocentricPoint> = [-80.0, -30.0, 0.0, 10.0, 45.0, 89.0]
-            .iter()
-            .map(|&lat| GeocentricPoint::from_degrees(lat, 77.0, r))
-            .collect();
-        let req = SynthesisRequest::new(ALL_MAGNETIC.to_vec());
-        let got = evaluate_at_points(&model, &pts, &req).unwrap();
-        for (qi, &q) in ALL_MAGNETIC.iter().enumerate() {
+    for (g10, g11, h11) in [(-29_400.0, 0.0, 0.0), (-29_400.0, -1_450.0, 4_650.0)] {
+        let axial = g11 == 0.0;
+        let model = dipole(g10, g11, h11);
+        for alt_km in [0.0, 400.0, 35_786.0] {
+            let r = A_M + alt_km * 1e3;
+            let pts: Vec<GeocentricPoint> = [-80.0, -30.0, 0.0, 10.0, 45.0, 89.0]
+                .iter()
+                .map(|&lat| GeocentricPoint::from_degrees(lat, 77.0, r))
+                .chain([-90.0, 90.0].map(|lat| GeocentricPoint::from_degrees(lat, 77.0, r)))
+                .collect();
+            let req = SynthesisRequest::new(ALL_MAGNETIC.to_vec());
+            let got = evaluate_at_points(&model, &pts, &req).unwrap();
+            for (qi, &q) in ALL_MAGNETIC.iter().enumerate() {
+                for (pi, p) in pts.iter().enumerate() {
+                    let xyz = analytic_xyz(g10, g11, h11, r, p.colatitude_rad, p.longitude_rad);
+                    let want = expected(q, xyz);
+                    let scale = if matches!(q, Quantity::Declination | Quantity::Inclination) {
+                        1.0
+                    } else {
+                        29_400.0 * (A_M / r).powi(3)
+                    };
+                    assert!(
+                        (got[qi][pi] - want).abs() <= 1e-9 * scale,
+                        "{q} at alt {alt_km} km, colat {}: got {} want {want}",
+                        p.colatitude_rad,
+                        got[qi][pi]
+                    );
+                }
+            }
+            if !axial {
+                continue;
+            }
+            // Inclination of an axial dipole: tan I = 2 cot θ; declination 0.
+            let ii = ALL_MAGNETIC
+                .iter()
+                .position(|q| *q == Quantity::Inclination)
+                .unwrap();
             for (pi, p) in pts.iter().enumerate() {
-                let xyz = analytic_xyz(g10, g11, h11, r, p.colatitude_rad, p.longitude_rad);
-                let want = expected(q, xyz);
-                let scale = if matches!(q, Quantity::Declination | Quantity::Inclination) {
-                    1.0
-                } else {
-                    29_400.0 * (A_M / r).powi(3)
-                };
+                let want = (2.0 / p.colatitude_rad.tan()).atan().to_degrees();
                 assert!(
-                    (got[qi][pi] - want).abs() <= 1e-9 * scale,
-                    "{q} at alt {alt_km} km, colat {}: got {} want {want}",
-                    p.colatitude_rad,
-                    got[qi][pi]
+                    (got[ii][pi] - want).abs() < 1e-9,
+                    "{} vs {want}",
+                    got[ii][pi]
                 );
             }
-        }
-        // Inclination of an axial dipole: tan I = 2 cot θ; declination 0.
-        let ii = ALL_MAGNETIC
-            .iter()
-            .position(|q| *q == Quantity::Inclination)
-            .unwrap();
-        for (pi, p) in pts.iter().enumerate() {
-            let want = (2.0 / p.colatitude_rad.tan()).atan().to_degrees();
-            assert!(
-                (got[ii][pi] - want).abs() < 1e-9,
-                "{} vs {want}",
-                got[ii][pi]
-            );
         }
     }
 }

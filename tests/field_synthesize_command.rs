@@ -120,9 +120,13 @@ fn magnetic_map_and_refusals() {
         "400",
         "--lon-range",
         "-180-180",
+        "--png",
     ]);
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     assert!(String::from_utf8_lossy(&o.stderr).contains("not for navigation"));
+    let png = std::fs::read(dir.path().join("mag_declination.png")).unwrap();
+    assert_eq!(&png[..4], b"\x89PNG");
+    assert!(dir.path().join("mag_f.png").exists());
     let f = NcFile::open(&out).unwrap();
     assert_eq!(
         attr(f.variable("declination").unwrap().attributes(), "units").as_deref(),

@@ -42,6 +42,9 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         .map(Ellipsoid::parse)
         .transpose()?;
     let model = field_options::read_model_truncated(&args.model, args.field.lmax)?;
+    if let Some(w) = field_options::total_potential_warning(&model, &parsed) {
+        eprintln!("{w}");
+    }
     let table = read_csv_table(&args.points)?;
     let points = points_of(&table, model.reference_radius_m, ellipsoid.as_ref())?;
 
@@ -136,7 +139,8 @@ fn points_of(
     let mut out = Vec::with_capacity(lat.len());
     for i in 0..lat.len() {
         let line = table.line_numbers[i];
-        if !(lat[i].abs() <= 90.0) || !lon[i].is_finite() {
+        let lat_ok = lat[i].is_finite() && lat[i].abs() <= 90.0;
+        if !lat_ok || !lon[i].is_finite() {
             return Err(Error::Line {
                 path: path.to_path_buf(),
                 line,
@@ -154,7 +158,7 @@ fn points_of(
             None => {
                 let alt_m = alt_km.as_ref().map_or(0.0, |a| a[i] * 1e3);
                 let r = reference_radius_m + alt_m;
-                if !(r > 0.0) {
+                if r.is_nan() || r <= 0.0 {
                     return Err(Error::Line {
                         path: path.to_path_buf(),
                         line,

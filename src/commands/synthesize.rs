@@ -1,7 +1,7 @@
 //! `kugel synthesize MODEL -o MAP.nc --quantity Q[,Q…]`: quantities of a coefficient model on
 //! a global grid, one CF NetCDF variable per quantity.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 use super::field_options::{self, FieldOptions};
 use super::CommandContext;
@@ -10,6 +10,7 @@ use crate::field::synthesis::synthesize_on_grid_with_progress;
 use crate::field::{cautions, Quantity, SynthesisRequest, TargetSurface};
 use crate::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use crate::io::provenance::Provenance;
+use crate::report::maps::{render_map_png, MapStyle};
 use crate::sht::{GaussGrid, Grid};
 
 #[derive(Debug, clap::Args)]
@@ -29,6 +30,9 @@ pub struct Args {
     /// Radius of the sphere to compute on, km (instead of --altitude-km).
     #[arg(long, value_name = "R")]
     pub radius_km: Option<f64>,
+    /// Also write a quick-look PNG map per quantity beside the output (MAP_<quantity>.png).
+    #[arg(long)]
+    pub png: bool,
     /// Store the data variables as 32-bit floats.
     #[arg(long)]
     pub float32: bool,
@@ -89,10 +93,16 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     let radius_m = surface.radius_m(model.reference_radius_m);
     let removed = parsed.normal_field.ellipsoid().is_some();
     let mut file = GridFile::from_engine_grid(&grid, title(&request.quantities, &surface));
+    let mut pictures = Vec::new();
     for (q, data) in fields {
         let units = q
             .units()
             .map_or_else(|| model.units.clone(), str::to_string);
+        if args.png {
+            let path = picture_path(&args.output, q);
+            let style = map_style(q, &units, &grid, &model, &parsed, &surface);
+            pictures.push((path, render_map_png(&data, &style)));
+        }
         file.push(
             &q.variable_name(),
             q.long_name(),
@@ -141,6 +151,12 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
             provenance: &provenance,
         },
     )?;
+    for (path, png) in &pictures {
+        crate::io::atomic::write_bytes_atomic(path, png)?;
+        if !ctx.quiet {
+            eprintln!("wrote {}", path.display());
+        }
+    }
     field_options::print_cautions(&request.quantities);
     if !ctx.quiet {
         let (nlat, nlon) = grid.shape();
@@ -161,10 +177,57 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
 
 fn title(quantities: &[Quantity], surface: &TargetSurface) -> String {
     let names: Vec<&str> = quantities.iter().map(|q| q.name()).collect();
-    let place = match surface {
+    format!(
+        "kugel synthesis: {} {}",
+        names.join(", "),
+        title_place(surface)
+    )
+}
+
+fn title_place(surface: &TargetSurface) -> String {
+    match surface {
         TargetSurface::ReferenceSphere => "on the reference sphere".to_string(),
         TargetSurface::Altitude { altitude_m } => format!("at {} km altitude", altitude_m / 1e3),
         TargetSurface::Radius { radius_m } => format!("at radius {} km", radius_m / 1e3),
+    }
+}
+
+/// `MAP.nc` → `MAP_<quantity>.png` in the same folder.
+fn picture_path(output: &Path, q: Quantity) -> PathBuf {
+    let stem = output
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "map".into());
+    output.with_file_name(format!("{stem}_{}.png", q.variable_name()))
+}
+
+fn map_style(
+    q: Quantity,
+    units: &str,
+    grid: &Grid,
+    model: &crate::coeffs::Coefficients,
+    parsed: &field_options::ParsedFieldOptions,
+    surface: &TargetSurface,
+) -> MapStyle {
+    let mut degree_range = format!("degrees 0-{}", model.lmax());
+    if let Some(f) = &parsed.filter {
+        degree_range.push_str(&format!(", filter {}", f.describe()));
+    }
+    // Short: the map's title line does not wrap.
+    let place = match surface {
+        TargetSurface::ReferenceSphere => "r = R".to_string(),
+        TargetSurface::Altitude { altitude_m } => format!("h = {} km", altitude_m / 1e3),
+        TargetSurface::Radius { radius_m } => format!("r = {} km", radius_m / 1e3),
     };
-    format!("kugel synthesis: {} {place}", names.join(", "))
+    let title = format!("{}, {place}", q.name());
+    if q == Quantity::Declination {
+        degree_range.push_str(" - not for navigation or safety decisions");
+    }
+    MapStyle {
+        title,
+        units: units.to_string(),
+        degree_range,
+        lat_deg: Some(grid.latitudes_deg()),
+        lon0_deg: grid.lon0_rad.to_degrees(),
+    }
 }

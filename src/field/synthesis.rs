@@ -243,9 +243,14 @@ pub fn synthesize_with_plan(
     let qs = &request.quantities;
     let magnetic = qs.iter().any(|q| q.family() == QuantityFamily::Magnetic);
     let arrays = qs.len() + if magnetic { 3 } else { 1 };
+    // The grids, plus the prepared and one scaled copy of the coefficients (C and S).
+    let coefficient_bytes = 2 * 16 * crate::coeffs::packed_len(model.lmax());
     crate::memory::check_fits(
-        &format!("{} grid(s) of {nlat} x {nlon}", arrays),
-        (arrays * nlat * nlon * 8) as u64,
+        &format!(
+            "{arrays} grid(s) of {nlat} x {nlon} and two copies of the degree-{} coefficients",
+            model.lmax()
+        ),
+        (arrays * nlat * nlon * 8 + coefficient_bytes) as u64,
     )?;
     let prepared = prepare(model, request)?;
     let lmax = prepared.coeffs.lmax();

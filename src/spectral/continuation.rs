@@ -236,7 +236,7 @@ mod tests {
             .unwrap_err()
             .to_string();
         let expect = (6371.0f64 / 6271.0).powi(1001);
-        let shown = format!("{}", format_power_of_ten(expect.log10()));
+        let shown = format_power_of_ten(expect.log10());
         assert!(
             msg.contains(&shown) && msg.contains("regularisation"),
             "{msg} / {shown}"

@@ -9,10 +9,11 @@
 //! so that w(r/R) = w(0)/2. Its Legendre weights W_l = 2π ∫₀^π w(ψ) P_l(cos ψ) sin ψ dψ are
 //! the factors applied to the coefficients of degree l (W_0 = 1).
 //!
-//! Jekeli's forward recursion W_{l+1} = −(2l+1)/b·W_l + W_{l−1} (W_1 = coth b − 1/b) follows
-//! the dominant solution of the recurrence and loses all accuracy once W_l falls below about
-//! ε·(its error growth): for r = 100 km on the Earth it is wrong beyond degree ~ 200. It is
-//! kept here only as the scalar reference for the low degrees ([`weights_forward_recursion`]).
+//! Jekeli's forward recursion W_{l+1} = −(2l+1)/b·W_l + W_{l−1} (W_1 = coth b − 1/b) is
+//! exact in theory, but rounding errors excite the growing solution of the recurrence, which
+//! swamps W_l once it is small: for r = 100 km on the Earth (b ≈ 5627) the relative error is
+//! 2e-13 at degree 200, 2e-9 at 300, 5e-4 at 400 and 4e3 at 500 (measured against mpmath). It
+//! is kept only as the scalar reference for the low degrees ([`weights_forward_recursion`]).
 //!
 //! The weights actually used come from the identity W_l = i_l(b)/i_0(b), with i_l the modified
 //! spherical Bessel functions of the first kind (W_1 = coth b − 1/b = i_1(b)/i_0(b), and
