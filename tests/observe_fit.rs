@@ -47,7 +47,9 @@ fn samples(n: usize, sigma: f64, seed: u64) -> PointSet {
         lon.push(o);
         val.push(true_field(a, o) + noise.sample(&mut rng));
     }
-    PointSet::from_vectors(lat, lon, val, Some(vec![sigma; n])).unwrap().0
+    PointSet::from_vectors(lat, lon, val, Some(vec![sigma; n]))
+        .unwrap()
+        .0
 }
 
 #[test]
@@ -61,31 +63,58 @@ fn unregularised_fit_recovers_coefficients_within_formal_sigma() {
             let (sc, ss) = result.model.sigma(l, m).unwrap();
             assert!(sc > 0.0 && sc < 0.01, "σ(C{l}{m}) = {sc}");
             let zc = (result.model.c(l, m) - c) / sc;
-            assert!(zc.abs() < 4.5, "C_{l}{m}: {} vs {c}, {zc:.2} σ", result.model.c(l, m));
+            assert!(
+                zc.abs() < 4.5,
+                "C_{l}{m}: {} vs {c}, {zc:.2} σ",
+                result.model.c(l, m)
+            );
             if m > 0 {
                 let zs = (result.model.s(l, m) - s) / ss;
-                assert!(zs.abs() < 4.5, "S_{l}{m}: {} vs {s}, {zs:.2} σ", result.model.s(l, m));
+                assert!(
+                    zs.abs() < 4.5,
+                    "S_{l}{m}: {} vs {s}, {zs:.2} σ",
+                    result.model.s(l, m)
+                );
             }
         }
     }
     let dof = 2000.0 - 25.0;
     let tol = 5.0 * (2.0f64 / dof).sqrt();
-    assert!((result.chi2_per_dof - 1.0).abs() < tol, "χ²/dof = {}", result.chi2_per_dof);
-    assert!((result.residual_rms - 0.01).abs() < 0.001, "rms {}", result.residual_rms);
+    assert!(
+        (result.chi2_per_dof - 1.0).abs() < tol,
+        "χ²/dof = {}",
+        result.chi2_per_dof
+    );
+    assert!(
+        (result.residual_rms - 0.01).abs() < 0.001,
+        "rms {}",
+        result.residual_rms
+    );
     assert!((result.effective_parameters - 25.0).abs() < 1e-6);
-    assert!(result.condition_estimate > 1.0 && result.condition_estimate < 100.0, "{}", result.condition_estimate);
+    assert!(
+        result.condition_estimate > 1.0 && result.condition_estimate < 100.0,
+        "{}",
+        result.condition_estimate
+    );
     assert!(result.warnings.is_empty(), "{:?}", result.warnings);
 }
 
 #[test]
 fn without_sigma_the_covariance_is_scaled_by_the_variance_factor() {
     let with = samples(1500, 0.02, 11);
-    let without = PointSet { sigma: None, ..with.clone() };
+    let without = PointSet {
+        sigma: None,
+        ..with.clone()
+    };
     let a = fit(&with, 3, &FitOptions::default()).unwrap();
     let b = fit(&without, 3, &FitOptions::default()).unwrap();
     assert!(b.sigmas_scaled);
     // unit weights: χ²/dof estimates σ² = 4e-4
-    assert!((b.chi2_per_dof / 4e-4 - 1.0).abs() < 0.2, "{}", b.chi2_per_dof);
+    assert!(
+        (b.chi2_per_dof / 4e-4 - 1.0).abs() < 0.2,
+        "{}",
+        b.chi2_per_dof
+    );
     // same estimate, and σ agree within the scatter of the variance factor (±20%)
     let (sa, _) = a.model.sigma(2, 0).unwrap();
     let (sb, _) = b.model.sigma(2, 0).unwrap();
@@ -96,13 +125,29 @@ fn without_sigma_the_covariance_is_scaled_by_the_variance_factor() {
 #[test]
 fn under_determined_fit_is_refused_without_regularisation_and_warned_with_it() {
     let points = samples(20, 0.01, 3);
-    let err = fit(&points, 6, &FitOptions::default()).unwrap_err().to_string();
+    let err = fit(&points, 6, &FitOptions::default())
+        .unwrap_err()
+        .to_string();
     assert!(err.contains("not positive definite"), "{err}");
     assert!(err.contains("regularise"), "{err}");
-    let options = FitOptions { regularization: Regularization::Damping(1e2), ..Default::default() };
+    let options = FitOptions {
+        regularization: Regularization::Damping(1e2),
+        ..Default::default()
+    };
     let result = fit(&points, 6, &options).unwrap();
-    assert!(result.warnings.iter().any(|w| w.contains("under-determined") && w.contains("49 unknowns")), "{:?}", result.warnings);
-    assert!(result.warnings.iter().any(|w| w.contains("data gaps")), "{:?}", result.warnings);
+    assert!(
+        result
+            .warnings
+            .iter()
+            .any(|w| w.contains("under-determined") && w.contains("49 unknowns")),
+        "{:?}",
+        result.warnings
+    );
+    assert!(
+        result.warnings.iter().any(|w| w.contains("data gaps")),
+        "{:?}",
+        result.warnings
+    );
     assert!(result.effective_parameters < 20.0);
 }
 
@@ -112,18 +157,36 @@ fn gcv_picks_little_damping_for_well_determined_data() {
     // recovered coefficients stay within 4.5 formal σ plus the damping bias, which for the
     // chosen λ is below 1% of the coefficient (checked directly).
     let points = samples(1500, 0.01, 5);
-    let options = FitOptions { regularization: Regularization::Gcv, ..Default::default() };
+    let options = FitOptions {
+        regularization: Regularization::Gcv,
+        ..Default::default()
+    };
     let result = fit(&points, 4, &options).unwrap();
     assert!(result.lambda > 0.0);
-    assert!((result.model.c(2, 0) - 0.8).abs() < 0.01, "{}", result.model.c(2, 0));
-    assert!((result.model.s(2, 2) + 0.3).abs() < 0.01, "{}", result.model.s(2, 2));
-    assert!((result.chi2_per_dof - 1.0).abs() < 0.2, "{}", result.chi2_per_dof);
+    assert!(
+        (result.model.c(2, 0) - 0.8).abs() < 0.01,
+        "{}",
+        result.model.c(2, 0)
+    );
+    assert!(
+        (result.model.s(2, 2) + 0.3).abs() < 0.01,
+        "{}",
+        result.model.s(2, 2)
+    );
+    assert!(
+        (result.chi2_per_dof - 1.0).abs() < 0.2,
+        "{}",
+        result.chi2_per_dof
+    );
 }
 
 #[test]
 fn kaula_prior_shrinks_high_degrees_more() {
     let points = samples(300, 0.05, 9);
-    let options = FitOptions { regularization: Regularization::Kaula { a: 1.0, p: 2.0 }, ..Default::default() };
+    let options = FitOptions {
+        regularization: Regularization::Kaula { a: 1.0, p: 2.0 },
+        ..Default::default()
+    };
     let result = fit(&points, 8, &options).unwrap();
     // Posterior σ can never exceed the prior RMS a·l^−p (the data only add information).
     for l in 1..=8 {
@@ -136,11 +199,26 @@ fn kaula_prior_shrinks_high_degrees_more() {
 #[test]
 fn regularization_specs_parse_and_bad_ones_are_named() {
     assert_eq!(Regularization::parse("none").unwrap(), Regularization::None);
-    assert_eq!(Regularization::parse("damping:0.5").unwrap(), Regularization::Damping(0.5));
-    assert_eq!(Regularization::parse("kaula:1e-5,2").unwrap(), Regularization::Kaula { a: 1e-5, p: 2.0 });
-    assert_eq!(Regularization::parse("kaula:1e-5,2:gcv").unwrap(), Regularization::KaulaGcv { a: 1e-5, p: 2.0 });
+    assert_eq!(
+        Regularization::parse("damping:0.5").unwrap(),
+        Regularization::Damping(0.5)
+    );
+    assert_eq!(
+        Regularization::parse("kaula:1e-5,2").unwrap(),
+        Regularization::Kaula { a: 1e-5, p: 2.0 }
+    );
+    assert_eq!(
+        Regularization::parse("kaula:1e-5,2:gcv").unwrap(),
+        Regularization::KaulaGcv { a: 1e-5, p: 2.0 }
+    );
     assert_eq!(Regularization::parse("GCV").unwrap(), Regularization::Gcv);
     let err = Regularization::parse("damping:-1").unwrap_err().to_string();
-    assert!(err.contains("damping:-1") && err.contains("not a positive number"), "{err}");
-    assert!(Regularization::parse("ridge").unwrap_err().to_string().contains("expected none"));
+    assert!(
+        err.contains("damping:-1") && err.contains("not a positive number"),
+        "{err}"
+    );
+    assert!(Regularization::parse("ridge")
+        .unwrap_err()
+        .to_string()
+        .contains("expected none"));
 }

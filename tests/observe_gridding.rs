@@ -59,13 +59,26 @@ fn kernel_gridding_then_analysis_recovers_attenuated_coefficients() {
     let lmax = 12;
     let gridded = grid_points(&points, lmax, &options).unwrap();
     assert_eq!(gridded.report.gap_nodes, 0);
-    let coeffs = TransformPlan::new(lmax, &gridded.grid).unwrap().analyse(&gridded.value).unwrap();
+    let coeffs = TransformPlan::new(lmax, &gridded.grid)
+        .unwrap()
+        .analyse(&gridded.value)
+        .unwrap();
     let w = GaussianKernel::for_search_radius(radius_km, EARTH_MEAN_RADIUS_M).degree_response(lmax);
     // the kernel really attenuates: the test would fail if the smoothing were ignored
     assert!(w[3] < 0.85, "W_3 = {}", w[3]);
     let tol = 0.01 * 0.8;
-    assert!((coeffs.c(2, 0) - 0.8 * w[2]).abs() < tol, "C20 {} vs {}", coeffs.c(2, 0), 0.8 * w[2]);
-    assert!((coeffs.c(3, 1) - 0.5 * w[3]).abs() < tol, "C31 {} vs {}", coeffs.c(3, 1), 0.5 * w[3]);
+    assert!(
+        (coeffs.c(2, 0) - 0.8 * w[2]).abs() < tol,
+        "C20 {} vs {}",
+        coeffs.c(2, 0),
+        0.8 * w[2]
+    );
+    assert!(
+        (coeffs.c(3, 1) - 0.5 * w[3]).abs() < tol,
+        "C31 {} vs {}",
+        coeffs.c(3, 1),
+        0.5 * w[3]
+    );
     for (l, m, c, s) in coeffs.iter() {
         if (l, m) != (2, 0) && (l, m) != (3, 1) {
             assert!(c.abs() < tol && s.abs() < tol, "({l},{m}): {c} {s}");
@@ -83,7 +96,9 @@ fn count_and_nearest_match_exhaustive_search() {
         body_radius_m: EARTH_MEAN_RADIUS_M,
     };
     let g = grid_points(&points, 10, &options).unwrap();
-    let unit: Vec<[f64; 3]> = (0..points.len()).map(|i| unit_vector(points.lat_deg[i], points.lon_deg[i])).collect();
+    let unit: Vec<[f64; 3]> = (0..points.len())
+        .map(|i| unit_vector(points.lat_deg[i], points.lon_deg[i]))
+        .collect();
     let lats = g.grid.latitudes_deg();
     let lons = g.grid.longitudes_deg();
     let r = radius_km * 1000.0 / EARTH_MEAN_RADIUS_M;
@@ -91,8 +106,14 @@ fn count_and_nearest_match_exhaustive_search() {
         for k in (0..lons.len()).step_by(3) {
             let q = unit_vector(lats[j], lons[k]);
             let inside = brute_force_within(&unit, &q, r);
-            assert!((g.count[(j, k)] - inside.len() as f64).abs() <= 1.0, "node ({j},{k})");
-            let nearest = unit.iter().map(|p| kugel::observe::spatial::angle_between(p, &q)).fold(f64::INFINITY, f64::min);
+            assert!(
+                (g.count[(j, k)] - inside.len() as f64).abs() <= 1.0,
+                "node ({j},{k})"
+            );
+            let nearest = unit
+                .iter()
+                .map(|p| kugel::observe::spatial::angle_between(p, &q))
+                .fold(f64::INFINITY, f64::min);
             assert!((g.nearest_km[(j, k)] - nearest * EARTH_MEAN_RADIUS_M / 1000.0).abs() < 1e-3);
         }
     }
@@ -107,10 +128,17 @@ fn inverse_distance_uses_k_neighbours_and_honours_exact_hits() {
     points.lat_deg.push(lat0);
     points.lon_deg.push(0.0);
     points.value.push(1234.0);
-    let options = GriddingOptions { method: GriddingMethod::Nearest { k: 6 }, ..Default::default() };
+    let options = GriddingOptions {
+        method: GriddingMethod::Nearest { k: 6 },
+        ..Default::default()
+    };
     let g = grid_points(&points, 4, &options).unwrap();
     assert!(g.count.iter().all(|&c| c == 6.0));
-    assert!((g.value[(1, 0)] - 1234.0).abs() < 1.0, "{}", g.value[(1, 0)]);
+    assert!(
+        (g.value[(1, 0)] - 1234.0).abs() < 1.0,
+        "{}",
+        g.value[(1, 0)]
+    );
     assert!(g.nearest_km[(1, 0)] < 1e-6);
 }
 
@@ -132,16 +160,45 @@ fn iterative_gap_filling_restores_a_band_limited_field() {
     gap.row_mut(0).fill(true);
     gap.row_mut(1).fill(true);
     let mut work = truth.clone();
-    work.zip_mut_with(&gap, |v, &g| if g { *v = f64::NAN });
+    work.zip_mut_with(&gap, |v, &g| {
+        if g {
+            *v = f64::NAN
+        }
+    });
     let points = random_points(10, 4, 90.0);
     let index = SphereIndex::new(&points.lat_deg, &points.lon_deg);
-    let policy = GapPolicy::Iterative { tol: 1e-9, max_iter: 3000 };
-    let report = fill_gaps(&mut work, &gap, &grid, lmax, &policy, &index, &points, &Progress::hidden()).unwrap();
+    let policy = GapPolicy::Iterative {
+        tol: 1e-9,
+        max_iter: 3000,
+    };
+    let report = fill_gaps(
+        &mut work,
+        &gap,
+        &grid,
+        lmax,
+        &policy,
+        &index,
+        &points,
+        &Progress::hidden(),
+    )
+    .unwrap();
     assert!(report.converged, "{report:?}");
     assert!(report.iterations > 1);
-    let err = work.iter().zip(truth.iter()).map(|(a, b)| (a - b).abs()).fold(0.0, f64::max);
-    assert!(err < 1e-5, "max error {err} after {} iterations", report.iterations);
-    assert!(report.describe().contains("iterations"), "{}", report.describe());
+    let err = work
+        .iter()
+        .zip(truth.iter())
+        .map(|(a, b)| (a - b).abs())
+        .fold(0.0, f64::max);
+    assert!(
+        err < 1e-5,
+        "max error {err} after {} iterations",
+        report.iterations
+    );
+    assert!(
+        report.describe().contains("iterations"),
+        "{}",
+        report.describe()
+    );
 }
 
 #[test]
@@ -159,8 +216,13 @@ fn gaps_are_counted_and_filled_by_policy() {
         assert!(g.value.iter().all(|v| v.is_finite()));
         assert_eq!(g.count[(0, 0)], 0.0);
         // the northernmost row is at least (its latitude − 30°) from any observation
-        let bound_km = (g.grid.latitudes_deg()[0] - 30.0).to_radians() * EARTH_MEAN_RADIUS_M / 1000.0;
-        assert!(g.nearest_km[(0, 0)] >= bound_km - 1e-6, "{} vs {bound_km}", g.nearest_km[(0, 0)]);
+        let bound_km =
+            (g.grid.latitudes_deg()[0] - 30.0).to_radians() * EARTH_MEAN_RADIUS_M / 1000.0;
+        assert!(
+            g.nearest_km[(0, 0)] >= bound_km - 1e-6,
+            "{} vs {bound_km}",
+            g.nearest_km[(0, 0)]
+        );
     }
 }
 
@@ -168,17 +230,38 @@ fn gaps_are_counted_and_filled_by_policy() {
 fn bad_gridding_options_are_refused_with_reasons() {
     let points = random_points(50, 6, 90.0);
     let run = |method| {
-        grid_points(&points, 8, &GriddingOptions { method, ..Default::default() }).unwrap_err().to_string()
+        grid_points(
+            &points,
+            8,
+            &GriddingOptions {
+                method,
+                ..Default::default()
+            },
+        )
+        .unwrap_err()
+        .to_string()
     };
-    assert!(run(GriddingMethod::Kernel { radius_km: -1.0 }).contains("--radius-km -1 must be a positive"));
-    assert!(run(GriddingMethod::Kernel { radius_km: 30_000.0 }).contains("exceeds half the body's circumference"));
+    assert!(run(GriddingMethod::Kernel { radius_km: -1.0 })
+        .contains("--radius-km -1 must be a positive"));
+    assert!(run(GriddingMethod::Kernel {
+        radius_km: 30_000.0
+    })
+    .contains("exceeds half the body's circumference"));
     assert!(run(GriddingMethod::Nearest { k: 0 }).contains("--neighbours must be at least 1"));
-    assert!(run(GriddingMethod::Nearest { k: 51 }).contains("exceeds the number of observations (50)"));
-    let tiny = GriddingOptions { method: GriddingMethod::Kernel { radius_km: 1.0 }, ..Default::default() };
+    assert!(
+        run(GriddingMethod::Nearest { k: 51 }).contains("exceeds the number of observations (50)")
+    );
+    let tiny = GriddingOptions {
+        method: GriddingMethod::Kernel { radius_km: 1.0 },
+        ..Default::default()
+    };
     let sparse = random_points(1, 7, 90.0);
     let err = grid_points(&sparse, 8, &tiny).unwrap_err().to_string();
     assert!(err.contains("no grid node has an observation"), "{err}");
-    assert!(GapPolicy::parse("zero").unwrap_err().to_string().contains("expected nearest, mean or iterative"));
+    assert!(GapPolicy::parse("zero")
+        .unwrap_err()
+        .to_string()
+        .contains("expected nearest, mean or iterative"));
 }
 
 #[test]
@@ -188,5 +271,8 @@ fn default_degree_follows_the_data_spacing() {
     let points = random_points(20_000, 8, 90.0);
     let (l, reason) = kugel::observe::default_lmax(&points, EARTH_MEAN_RADIUS_M);
     assert!((120..=150).contains(&l), "{l}: {reason}");
-    assert!(reason.contains("median nearest-neighbour distance"), "{reason}");
+    assert!(
+        reason.contains("median nearest-neighbour distance"),
+        "{reason}"
+    );
 }

@@ -8,28 +8,60 @@ use kugel::observe::points::{read_points, BadRowPolicy, ColumnNames, PointReadOp
 
 fn csv(dir: &Path, name: &str, text: &str) -> PathBuf {
     let path = dir.join(name);
-    std::fs::File::create(&path).unwrap().write_all(text.as_bytes()).unwrap();
+    std::fs::File::create(&path)
+        .unwrap()
+        .write_all(text.as_bytes())
+        .unwrap();
     path
 }
 
 fn error_of(text: &str) -> String {
     let dir = tempfile::tempdir().unwrap();
     let path = csv(dir.path(), "p.csv", text);
-    read_points(&path, &PointReadOptions::default()).unwrap_err().to_string()
+    read_points(&path, &PointReadOptions::default())
+        .unwrap_err()
+        .to_string()
 }
 
 #[test]
 fn each_rule_names_line_and_reason() {
     let cases = [
-        ("lat,lon,value\n95,0,1\n", "line 2: latitude 95 is outside [-90, 90]"),
-        ("lat,lon,value\n-90.5,0,1\n", "line 2: latitude -90.5 is outside [-90, 90]"),
-        ("lat,lon,value\n0,400,1\n", "line 2: longitude 400 is outside [-180, 360]"),
-        ("lat,lon,value\nabc,0,1\n", "line 2: latitude `abc` is not a number"),
-        ("lat,lon,value\n0,0,NaN\n", "line 2: value NaN is not finite"),
-        ("lat,lon,value\n0,0,inf\n", "line 2: value inf is not finite"),
-        ("lat,lon,value,sigma\n0,0,1,0\n", "line 2: sigma 0 is not a finite number > 0"),
-        ("lat,lon,value,sigma\n0,0,1,-2\n", "line 2: sigma -2 is not a finite number > 0"),
-        ("# comment\nlat,lon,value\n\n0,0,1\n1,1,x\n", "line 5: value `x` is not a number"),
+        (
+            "lat,lon,value\n95,0,1\n",
+            "line 2: latitude 95 is outside [-90, 90]",
+        ),
+        (
+            "lat,lon,value\n-90.5,0,1\n",
+            "line 2: latitude -90.5 is outside [-90, 90]",
+        ),
+        (
+            "lat,lon,value\n0,400,1\n",
+            "line 2: longitude 400 is outside [-180, 360]",
+        ),
+        (
+            "lat,lon,value\nabc,0,1\n",
+            "line 2: latitude `abc` is not a number",
+        ),
+        (
+            "lat,lon,value\n0,0,NaN\n",
+            "line 2: value NaN is not finite",
+        ),
+        (
+            "lat,lon,value\n0,0,inf\n",
+            "line 2: value inf is not finite",
+        ),
+        (
+            "lat,lon,value,sigma\n0,0,1,0\n",
+            "line 2: sigma 0 is not a finite number > 0",
+        ),
+        (
+            "lat,lon,value,sigma\n0,0,1,-2\n",
+            "line 2: sigma -2 is not a finite number > 0",
+        ),
+        (
+            "# comment\nlat,lon,value\n\n0,0,1\n1,1,x\n",
+            "line 5: value `x` is not a number",
+        ),
     ];
     for (text, expected) in cases {
         let err = error_of(text);
@@ -48,21 +80,35 @@ fn error_quotes_the_first_five_bad_rows() {
     text.push_str("10,10,1\n");
     let err = error_of(&text);
     assert!(err.contains("8 bad rows of 9"), "{err}");
-    assert!(err.contains("line 2:") && err.contains("line 6:") && !err.contains("line 7:"), "{err}");
+    assert!(
+        err.contains("line 2:") && err.contains("line 6:") && !err.contains("line 7:"),
+        "{err}"
+    );
     assert!(err.contains("..."), "{err}");
 }
 
 #[test]
 fn skip_policy_skips_and_counts() {
     let dir = tempfile::tempdir().unwrap();
-    let path = csv(dir.path(), "p.csv", "lat,lon,value\n0,0,1\n91,0,1\n1,1,2\n2,2,NaN\n");
-    let options = PointReadOptions { on_bad_row: BadRowPolicy::Skip, ..Default::default() };
+    let path = csv(
+        dir.path(),
+        "p.csv",
+        "lat,lon,value\n0,0,1\n91,0,1\n1,1,2\n2,2,NaN\n",
+    );
+    let options = PointReadOptions {
+        on_bad_row: BadRowPolicy::Skip,
+        ..Default::default()
+    };
     let (points, report) = read_points(&path, &options).unwrap();
     assert_eq!(points.len(), 2);
     assert_eq!(report.rows_read, 4);
     assert_eq!(report.bad_rows_skipped, 2);
     assert_eq!(points.source_lines, vec![2, 4]);
-    assert!(report.summary().contains("2 bad rows skipped"), "{}", report.summary());
+    assert!(
+        report.summary().contains("2 bad rows skipped"),
+        "{}",
+        report.summary()
+    );
     assert!(report.bad_row_examples[0].contains("line 3: latitude 91"));
 }
 
@@ -70,15 +116,25 @@ fn skip_policy_skips_and_counts() {
 fn all_rows_bad_is_an_error_even_when_skipping() {
     let dir = tempfile::tempdir().unwrap();
     let path = csv(dir.path(), "p.csv", "lat,lon,value\n91,0,1\n");
-    let options = PointReadOptions { on_bad_row: BadRowPolicy::Skip, ..Default::default() };
+    let options = PointReadOptions {
+        on_bad_row: BadRowPolicy::Skip,
+        ..Default::default()
+    };
     let err = read_points(&path, &options).unwrap_err().to_string();
-    assert!(err.contains("no valid observations (1 rows read, 1 bad)"), "{err}");
+    assert!(
+        err.contains("no valid observations (1 rows read, 1 bad)"),
+        "{err}"
+    );
 }
 
 #[test]
 fn columns_are_case_insensitive_and_can_be_renamed() {
     let dir = tempfile::tempdir().unwrap();
-    let path = csv(dir.path(), "p.csv", "Latitude,LONG,Grav,Err\n10,-170,5,0.5\n");
+    let path = csv(
+        dir.path(),
+        "p.csv",
+        "Latitude,LONG,Grav,Err\n10,-170,5,0.5\n",
+    );
     let options = PointReadOptions {
         columns: ColumnNames::parse("lat=latitude,lon=long,value=GRAV,sigma=err").unwrap(),
         ..Default::default()
@@ -98,7 +154,10 @@ fn columns_are_case_insensitive_and_can_be_renamed() {
 #[test]
 fn missing_columns_and_bad_column_specs_are_named() {
     let err = error_of("latitude,lon,value\n1,2,3\n");
-    assert!(err.contains("no `lat` column for lat") && err.contains("latitude, lon, value"), "{err}");
+    assert!(
+        err.contains("no `lat` column for lat") && err.contains("latitude, lon, value"),
+        "{err}"
+    );
     assert!(err.contains("--columns lat=NAME"), "{err}");
     let err = error_of("lat,lon,g\n1,2,3\n");
     assert!(err.contains("no `value` column"), "{err}");
@@ -106,14 +165,22 @@ fn missing_columns_and_bad_column_specs_are_named() {
     assert!(err.contains("key `height` is not known"), "{err}");
     let err = ColumnNames::parse("lat").unwrap_err().to_string();
     assert!(err.contains("`lat` is not KEY=NAME"), "{err}");
-    assert!("maybe".parse::<BadRowPolicy>().unwrap_err().to_string().contains("expected `error` or `skip`"));
+    assert!("maybe"
+        .parse::<BadRowPolicy>()
+        .unwrap_err()
+        .to_string()
+        .contains("expected `error` or `skip`"));
 }
 
 #[test]
 fn positions_alone_are_accepted_when_values_are_not_required() {
     let dir = tempfile::tempdir().unwrap();
     let path = csv(dir.path(), "p.csv", "lat,lon\n1,2\n1,2\n");
-    let options = PointReadOptions { require_value: false, merge_duplicates: false, ..Default::default() };
+    let options = PointReadOptions {
+        require_value: false,
+        merge_duplicates: false,
+        ..Default::default()
+    };
     let (points, report) = read_points(&path, &options).unwrap();
     assert_eq!(points.len(), 2);
     assert!(!points.has_values() && points.value.is_empty());
@@ -125,14 +192,20 @@ fn duplicates_merge_by_inverse_variance_across_longitude_conventions() {
     // 1 ± 1 at 170°W and 4 ± 2 at 190°E (the same place): mean (1 + 4/4)/(1 + 1/4) = 1.6,
     // σ = 1/sqrt(1.25) (inverse-variance weighting; common practice).
     let dir = tempfile::tempdir().unwrap();
-    let path = csv(dir.path(), "p.csv", "lat,lon,value,sigma\n10,-170,1,1\n5,5,7,1\n10,190,4,2\n");
+    let path = csv(
+        dir.path(),
+        "p.csv",
+        "lat,lon,value,sigma\n10,-170,1,1\n5,5,7,1\n10,190,4,2\n",
+    );
     let (points, report) = read_points(&path, &PointReadOptions::default()).unwrap();
     assert_eq!(points.len(), 2);
     assert_eq!(report.duplicates_merged, 1);
     assert_eq!(report.duplicate_positions, 1);
     assert!((points.value[0] - 1.6).abs() < 1e-12);
     assert!((points.sigma.as_ref().unwrap()[0] - 1.25f64.sqrt().recip()).abs() < 1e-12);
-    assert!(report.summary().contains("1 duplicate observations merged into 1 positions"));
+    assert!(report
+        .summary()
+        .contains("1 duplicate observations merged into 1 positions"));
 }
 
 #[test]
@@ -140,11 +213,21 @@ fn netcdf_point_file_from_the_reference_library() {
     // Fixture: tests/reference/observe_points_netcdf.py (netCDF4-python 1.7.5, libnetcdf 4.10.1).
     let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/observe/points.nc");
     let columns = ColumnNames::parse("value=g,sigma=err").unwrap();
-    let err = read_points(&path, &PointReadOptions { columns: columns.clone(), ..Default::default() })
-        .unwrap_err()
-        .to_string();
+    let err = read_points(
+        &path,
+        &PointReadOptions {
+            columns: columns.clone(),
+            ..Default::default()
+        },
+    )
+    .unwrap_err()
+    .to_string();
     assert!(err.contains("record 3: value NaN is not finite"), "{err}");
-    let options = PointReadOptions { columns, on_bad_row: BadRowPolicy::Skip, ..Default::default() };
+    let options = PointReadOptions {
+        columns,
+        on_bad_row: BadRowPolicy::Skip,
+        ..Default::default()
+    };
     let (points, report) = read_points(&path, &options).unwrap();
     assert_eq!(report.rows_read, 5);
     assert_eq!(report.bad_rows_skipped, 1);
@@ -153,6 +236,11 @@ fn netcdf_point_file_from_the_reference_library() {
     assert_eq!(points.value, vec![1.5, -2.25, 3.0, 4.0]);
     assert_eq!(points.sigma, Some(vec![0.1, 0.2, 0.3, 0.5]));
     assert_eq!(points.source_lines, vec![0, 1, 2, 4]);
-    let err = read_points(&path, &PointReadOptions::default()).unwrap_err().to_string();
-    assert!(err.contains("no variable `value` for value") && err.contains("LAT"), "{err}");
+    let err = read_points(&path, &PointReadOptions::default())
+        .unwrap_err()
+        .to_string();
+    assert!(
+        err.contains("no variable `value` for value") && err.contains("LAT"),
+        "{err}"
+    );
 }

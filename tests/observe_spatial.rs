@@ -15,10 +15,23 @@ fn cloud(seed: u64) -> (Vec<f64>, Vec<f64>) {
     for i in 0..3000 {
         let (a, o) = match i % 3 {
             // near the poles, any longitude
-            0 => (rng.gen_range(85.0..=90.0) * if rng.gen_bool(0.5) { 1.0 } else { -1.0 }, rng.gen_range(-180.0..360.0)),
+            0 => (
+                rng.gen_range(85.0..=90.0) * if rng.gen_bool(0.5) { 1.0 } else { -1.0 },
+                rng.gen_range(-180.0..360.0),
+            ),
             // across the date line, in both conventions
-            1 => (rng.gen_range(-30.0..30.0), if rng.gen_bool(0.5) { rng.gen_range(175.0..185.0) } else { rng.gen_range(-180.0..-175.0) }),
-            _ => ((rng.gen_range(-1.0f64..1.0)).asin().to_degrees(), rng.gen_range(-180.0..180.0)),
+            1 => (
+                rng.gen_range(-30.0..30.0),
+                if rng.gen_bool(0.5) {
+                    rng.gen_range(175.0..185.0)
+                } else {
+                    rng.gen_range(-180.0..-175.0)
+                },
+            ),
+            _ => (
+                (rng.gen_range(-1.0f64..1.0)).asin().to_degrees(),
+                rng.gen_range(-180.0..180.0),
+            ),
         };
         lat.push(a);
         lon.push(o);
@@ -36,7 +49,10 @@ fn queries(rng: &mut ChaCha8Rng) -> Vec<[f64; 3]> {
         unit_vector(-10.0, 359.99),
     ];
     for _ in 0..200 {
-        q.push(unit_vector(rng.gen_range(-90.0..=90.0), rng.gen_range(-180.0..180.0)));
+        q.push(unit_vector(
+            rng.gen_range(-90.0..=90.0),
+            rng.gen_range(-180.0..180.0),
+        ));
     }
     q
 }
@@ -61,7 +77,10 @@ fn within_radius_matches_brute_force() {
                 .copied()
                 .collect();
             for i in differ {
-                assert!((angle_between(&pts[i], &q) - r).abs() < 1e-12, "point {i} misclassified at r = {radius_deg}°");
+                assert!(
+                    (angle_between(&pts[i], &q) - r).abs() < 1e-12,
+                    "point {i} misclassified at r = {radius_deg}°"
+                );
             }
         }
     }
@@ -79,7 +98,12 @@ fn nearest_k_matches_brute_force() {
         assert_eq!(tree.len(), 7);
         for (t, b) in tree.iter().zip(&brute) {
             // compare distances (ties may swap indices); chord→angle loses ~1e-8 rad at ψ → 0
-            assert!((t.angle_rad - b.1).abs() < 1e-7, "{} vs {}", t.angle_rad, b.1);
+            assert!(
+                (t.angle_rad - b.1).abs() < 1e-7,
+                "{} vs {}",
+                t.angle_rad,
+                b.1
+            );
         }
         let one = index.nearest(&q);
         assert!((one.angle_rad - brute[0].1).abs() < 1e-7);

@@ -32,7 +32,10 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     let regularization = Regularization::parse(&args.regularization)?;
     let body_radius_m = args.input.body_radius_m()?;
     let points = args.input.read(&args.points, ctx)?;
-    let options = FitOptions { regularization, body_radius_m };
+    let options = FitOptions {
+        regularization,
+        body_radius_m,
+    };
     let progress = Progress::new(0, "fit", ctx.quiet);
     let mut result = fit_with_progress(&points, args.lmax, &options, &progress)?;
     result.model.units = args.input.units.clone();

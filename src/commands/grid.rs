@@ -8,7 +8,9 @@ use crate::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention
 use crate::io::provenance::Provenance;
 use crate::observe::degree_choice::default_lmax_with_index;
 use crate::observe::gaps::{GapPolicy, DEFAULT_GAP_ITERATIONS, DEFAULT_GAP_TOLERANCE};
-use crate::observe::gridding::{grid_points_with_progress, GriddingMethod, GriddingOptions};
+use crate::observe::gridding::{
+    default_radius_km, grid_points_with_progress, GriddingMethod, GriddingOptions,
+};
 use crate::observe::points::{read_points, BadRowPolicy, ColumnNames, PointReadOptions, PointSet};
 use crate::observe::progress::Progress;
 use crate::observe::spatial::SphereIndex;
@@ -94,11 +96,6 @@ pub struct Args {
     pub input: PointInputArgs,
 }
 
-/// Default search radius: twice the node spacing πR/(L+1), so the half-width is one spacing.
-pub fn default_radius_km(lmax: usize, body_radius_m: f64) -> f64 {
-    2.0 * std::f64::consts::PI * body_radius_m / 1000.0 / (lmax + 1) as f64
-}
-
 pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     crate::io::atomic::refuse_overwrite_of_input(&args.output, &[&args.points])?;
     let lon_convention: LonConvention = args.lon_range.parse()?;
@@ -127,10 +124,17 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         }
     };
     let gaps = match GapPolicy::parse(&args.gaps)? {
-        GapPolicy::Iterative { .. } => GapPolicy::Iterative { tol: args.gap_tolerance, max_iter: args.gap_iterations },
+        GapPolicy::Iterative { .. } => GapPolicy::Iterative {
+            tol: args.gap_tolerance,
+            max_iter: args.gap_iterations,
+        },
         other => other,
     };
-    let options = GriddingOptions { method, gaps, body_radius_m };
+    let options = GriddingOptions {
+        method,
+        gaps,
+        body_radius_m,
+    };
     let progress = Progress::new(0, "gridding", ctx.quiet);
     let field = grid_points_with_progress(&points, lmax, &options, &progress)?;
     if !ctx.quiet {
@@ -140,23 +144,52 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         }
     }
 
-    let mut file = GridFile::from_engine_grid(&field.grid, format!("{} gridded by kugel", args.points.display()));
-    let value = file.push(&args.variable, "gridded observations", &args.input.units, None, field.value);
+    let mut file = GridFile::from_engine_grid(
+        &field.grid,
+        format!("{} gridded by kugel", args.points.display()),
+    );
+    let value = file.push(
+        &args.variable,
+        "gridded observations",
+        &args.input.units,
+        None,
+        field.value,
+    );
     value.ancillary = vec!["count".into(), "nearest_km".into()];
-    file.push("count", "number of observations in the node's mean", "1", None, field.count);
-    file.push("nearest_km", "distance from the node to the nearest observation", "km", None, field.nearest_km);
+    file.push(
+        "count",
+        "number of observations in the node's mean",
+        "1",
+        None,
+        field.count,
+    );
+    file.push(
+        "nearest_km",
+        "distance from the node to the nearest observation",
+        "km",
+        None,
+        field.nearest_km,
+    );
     let r = &field.report;
-    file.attributes.push(("gridding_method".into(), r.method.clone()));
-    file.attributes.push(("gridding_gap_nodes".into(), r.gap_nodes.to_string()));
-    file.attributes.push(("gridding_gap_fill".into(), r.gap_fill.describe()));
-    file.attributes.push(("gridding_points".into(), r.points.to_string()));
+    file.attributes
+        .push(("gridding_method".into(), r.method.clone()));
+    file.attributes
+        .push(("gridding_gap_nodes".into(), r.gap_nodes.to_string()));
+    file.attributes
+        .push(("gridding_gap_fill".into(), r.gap_fill.describe()));
+    file.attributes
+        .push(("gridding_points".into(), r.points.to_string()));
     let mut provenance = Provenance::from_command_line(&ctx.command_line);
     provenance.add_input(&args.points)?;
     provenance.lmax = Some(lmax);
     write_grid(
         &args.output,
         &file,
-        &GridWriteOptions { float32: false, lon_convention, provenance: &provenance },
+        &GridWriteOptions {
+            float32: false,
+            lon_convention,
+            provenance: &provenance,
+        },
     )?;
     if !ctx.quiet {
         eprintln!("wrote {}", args.output.display());

@@ -33,7 +33,10 @@ pub fn median_nearest_neighbour_rad(points: &PointSet, index: &SphereIndex) -> O
         .map(|i| {
             let q = index.point(i);
             // the first neighbour is the point itself
-            index.nearest_k(&q, 2).get(1).map_or(f64::NAN, |nb| nb.angle_rad)
+            index
+                .nearest_k(&q, 2)
+                .get(1)
+                .map_or(f64::NAN, |nb| nb.angle_rad)
         })
         .collect();
     d.retain(|v| v.is_finite());
@@ -51,11 +54,18 @@ pub fn default_lmax(points: &PointSet, body_radius_m: f64) -> (usize, String) {
 }
 
 /// As [`default_lmax`] with a ready index.
-pub fn default_lmax_with_index(points: &PointSet, index: &SphereIndex, body_radius_m: f64) -> (usize, String) {
+pub fn default_lmax_with_index(
+    points: &PointSet,
+    index: &SphereIndex,
+    body_radius_m: f64,
+) -> (usize, String) {
     match median_nearest_neighbour_rad(points, index) {
         None => (
             MIN_DEFAULT_LMAX,
-            format!("only {} observation(s): degree {MIN_DEFAULT_LMAX}", points.len()),
+            format!(
+                "only {} observation(s): degree {MIN_DEFAULT_LMAX}",
+                points.len()
+            ),
         ),
         Some(d) if d <= 0.0 => (
             MIN_DEFAULT_LMAX,

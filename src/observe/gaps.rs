@@ -72,7 +72,11 @@ impl GapFillReport {
                 "gaps filled {} in {} iterations (final relative change {change:.2e}{})",
                 self.policy,
                 self.iterations,
-                if self.converged { "" } else { ", tolerance NOT reached" }
+                if self.converged {
+                    ""
+                } else {
+                    ", tolerance NOT reached"
+                }
             ),
             None => format!("gaps filled with the {}", self.policy),
         }
@@ -133,7 +137,11 @@ pub fn fill_gaps(
         GapPolicy::Mean => {
             report.policy = "area-weighted mean of the data nodes".into();
             let mean = area_mean(field, gap, grid).unwrap_or(0.0);
-            field.zip_mut_with(gap, |v, &g| if g { *v = mean });
+            field.zip_mut_with(gap, |v, &g| {
+                if g {
+                    *v = mean
+                }
+            });
         }
         GapPolicy::Iterative { tol, max_iter } => {
             report.policy = "iteratively by the band-limited model".into();
@@ -143,18 +151,30 @@ pub fn fill_gaps(
                 )));
             }
             let mean = area_mean(field, gap, grid).unwrap_or(0.0);
-            field.zip_mut_with(gap, |v, &g| if g { *v = mean });
+            field.zip_mut_with(gap, |v, &g| {
+                if g {
+                    *v = mean
+                }
+            });
             if gap_nodes == 0 {
                 return Ok(report);
             }
             let data_rms = {
                 let (mut n, mut s) = (0usize, 0.0);
-                field.iter().zip(gap.iter()).filter(|(_, &g)| !g).for_each(|(v, _)| {
-                    n += 1;
-                    s += (v - mean) * (v - mean);
-                });
+                field
+                    .iter()
+                    .zip(gap.iter())
+                    .filter(|(_, &g)| !g)
+                    .for_each(|(v, _)| {
+                        n += 1;
+                        s += (v - mean) * (v - mean);
+                    });
                 let rms = (s / n.max(1) as f64).sqrt();
-                if rms > 0.0 { rms } else { 1.0 }
+                if rms > 0.0 {
+                    rms
+                } else {
+                    1.0
+                }
             };
             let plan = TransformPlan::new(lmax, grid)?;
             progress.stage(max_iter as u64, "filling gaps");

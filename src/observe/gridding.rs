@@ -31,6 +31,12 @@ pub const EARTH_MEAN_RADIUS_M: f64 = 6_371_000.0;
 /// a node dominates without an infinite weight.
 pub const IDW_MIN_DISTANCE_M: f64 = 1.0;
 
+/// Default search radius, km: twice the node spacing πR/(L+1), so the kernel's half-width is
+/// one node spacing.
+pub fn default_radius_km(lmax: usize, body_radius_m: f64) -> f64 {
+    2.0 * std::f64::consts::PI * body_radius_m / 1000.0 / (lmax + 1) as f64
+}
+
 /// How each node's value is formed.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum GriddingMethod {
@@ -124,7 +130,11 @@ pub fn gridding_memory_bytes(points: usize, lmax: usize) -> u64 {
 }
 
 /// Grids the points onto `GaussGrid::new(lmax)` (no progress output).
-pub fn grid_points(points: &PointSet, lmax: usize, options: &GriddingOptions) -> Result<GriddedField> {
+pub fn grid_points(
+    points: &PointSet,
+    lmax: usize,
+    options: &GriddingOptions,
+) -> Result<GriddedField> {
     grid_points_with_progress(points, lmax, options, &Progress::hidden())
 }
 
@@ -137,7 +147,10 @@ pub fn grid_points_with_progress(
 ) -> Result<GriddedField> {
     validate_options(points, lmax, options)?;
     crate::memory::check_fits(
-        &format!("gridding {} points onto the L = {lmax} Gauss grid", points.len()),
+        &format!(
+            "gridding {} points onto the L = {lmax} Gauss grid",
+            points.len()
+        ),
         gridding_memory_bytes(points.len(), lmax),
     )?;
     let index = SphereIndex::new(&points.lat_deg, &points.lon_deg);
@@ -161,7 +174,14 @@ pub fn grid_points_with_progress(
             for k in 0..nlon {
                 let (sl, cl) = cos_lon[k];
                 let q = [st * cl, st * sl, ct];
-                let node = grid_node(&index, &q, &options.method, options.body_radius_m, points, &weights);
+                let node = grid_node(
+                    &index,
+                    &q,
+                    &options.method,
+                    options.body_radius_m,
+                    points,
+                    &weights,
+                );
                 v_row[k] = node.value;
                 c_row[k] = node.count as f64;
                 n_row[k] = node.nearest_rad * km_per_rad;
@@ -173,7 +193,16 @@ pub fn grid_points_with_progress(
     let nearest_km = Array2::from_shape_vec((nlat, nlon), nearest).expect("shape");
     let gap_mask = value.mapv(|v| v.is_nan());
     let gap_nodes = gap_mask.iter().filter(|&&g| g).count();
-    let gap_fill = fill_gaps(&mut value, &gap_mask, &grid, lmax, &options.gaps, &index, points, progress)?;
+    let gap_fill = fill_gaps(
+        &mut value,
+        &gap_mask,
+        &grid,
+        lmax,
+        &options.gaps,
+        &index,
+        points,
+        progress,
+    )?;
     progress.finish();
     let max_nearest_km = nearest_km.iter().cloned().fold(0.0, f64::max);
     Ok(GriddedField {
@@ -198,7 +227,9 @@ fn validate_options(points: &PointSet, lmax: usize, options: &GriddingOptions) -
         return Err(Error::invalid("no observations to grid"));
     }
     if points.value.len() != points.len() {
-        return Err(Error::invalid("the points carry no values to grid (no value column)"));
+        return Err(Error::invalid(
+            "the points carry no values to grid (no value column)",
+        ));
     }
     if lmax == 0 {
         return Err(Error::invalid("--lmax must be at least 1 for gridding"));
@@ -212,7 +243,9 @@ fn validate_options(points: &PointSet, lmax: usize, options: &GriddingOptions) -
     match options.method {
         GriddingMethod::Kernel { radius_km } => {
             if !(radius_km.is_finite() && radius_km > 0.0) {
-                return Err(Error::invalid(format!("--radius-km {radius_km} must be a positive number of km")));
+                return Err(Error::invalid(format!(
+                    "--radius-km {radius_km} must be a positive number of km"
+                )));
             }
             let half_circumference_km = std::f64::consts::PI * options.body_radius_m / 1000.0;
             if radius_km > half_circumference_km {
@@ -257,7 +290,11 @@ fn grid_node(
             let kernel = GaussianKernel::for_search_radius(radius_km, body_radius_m);
             let found = index.within(q, kernel.cutoff_rad);
             if found.is_empty() {
-                return NodeValue { value: f64::NAN, count: 0, nearest_rad: index.nearest(q).angle_rad };
+                return NodeValue {
+                    value: f64::NAN,
+                    count: 0,
+                    nearest_rad: index.nearest(q).angle_rad,
+                };
             }
             let (mut sw, mut swv, mut nearest) = (0.0, 0.0, f64::INFINITY);
             for n in &found {
@@ -266,7 +303,11 @@ fn grid_node(
                 swv += w * points.value[n.index];
                 nearest = nearest.min(n.angle_rad);
             }
-            NodeValue { value: swv / sw, count: found.len(), nearest_rad: nearest }
+            NodeValue {
+                value: swv / sw,
+                count: found.len(),
+                nearest_rad: nearest,
+            }
         }
         GriddingMethod::Nearest { k } => {
             let found = index.nearest_k(q, k);

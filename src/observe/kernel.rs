@@ -36,7 +36,11 @@ impl GaussianKernel {
     pub fn new(half_width_rad: f64, cutoff_rad: f64) -> GaussianKernel {
         // 1 − cos h = 2 sin²(h/2) keeps precision for small h.
         let one_minus_cos = 2.0 * (0.5 * half_width_rad).sin().powi(2);
-        GaussianKernel { half_width_rad, cutoff_rad, b: std::f64::consts::LN_2 / one_minus_cos }
+        GaussianKernel {
+            half_width_rad,
+            cutoff_rad,
+            b: std::f64::consts::LN_2 / one_minus_cos,
+        }
     }
 
     /// Weight at the central angle ψ (radians), zero beyond the cut-off.
@@ -123,7 +127,11 @@ mod tests {
         let w = k.degree_response(200);
         for l in [0usize, 10, 50, 100, 200] {
             let expected = (-((l * (l + 1)) as f64) / (2.0 * k.b)).exp();
-            assert!((w[l] - expected).abs() < 2e-3, "l={l}: {} vs {expected}", w[l]);
+            assert!(
+                (w[l] - expected).abs() < 2e-3,
+                "l={l}: {} vs {expected}",
+                w[l]
+            );
         }
     }
 }

@@ -64,7 +64,9 @@ impl Regularization {
                     Some(_) => return Err(bad("only `gcv` may follow the Kaula parameters")),
                     None => (rest, false),
                 };
-                let (a, p) = params.split_once(',').ok_or_else(|| bad("Kaula needs A,p"))?;
+                let (a, p) = params
+                    .split_once(',')
+                    .ok_or_else(|| bad("Kaula needs A,p"))?;
                 let a = number(a, "A")?;
                 let p = p
                     .trim()
@@ -72,7 +74,11 @@ impl Regularization {
                     .ok()
                     .filter(|v| v.is_finite() && *v >= 0.0)
                     .ok_or_else(|| bad(&format!("exponent p `{p}` is not a number ≥ 0")))?;
-                Ok(if gcv { Regularization::KaulaGcv { a, p } } else { Regularization::Kaula { a, p } })
+                Ok(if gcv {
+                    Regularization::KaulaGcv { a, p }
+                } else {
+                    Regularization::Kaula { a, p }
+                })
             }
             _ => Err(bad("unknown form")),
         }
@@ -84,7 +90,9 @@ impl Regularization {
             Regularization::Damping(l) => format!("Tikhonov damping λ = {l:e}"),
             Regularization::Kaula { a, p } => format!("Kaula-type prior RMS {a:e}·l^-{p}"),
             Regularization::Gcv => "Tikhonov damping, λ by GCV".into(),
-            Regularization::KaulaGcv { a, p } => format!("Kaula-type prior RMS {a:e}·l^-{p}, scaled by λ from GCV"),
+            Regularization::KaulaGcv { a, p } => {
+                format!("Kaula-type prior RMS {a:e}·l^-{p}, scaled by λ from GCV")
+            }
         }
     }
 
@@ -115,7 +123,10 @@ pub struct FitOptions {
 
 impl Default for FitOptions {
     fn default() -> Self {
-        FitOptions { regularization: Regularization::None, body_radius_m: EARTH_MEAN_RADIUS_M }
+        FitOptions {
+            regularization: Regularization::None,
+            body_radius_m: EARTH_MEAN_RADIUS_M,
+        }
     }
 }
 
@@ -167,7 +178,10 @@ pub fn fit_with_progress(
         return Err(Error::invalid("the fit needs observations with values"));
     }
     if !(options.body_radius_m.is_finite() && options.body_radius_m > 0.0) {
-        return Err(Error::invalid(format!("body radius {} m is not a positive number", options.body_radius_m)));
+        return Err(Error::invalid(format!(
+            "body radius {} m is not a positive number",
+            options.body_radius_m
+        )));
     }
     let layout = UnknownLayout::new(lmax);
     let u = layout.len();
@@ -185,19 +199,39 @@ pub fn fit_with_progress(
         Regularization::Damping(l) => l,
         Regularization::Kaula { .. } => 1.0,
         Regularization::Gcv | Regularization::KaulaGcv { .. } => {
-            let spectrum = GcvSpectrum::new(&normals.n, &prior, &normals.b, normals.y_w_y, normals.observations);
+            let spectrum = GcvSpectrum::new(
+                &normals.n,
+                &prior,
+                &normals.b,
+                normals.y_w_y,
+                normals.observations,
+            );
             spectrum.choose().lambda
         }
     };
     let solution = solve(&normals.n, &prior, lambda, &normals.b)?;
 
     let predicted = predict(points, &layout, &solution.x);
-    let residuals: Vec<f64> = points.value.iter().zip(&predicted).map(|(y, p)| y - p).collect();
+    let residuals: Vec<f64> = points
+        .value
+        .iter()
+        .zip(&predicted)
+        .map(|(y, p)| y - p)
+        .collect();
     let n = points.len() as f64;
     let residual_rms = (residuals.iter().map(|r| r * r).sum::<f64>() / n).sqrt();
-    let chi2: f64 = residuals.iter().enumerate().map(|(i, r)| points.weight(i) * r * r).sum();
+    let chi2: f64 = residuals
+        .iter()
+        .enumerate()
+        .map(|(i, r)| points.weight(i) * r * r)
+        .sum();
     let trace_h = u as f64
-        - lambda * prior.iter().zip(&solution.covariance_diagonal).map(|(p, c)| p * c).sum::<f64>();
+        - lambda
+            * prior
+                .iter()
+                .zip(&solution.covariance_diagonal)
+                .map(|(p, c)| p * c)
+                .sum::<f64>();
     let dof = n - trace_h;
     let chi2_per_dof = if dof > 0.5 { chi2 / dof } else { f64::NAN };
     if dof <= 0.5 {
@@ -207,8 +241,16 @@ pub fn fit_with_progress(
         ));
     }
     let sigmas_scaled = points.sigma.is_none();
-    let factor = if sigmas_scaled && chi2_per_dof.is_finite() { chi2_per_dof } else { 1.0 };
-    let sigma: Vec<f64> = solution.covariance_diagonal.iter().map(|c| (c.max(0.0) * factor).sqrt()).collect();
+    let factor = if sigmas_scaled && chi2_per_dof.is_finite() {
+        chi2_per_dof
+    } else {
+        1.0
+    };
+    let sigma: Vec<f64> = solution
+        .covariance_diagonal
+        .iter()
+        .map(|c| (c.max(0.0) * factor).sqrt())
+        .collect();
     if solution.condition_estimate > 1e12 {
         warnings.push(format!(
             "the normal matrix is ill-conditioned (condition ≈ {:.1e}): coefficients and their σ are unreliable; regularise or lower --lmax",
@@ -217,11 +259,22 @@ pub fn fit_with_progress(
     }
     let mut model = layout.to_coefficients(&solution.x, Some(&sigma));
     model.reference_radius_m = options.body_radius_m;
-    model.attributes.insert("fit_regularization".into(), options.regularization.describe());
-    model.attributes.insert("fit_lambda".into(), format!("{lambda:e}"));
-    model.attributes.insert("fit_observations".into(), points.len().to_string());
-    model.attributes.insert("fit_chi2_per_dof".into(), format!("{chi2_per_dof}"));
-    model.attributes.insert("fit_residual_rms".into(), format!("{residual_rms}"));
+    model.attributes.insert(
+        "fit_regularization".into(),
+        options.regularization.describe(),
+    );
+    model
+        .attributes
+        .insert("fit_lambda".into(), format!("{lambda:e}"));
+    model
+        .attributes
+        .insert("fit_observations".into(), points.len().to_string());
+    model
+        .attributes
+        .insert("fit_chi2_per_dof".into(), format!("{chi2_per_dof}"));
+    model
+        .attributes
+        .insert("fit_residual_rms".into(), format!("{residual_rms}"));
     model.attributes.insert(
         "fit_sigma_convention".into(),
         if sigmas_scaled {

@@ -117,9 +117,20 @@ impl LegendreTable {
             }
         }
         let sectoral = (0..=lmax)
-            .map(|m| if m == 0 { 1.0 } else { ((2 * m + 1) as f64 / (2 * m) as f64).sqrt() })
+            .map(|m| {
+                if m == 0 {
+                    1.0
+                } else {
+                    ((2 * m + 1) as f64 / (2 * m) as f64).sqrt()
+                }
+            })
             .collect();
-        LegendreTable { lmax, a, b, sectoral }
+        LegendreTable {
+            lmax,
+            a,
+            b,
+            sectoral,
+        }
     }
 
     /// All P̄_lm(cos θ), packed (index `packed_index(l, m)`), for t = cos θ, u = sin θ.
@@ -138,7 +149,8 @@ impl LegendreTable {
             }
             for l in (m + 2)..=lmax {
                 let k = packed_index(l, m);
-                out[k] = self.a[k] * t * out[packed_index(l - 1, m)] - self.b[k] * out[packed_index(l - 2, m)];
+                out[k] = self.a[k] * t * out[packed_index(l - 1, m)]
+                    - self.b[k] * out[packed_index(l - 2, m)];
             }
         }
     }
@@ -198,14 +210,27 @@ mod tests {
         // P̄_22 = √15/2 u², P̄_31 = √(21/8) u (5t² − 1) = √42/4 u (5t² − 1).
         let table = LegendreTable::new(3);
         let mut p = vec![0.0; packed_len(3)];
-        for theta in [0.0f64, 0.3, 1.0, 1.5707963267948966, 2.9, std::f64::consts::PI] {
+        for theta in [
+            0.0f64,
+            0.3,
+            1.0,
+            1.5707963267948966,
+            2.9,
+            std::f64::consts::PI,
+        ] {
             let (u, t) = theta.sin_cos();
             table.fill(t, u, &mut p);
             let close = |a: f64, b: f64| (a - b).abs() < 1e-14;
-            assert!(close(p[packed_index(2, 0)], 5f64.sqrt() * (3.0 * t * t - 1.0) / 2.0));
+            assert!(close(
+                p[packed_index(2, 0)],
+                5f64.sqrt() * (3.0 * t * t - 1.0) / 2.0
+            ));
             assert!(close(p[packed_index(2, 1)], 15f64.sqrt() * t * u));
             assert!(close(p[packed_index(2, 2)], 15f64.sqrt() / 2.0 * u * u));
-            assert!(close(p[packed_index(3, 1)], 42f64.sqrt() / 4.0 * u * (5.0 * t * t - 1.0)));
+            assert!(close(
+                p[packed_index(3, 1)],
+                42f64.sqrt() / 4.0 * u * (5.0 * t * t - 1.0)
+            ));
         }
     }
 }

@@ -32,7 +32,13 @@ pub struct GcvSpectrum {
 
 impl GcvSpectrum {
     /// From the lower triangle of N, the prior diagonal P (> 0), b and yᵀWy.
-    pub fn new(normal: &Mat<f64>, prior: &[f64], b: &[f64], y_w_y: f64, observations: usize) -> GcvSpectrum {
+    pub fn new(
+        normal: &Mat<f64>,
+        prior: &[f64],
+        b: &[f64],
+        y_w_y: f64,
+        observations: usize,
+    ) -> GcvSpectrum {
         let u = b.len();
         let d: Vec<f64> = prior.iter().map(|p| 1.0 / p.sqrt()).collect();
         let scaled = Mat::<f64>::from_fn(u, u, |i, j| {
@@ -61,7 +67,12 @@ impl GcvSpectrum {
             .filter(|(l, _)| **l > floor)
             .map(|(l, z)| z / l)
             .sum();
-        GcvSpectrum { eigenvalues, z2, residual0: (y_w_y - explained).max(0.0), n: observations as f64 }
+        GcvSpectrum {
+            eigenvalues,
+            z2,
+            residual0: (y_w_y - explained).max(0.0),
+            n: observations as f64,
+        }
     }
 
     pub fn max_eigenvalue(&self) -> f64 {
@@ -81,7 +92,11 @@ impl GcvSpectrum {
             }
         }
         let dof = self.n - trace;
-        let gcv = if dof > 0.0 { self.n * residual / (dof * dof) } else { f64::INFINITY };
+        let gcv = if dof > 0.0 {
+            self.n * residual / (dof * dof)
+        } else {
+            f64::INFINITY
+        };
         (gcv, trace)
     }
 
@@ -112,9 +127,17 @@ impl GcvSpectrum {
             }
         }
         let t = 0.5 * (a + b);
-        let (t, _) = if at(t) <= best.1 { (t, ()) } else { (best.0, ()) };
+        let (t, _) = if at(t) <= best.1 {
+            (t, ())
+        } else {
+            (best.0, ())
+        };
         let lambda = 10f64.powf(t);
         let (gcv, trace_influence) = self.evaluate(lambda);
-        GcvChoice { lambda, gcv, trace_influence }
+        GcvChoice {
+            lambda,
+            gcv,
+            trace_influence,
+        }
     }
 }

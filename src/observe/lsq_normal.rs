@@ -70,7 +70,12 @@ pub fn assemble(points: &PointSet, layout: &UnknownLayout, progress: &Progress) 
         }
         progress.inc(1);
     }
-    NormalEquations { n, b, y_w_y, observations: count }
+    NormalEquations {
+        n,
+        b,
+        y_w_y,
+        observations: count,
+    }
 }
 
 /// Model values A x at every point (parallel; one design row per point).
@@ -86,4 +91,70 @@ pub fn predict(points: &PointSet, layout: &UnknownLayout, x: &[f64]) -> Vec<f64>
             },
         )
         .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Reference: N and b by point-by-point rank-one updates, the textbook definition.
+    fn rank_one_reference(points: &PointSet, layout: &UnknownLayout) -> (Vec<Vec<f64>>, Vec<f64>) {
+        let u = layout.len();
+        let table = LegendreTable::new(layout.lmax);
+        let (mut p, mut row) = (vec![0.0; packed_len(layout.lmax)], vec![0.0; u]);
+        let mut n = vec![vec![0.0; u]; u];
+        let mut b = vec![0.0; u];
+        for i in 0..points.len() {
+            design_row(
+                layout,
+                &table,
+                points.lat_deg[i],
+                points.lon_deg[i],
+                &mut p,
+                &mut row,
+            );
+            let w = points.weight(i);
+            for r in 0..u {
+                b[r] += w * row[r] * points.value[i];
+                for c in 0..u {
+                    n[r][c] += w * row[r] * row[c];
+                }
+            }
+        }
+        (n, b)
+    }
+
+    #[test]
+    fn blocked_assembly_matches_rank_one_updates() {
+        // More points than one block, so block boundaries are exercised.
+        let count = BLOCK_POINTS + 37;
+        let lat: Vec<f64> = (0..count)
+            .map(|i| -89.0 + 178.0 * ((i * 37) % count) as f64 / count as f64)
+            .collect();
+        let lon: Vec<f64> = (0..count)
+            .map(|i| -180.0 + 359.0 * ((i * 11) % count) as f64 / count as f64)
+            .collect();
+        let value: Vec<f64> = (0..count).map(|i| (i as f64 * 0.37).sin()).collect();
+        let sigma: Vec<f64> = (0..count).map(|i| 0.5 + (i % 3) as f64 * 0.25).collect();
+        let points = PointSet {
+            lat_deg: lat,
+            lon_deg: lon,
+            value,
+            sigma: Some(sigma),
+            source_lines: vec![0; count],
+        };
+        let layout = UnknownLayout::new(5);
+        let fast = assemble(&points, &layout, &Progress::hidden());
+        let (n, b) = rank_one_reference(&points, &layout);
+        let scale = n.iter().flatten().fold(0.0f64, |a, v| a.max(v.abs()));
+        for r in 0..layout.len() {
+            assert!((fast.b[r] - b[r]).abs() < 1e-11 * scale, "b[{r}]");
+            for c in 0..=r {
+                assert!(
+                    (fast.n[(r, c)] - n[r][c]).abs() < 1e-11 * scale,
+                    "N[{r},{c}]"
+                );
+            }
+        }
+    }
 }

@@ -101,5 +101,9 @@ pub fn solve(n: &Mat<f64>, prior: &[f64], lambda: f64, b: &[f64]) -> Result<Solu
         inv_lambda_min = normalise(&mut w);
         v = w;
     }
-    Ok(Solution { x, covariance_diagonal, condition_estimate: lambda_max * inv_lambda_min })
+    Ok(Solution {
+        x,
+        covariance_diagonal,
+        condition_estimate: lambda_max * inv_lambda_min,
+    })
 }

@@ -57,8 +57,7 @@ impl PointSet {
         sigma: Option<Vec<f64>>,
     ) -> Result<(PointSet, PointReadReport)> {
         let n = lat_deg.len();
-        if lon_deg.len() != n || value.len() != n || sigma.as_ref().is_some_and(|s| s.len() != n)
-        {
+        if lon_deg.len() != n || value.len() != n || sigma.as_ref().is_some_and(|s| s.len() != n) {
             return Err(Error::ShapeMismatch(format!(
                 "point vectors differ in length: lat {n}, lon {}, value {}, sigma {:?}",
                 lon_deg.len(),
@@ -137,7 +136,9 @@ impl ColumnNames {
             })?;
             let name = name.trim().to_string();
             if name.is_empty() {
-                return Err(Error::invalid(format!("--columns: `{part}` has an empty name")));
+                return Err(Error::invalid(format!(
+                    "--columns: `{part}` has an empty name"
+                )));
             }
             match key.trim().to_ascii_lowercase().as_str() {
                 "lat" => names.lat = name,

@@ -11,7 +11,13 @@ use super::validate::RawRecord;
 /// Reads the records of a CSV point file (unvalidated), through `io::csv_table`.
 pub fn read_csv_records(path: &Path, options: &PointReadOptions) -> Result<Vec<RawRecord>> {
     let table = crate::io::csv_table::read_csv_table(path)?;
-    records_from_table(path, &table.headers, &table.rows, &table.line_numbers, options)
+    records_from_table(
+        path,
+        &table.headers,
+        &table.rows,
+        &table.line_numbers,
+        options,
+    )
 }
 
 /// Finds a column by case-insensitive name.

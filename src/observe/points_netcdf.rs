@@ -13,7 +13,9 @@ use super::validate::RawRecord;
 
 /// Finds a variable by case-insensitive name.
 fn find_variable(path: &Path, file: &NcFile, name: &str) -> Result<Option<String>> {
-    let vars = file.variables().map_err(|e| Error::format(path, e.to_string()))?;
+    let vars = file
+        .variables()
+        .map_err(|e| Error::format(path, e.to_string()))?;
     Ok(vars
         .iter()
         .find(|v| v.name().eq_ignore_ascii_case(name))
@@ -22,11 +24,17 @@ fn find_variable(path: &Path, file: &NcFile, name: &str) -> Result<Option<String
 
 /// Reads the records of a NetCDF point file (unvalidated). Record numbers start at 0.
 pub fn read_netcdf_records(path: &Path, options: &PointReadOptions) -> Result<Vec<RawRecord>> {
-    let file = NcFile::open(path).map_err(|e| Error::format(path, format!("cannot open as NetCDF: {e}")))?;
+    let file = NcFile::open(path)
+        .map_err(|e| Error::format(path, format!("cannot open as NetCDF: {e}")))?;
     let names = &options.columns;
     let all_names = || -> String {
         file.variables()
-            .map(|v| v.iter().map(|v| v.name().to_string()).collect::<Vec<_>>().join(", "))
+            .map(|v| {
+                v.iter()
+                    .map(|v| v.name().to_string())
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            })
             .unwrap_or_default()
     };
     let locate = |key: &str, name: &str, required: bool| -> Result<Option<String>> {
@@ -48,7 +56,9 @@ pub fn read_netcdf_records(path: &Path, options: &PointReadOptions) -> Result<Ve
     let sigma = locate("sigma", &names.sigma, false)?;
 
     let read = |name: &str| -> Result<Vec<f64>> {
-        let var = file.variable(name).map_err(|e| Error::format(path, e.to_string()))?;
+        let var = file
+            .variable(name)
+            .map_err(|e| Error::format(path, e.to_string()))?;
         if var.dimensions().len() != 1 {
             return Err(Error::format(
                 path,

@@ -71,9 +71,15 @@ pub struct SphereIndex {
 impl SphereIndex {
     /// Builds the index of points given in degrees (either longitude convention).
     pub fn new(lat_deg: &[f64], lon_deg: &[f64]) -> SphereIndex {
-        let points: Vec<[f64; 3]> =
-            lat_deg.iter().zip(lon_deg).map(|(&a, &o)| unit_vector(a, o)).collect();
-        SphereIndex { tree: ImmutableKdTree::new_from_slice(&points), points }
+        let points: Vec<[f64; 3]> = lat_deg
+            .iter()
+            .zip(lon_deg)
+            .map(|(&a, &o)| unit_vector(a, o))
+            .collect();
+        SphereIndex {
+            tree: ImmutableKdTree::new_from_slice(&points),
+            points,
+        }
     }
 
     pub fn len(&self) -> usize {
@@ -125,8 +131,11 @@ pub fn brute_force_within(points: &[[f64; 3]], query: &[f64; 3], radius_rad: f64
 
 /// Reference implementation: the `k` nearest points by exhaustive search, nearest first.
 pub fn brute_force_nearest_k(points: &[[f64; 3]], query: &[f64; 3], k: usize) -> Vec<(usize, f64)> {
-    let mut all: Vec<(usize, f64)> =
-        points.iter().enumerate().map(|(i, p)| (i, angle_between(p, query))).collect();
+    let mut all: Vec<(usize, f64)> = points
+        .iter()
+        .enumerate()
+        .map(|(i, p)| (i, angle_between(p, query)))
+        .collect();
     all.sort_by(|a, b| a.1.total_cmp(&b.1));
     all.truncate(k);
     all

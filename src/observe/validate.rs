@@ -37,13 +37,16 @@ pub struct RawRecord {
 }
 
 /// Checks one record; the error text names the field and what was expected.
-fn check_record(r: &RawRecord) -> std::result::Result<(f64, f64, Option<f64>, Option<f64>), String> {
-    let number = |name: &str, f: &std::result::Result<f64, String>| -> std::result::Result<f64, String> {
-        match f {
-            Ok(v) => Ok(*v),
-            Err(text) => Err(format!("{name} `{text}` is not a number")),
-        }
-    };
+fn check_record(
+    r: &RawRecord,
+) -> std::result::Result<(f64, f64, Option<f64>, Option<f64>), String> {
+    let number =
+        |name: &str, f: &std::result::Result<f64, String>| -> std::result::Result<f64, String> {
+            match f {
+                Ok(v) => Ok(*v),
+                Err(text) => Err(format!("{name} `{text}` is not a number")),
+            }
+        };
     let lat = number("latitude", &r.lat)?;
     if !(-90.0..=90.0).contains(&lat) {
         return Err(format!("latitude {lat} is outside [-90, 90]"));
@@ -78,7 +81,11 @@ fn check_record(r: &RawRecord) -> std::result::Result<(f64, f64, Option<f64>, Op
 /// Position key for duplicate detection: exact equality after reducing longitude to [0, 360)
 /// (all longitudes coincide at a pole).
 fn position_key(lat: f64, lon: f64) -> (u64, u64) {
-    let lon = if lat.abs() == 90.0 { 0.0 } else { lon.rem_euclid(360.0) };
+    let lon = if lat.abs() == 90.0 {
+        0.0
+    } else {
+        lon.rem_euclid(360.0)
+    };
     // +0.0 avoids distinguishing −0 from 0.
     ((lat + 0.0).to_bits(), (lon + 0.0).to_bits())
 }
@@ -96,7 +103,9 @@ pub fn validate_records(
         rows_read: records.len(),
         ..Default::default()
     };
-    let has_value = records.first().map_or(options.require_value, |r| r.value.is_some());
+    let has_value = records
+        .first()
+        .map_or(options.require_value, |r| r.value.is_some());
     let has_sigma = records.first().is_some_and(|r| r.sigma.is_some());
     let mut set = PointSet::default();
     let mut sigma = Vec::new();
@@ -117,7 +126,9 @@ pub fn validate_records(
             Err(message) => {
                 bad += 1;
                 if report.bad_row_examples.len() < QUOTED_BAD_ROWS {
-                    report.bad_row_examples.push(format!("{unit} {}: {message}", r.line));
+                    report
+                        .bad_row_examples
+                        .push(format!("{unit} {}: {message}", r.line));
                 }
             }
         }
@@ -216,16 +227,30 @@ mod tests {
     use super::*;
 
     fn rec(line: usize, lat: f64, lon: f64, v: f64, s: Option<f64>) -> RawRecord {
-        RawRecord { line, lat: Ok(lat), lon: Ok(lon), value: Some(Ok(v)), sigma: s.map(Ok) }
+        RawRecord {
+            line,
+            lat: Ok(lat),
+            lon: Ok(lon),
+            value: Some(Ok(v)),
+            sigma: s.map(Ok),
+        }
     }
 
     #[test]
     fn weighted_mean_of_duplicates() {
         // Two measurements 1 ± 1 and 4 ± 2: weighted mean (1·1 + 4·0.25)/1.25 = 1.6,
         // σ = 1/sqrt(1.25) (common practice: inverse-variance weighting).
-        let recs = vec![rec(2, 10.0, -170.0, 1.0, Some(1.0)), rec(3, 10.0, 190.0, 4.0, Some(2.0))];
-        let (set, report) =
-            validate_records(Path::new("x.csv"), "line", recs, &PointReadOptions::default()).unwrap();
+        let recs = vec![
+            rec(2, 10.0, -170.0, 1.0, Some(1.0)),
+            rec(3, 10.0, 190.0, 4.0, Some(2.0)),
+        ];
+        let (set, report) = validate_records(
+            Path::new("x.csv"),
+            "line",
+            recs,
+            &PointReadOptions::default(),
+        )
+        .unwrap();
         assert_eq!(set.len(), 1);
         assert!((set.value[0] - 1.6).abs() < 1e-15);
         assert!((set.sigma.as_ref().unwrap()[0] - 1.0 / 1.25f64.sqrt()).abs() < 1e-15);
@@ -236,8 +261,13 @@ mod tests {
     #[test]
     fn pole_longitudes_coincide() {
         let recs = vec![rec(2, 90.0, 0.0, 1.0, None), rec(3, 90.0, 123.0, 3.0, None)];
-        let (set, report) =
-            validate_records(Path::new("x.csv"), "line", recs, &PointReadOptions::default()).unwrap();
+        let (set, report) = validate_records(
+            Path::new("x.csv"),
+            "line",
+            recs,
+            &PointReadOptions::default(),
+        )
+        .unwrap();
         assert_eq!(set.len(), 1);
         assert_eq!(set.value[0], 2.0);
         assert_eq!(report.duplicates_merged, 1);
