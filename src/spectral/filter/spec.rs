@@ -9,7 +9,9 @@
 //! | `butterworth:L0,N` | 1/sqrt(1 + (l/L0)^{2N}) |
 //! | `wiener:SIGNAL.csv,NOISE.csv` or `wiener:SIGNAL.csv,noise=X` | S_l/(S_l + N_l) |
 //!
-//! Every error names the spec as written and says what was expected.
+//! Every error names the spec as written and says what was expected. Spectrum paths in a
+//! `wiener` spec cannot contain `+` or `,` (they separate chain members and arguments). The
+//! `gauss` half-width is measured on the sphere of the model's reference radius.
 
 use std::path::{Path, PathBuf};
 
