@@ -1,7 +1,7 @@
 //! The typed config of a `kugel run` job (TOML).
 //!
 //! ```toml
-//! [job]       title, description, seed
+//! [job]       title, description
 //! [body]      name, radius_m, gm_m3_s2
 //! [output]    folder, formats, float32, lon_convention
 //! [inputs.NAME]  kind = "points" | "grid" | "model", path, ...
@@ -38,9 +38,6 @@ pub struct Config {
 pub struct JobSection {
     pub title: Option<String>,
     pub description: Option<String>,
-    /// Seed of every random choice a step makes (none of the current steps draw numbers;
-    /// kept so that a job's randomness, when added, is reproducible).
-    pub seed: Option<u64>,
 }
 
 /// The body whose field is modelled: reference radius and GM of the coefficient models.

@@ -92,16 +92,18 @@ fn run_staged(job: &Job, options: &RunOptions, staging: &mut Staging) -> Result<
     let mut cautions: Vec<String> = Vec::new();
     for level in &job.levels {
         let names: Vec<&String> = level.iter().filter(|n| job.config.steps.contains_key(n.as_str())).collect();
+        // the syntheses of a level run in parallel when their maps fit in memory together;
+        // the other steps of the level run one after another
+        let syntheses: Vec<&String> =
+            names.iter().copied().filter(|n| job.config.steps[n.as_str()].kind == "synthesize").collect();
         let parallel_bytes: u64 = job
             .memory
             .items
             .iter()
-            .filter(|(s, _, _)| names.iter().any(|n| *n == s))
+            .filter(|(s, _, _)| syntheses.iter().any(|n| *n == s))
             .map(|(_, _, b)| *b)
             .sum();
-        let parallel = names.len() > 1
-            && names.iter().all(|n| job.config.steps[n.as_str()].kind == "synthesize")
-            && crate::memory::check_fits("parallel syntheses", parallel_bytes).is_ok();
+        let parallel = syntheses.len() > 1 && crate::memory::check_fits("parallel syntheses", parallel_bytes).is_ok();
         let env = StepEnv { job, staging_dir: &staging.dir, provenance: &provenance, products: &products, quiet: options.quiet };
         let run_one = |name: &String| -> Result<(String, StepOutcome, f64)> {
             let t = Instant::now();
@@ -110,15 +112,21 @@ fn run_staged(job: &Job, options: &RunOptions, staging: &mut Staging) -> Result<
                 .map_err(|e| crate::Error::invalid(format!("step '{name}' ({}): {e}", step.kind)))?;
             Ok((name.clone(), outcome, t.elapsed().as_secs_f64()))
         };
-        for n in &names {
-            progress.stage(&format!("{n} ({})", job.config.steps[n.as_str()].kind));
+        let mut results: Vec<(String, StepOutcome, f64)> = Vec::new();
+        if parallel {
+            progress.stage(&format!("{} syntheses in parallel", syntheses.len()));
+            results = syntheses.par_iter().map(|n| run_one(n)).collect::<Result<_>>()?;
         }
-        // results come back in level order either way, so outputs do not depend on scheduling
-        let results: Vec<(String, StepOutcome, f64)> = if parallel {
-            names.par_iter().map(|n| run_one(n)).collect::<Result<_>>()?
-        } else {
-            names.iter().map(|n| run_one(n)).collect::<Result<_>>()?
-        };
+        for n in &names {
+            if parallel && syntheses.contains(n) {
+                continue;
+            }
+            progress.stage(&format!("{n} ({})", job.config.steps[n.as_str()].kind));
+            results.push(run_one(n)?);
+        }
+        // records, report blocks and the summary follow the level's name order, whatever ran
+        // first, so outputs do not depend on scheduling
+        results.sort_by(|a, b| a.0.cmp(&b.0));
         for (name, outcome, seconds) in results {
             if options.verbose && !options.quiet {
                 eprintln!("step {name}: {:.1} s, {} file(s)", seconds, outcome.files.len());

@@ -10,7 +10,7 @@ use super::suggest;
 
 /// Top-level tables.
 pub const TOP_KEYS: &[&str] = &["job", "body", "output", "inputs", "steps"];
-pub const JOB_KEYS: &[&str] = &["title", "description", "seed"];
+pub const JOB_KEYS: &[&str] = &["title", "description"];
 pub const BODY_KEYS: &[&str] = &["name", "radius_m", "gm_m3_s2"];
 pub const OUTPUT_KEYS: &[&str] = &["folder", "formats", "float32", "lon_convention"];
 pub const COLUMN_KEYS: &[&str] = &["lat", "lon", "value", "sigma"];

@@ -58,6 +58,8 @@ impl<const W: usize> SynthSums<W> {
     }
 }
 
+/// Loads the events of degree `l` (from `*ev` on) into the state. Runs between segments
+/// only: its dynamic lane index would otherwise pin the state arrays to memory.
 #[inline(always)]
 fn inject<const W: usize>(
     events: &[Event],
@@ -74,15 +76,15 @@ fn inject<const W: usize>(
     }
 }
 
+/// One recursion step P̄_{l−1}, P̄_l → P̄_l, P̄_{l+1} with `a` = a_{l+1}, `b` = b_{l+1}.
 #[inline(always)]
 fn advance<const W: usize, const FMA: bool>(
-    rc: &OrderCoefficients,
-    l: usize,
+    a: f64,
+    b: f64,
     x: &[f64; W],
     p0: &mut [f64; W],
     p1: &mut [f64; W],
 ) {
-    let (a, b) = (rc.a[l + 1], rc.b[l + 1]);
     for i in 0..W {
         let next = fmadd::<FMA>(a * x[i], p1[i], -(b * p0[i]));
         p0[i] = p1[i];
@@ -90,37 +92,126 @@ fn advance<const W: usize, const FMA: bool>(
     }
 }
 
+/// Sums of one parity class of l − m.
+#[derive(Clone, Copy)]
+struct Acc<const W: usize> {
+    c: [f64; W],
+    s: [f64; W],
+    dc: [f64; W],
+    ds: [f64; W],
+}
+
+impl<const W: usize> Acc<W> {
+    const ZERO: Self = Acc {
+        c: [0.0; W],
+        s: [0.0; W],
+        dc: [0.0; W],
+        ds: [0.0; W],
+    };
+}
+
 #[inline(always)]
 #[allow(clippy::too_many_arguments)]
-fn accumulate_synth<const W: usize, const FMA: bool, const GRAD: bool>(
-    rc: &OrderCoefficients,
-    l: usize,
+fn synth_step<const W: usize, const FMA: bool, const GRAD: bool>(
+    lf: f64,
+    f: f64,
     cl: f64,
     sl: f64,
+    a_next: f64,
+    b_next: f64,
     x: &[f64; W],
-    p0: &[f64; W],
-    p1: &[f64; W],
-    ac: &mut [f64; W],
-    as_: &mut [f64; W],
-    dc: &mut [f64; W],
-    ds: &mut [f64; W],
+    p0: &mut [f64; W],
+    p1: &mut [f64; W],
+    acc: &mut Acc<W>,
 ) {
     for i in 0..W {
-        ac[i] = fmadd::<FMA>(cl, p1[i], ac[i]);
-        as_[i] = fmadd::<FMA>(sl, p1[i], as_[i]);
+        acc.c[i] = fmadd::<FMA>(cl, p1[i], acc.c[i]);
+        acc.s[i] = fmadd::<FMA>(sl, p1[i], acc.s[i]);
     }
     if GRAD {
-        let (lf, f) = (l as f64, rc.f[l]);
         for i in 0..W {
             let d = fmadd::<FMA>(lf * x[i], p1[i], -(f * p0[i]));
-            dc[i] = fmadd::<FMA>(cl, d, dc[i]);
-            ds[i] = fmadd::<FMA>(sl, d, ds[i]);
+            acc.dc[i] = fmadd::<FMA>(cl, d, acc.dc[i]);
+            acc.ds[i] = fmadd::<FMA>(sl, d, acc.ds[i]);
         }
     }
+    advance::<W, FMA>(a_next, b_next, x, p0, p1);
+}
+
+/// Degrees l0..l0 + n with no lane entering: the state and both parity sums travel by value
+/// and every index is static, so the whole loop runs in registers. `cur` collects the parity
+/// of l0 and is returned as the parity of l0 + n. Slices start at l0 (`a`, `b` at l0 + 1) and
+/// hold at least n entries.
+#[inline(always)]
+#[allow(clippy::too_many_arguments)]
+fn synth_segment<const W: usize, const FMA: bool, const GRAD: bool>(
+    l0: usize,
+    n: usize,
+    a: &[f64],
+    b: &[f64],
+    f: &[f64],
+    c: &[f64],
+    s: &[f64],
+    x: &[f64; W],
+    mut p0: [f64; W],
+    mut p1: [f64; W],
+    mut cur: Acc<W>,
+    mut other: Acc<W>,
+) -> ([f64; W], [f64; W], Acc<W>, Acc<W>) {
+    let (a, b, c, s) = (&a[..n], &b[..n], &c[..n], &s[..n]);
+    let f = if GRAD { &f[..n] } else { &f[..0] };
+    let fv = |k: usize| if GRAD { f[k] } else { 0.0 };
+    let mut k = 0;
+    while k + 2 <= n {
+        let lf = (l0 + k) as f64;
+        synth_step::<W, FMA, GRAD>(
+            lf,
+            fv(k),
+            c[k],
+            s[k],
+            a[k],
+            b[k],
+            x,
+            &mut p0,
+            &mut p1,
+            &mut cur,
+        );
+        synth_step::<W, FMA, GRAD>(
+            lf + 1.0,
+            fv(k + 1),
+            c[k + 1],
+            s[k + 1],
+            a[k + 1],
+            b[k + 1],
+            x,
+            &mut p0,
+            &mut p1,
+            &mut other,
+        );
+        k += 2;
+    }
+    if k < n {
+        let lf = (l0 + k) as f64;
+        synth_step::<W, FMA, GRAD>(
+            lf,
+            fv(k),
+            c[k],
+            s[k],
+            a[k],
+            b[k],
+            x,
+            &mut p0,
+            &mut p1,
+            &mut cur,
+        );
+        std::mem::swap(&mut cur, &mut other);
+    }
+    (p0, p1, cur, other)
 }
 
 /// Synthesis sums for one order and one block: Σ_l C_lm P̄_lm(x_i) etc. per lane.
 /// `c[l]`, `s[l]` hold the coefficients of order m; `events` must be sorted by degree.
+/// `rc.a`, `rc.b` must hold lmax + 2 entries (the last is read by a final, discarded step).
 #[inline(always)]
 pub fn synth_block<const W: usize, const FMA: bool, const GRAD: bool>(
     rc: &OrderCoefficients,
@@ -136,42 +227,45 @@ pub fn synth_block<const W: usize, const FMA: bool, const GRAD: bool>(
     let (m, lmax) = (rc.m, rc.lmax);
     let mut p0 = [0.0; W];
     let mut p1 = [0.0; W];
-    let (mut ac0, mut as0, mut dc0, mut ds0) = ([0.0; W], [0.0; W], [0.0; W], [0.0; W]);
-    let (mut ac1, mut as1, mut dc1, mut ds1) = ([0.0; W], [0.0; W], [0.0; W], [0.0; W]);
+    let (mut cur, mut other) = (Acc::<W>::ZERO, Acc::<W>::ZERO);
     let mut ev = 0;
-    let l_first = first.l;
-    let mut l = l_first;
+    let mut l = first.l;
+    inject(events, &mut ev, l, &mut p0, &mut p1);
     loop {
-        inject(events, &mut ev, l, &mut p0, &mut p1);
-        accumulate_synth::<W, FMA, GRAD>(
-            rc, l, c[l], s[l], x, &p0, &p1, &mut ac0, &mut as0, &mut dc0, &mut ds0,
+        let l_end = if ev < events.len() {
+            events[ev].l
+        } else {
+            lmax + 1
+        };
+        let n = l_end - l;
+        (p0, p1, cur, other) = synth_segment::<W, FMA, GRAD>(
+            l,
+            n,
+            &rc.a[l + 1..],
+            &rc.b[l + 1..],
+            if GRAD { &rc.f[l..] } else { &rc.f[..0] },
+            &c[l..],
+            &s[l..],
+            x,
+            p0,
+            p1,
+            cur,
+            other,
         );
-        if l == lmax {
+        l = l_end;
+        if l > lmax {
             break;
         }
-        advance::<W, FMA>(rc, l, x, &mut p0, &mut p1);
-        l += 1;
         inject(events, &mut ev, l, &mut p0, &mut p1);
-        accumulate_synth::<W, FMA, GRAD>(
-            rc, l, c[l], s[l], x, &p0, &p1, &mut ac1, &mut as1, &mut dc1, &mut ds1,
-        );
-        if l == lmax {
-            break;
-        }
-        advance::<W, FMA>(rc, l, x, &mut p0, &mut p1);
-        l += 1;
     }
-    let first_parity = (l_first - m) & 1;
-    let (e, o) = (first_parity, 1 - first_parity);
-    out.c[e] = ac0;
-    out.s[e] = as0;
-    out.c[o] = ac1;
-    out.s[o] = as1;
+    // `cur` now belongs to the parity of lmax + 1 − m
+    let pc = (lmax + 1 - m) & 1;
+    let (e, o) = if pc == 0 { (cur, other) } else { (other, cur) };
+    out.c = [e.c, o.c];
+    out.s = [e.s, o.s];
     if GRAD {
-        out.dc[e] = dc0;
-        out.ds[e] = ds0;
-        out.dc[o] = dc1;
-        out.ds[o] = ds1;
+        out.dc = [e.dc, o.dc];
+        out.ds = [e.ds, o.ds];
     }
     out
 }
@@ -181,7 +275,6 @@ pub const FOLD: usize = 4;
 
 #[inline(always)]
 fn accumulate_analysis<const W: usize, const FMA: bool>(
-    l: usize,
     p1: &[f64; W],
     hr: &[f64; W],
     hi: &[f64; W],
@@ -197,15 +290,66 @@ fn accumulate_analysis<const W: usize, const FMA: bool>(
             si[k] = fmadd::<FMA>(p1[i], hi[i], si[k]);
         }
     }
-    let base = l * FOLD;
     for k in 0..FOLD {
-        acc_re[base + k] += sr[k];
-        acc_im[base + k] += si[k];
+        acc_re[k] += sr[k];
+        acc_im[k] += si[k];
     }
+}
+
+/// Degrees l0..l0 + n with no lane entering (see `synth_segment`). `h_cur` belongs to the
+/// parity of l0; the pair is returned swapped when n is odd. `acc_re`/`acc_im` start at
+/// l0·FOLD, `a`, `b` at l0 + 1.
+#[inline(always)]
+#[allow(clippy::too_many_arguments)]
+fn analysis_segment<'h, const W: usize, const FMA: bool>(
+    n: usize,
+    a: &[f64],
+    b: &[f64],
+    x: &[f64; W],
+    mut p0: [f64; W],
+    mut p1: [f64; W],
+    mut h_cur: (&'h [f64; W], &'h [f64; W]),
+    mut h_other: (&'h [f64; W], &'h [f64; W]),
+    acc_re: &mut [f64],
+    acc_im: &mut [f64],
+) -> (
+    [f64; W],
+    [f64; W],
+    (&'h [f64; W], &'h [f64; W]),
+    (&'h [f64; W], &'h [f64; W]),
+) {
+    let (a, b) = (&a[..n], &b[..n]);
+    let acc_re = &mut acc_re[..n * FOLD];
+    let acc_im = &mut acc_im[..n * FOLD];
+    let (hr0, hi0) = (*h_cur.0, *h_cur.1);
+    let (hr1, hi1) = (*h_other.0, *h_other.1);
+    let mut k = 0;
+    while k + 2 <= n {
+        let (re, im) = (&mut acc_re[k * FOLD..], &mut acc_im[k * FOLD..]);
+        accumulate_analysis::<W, FMA>(&p1, &hr0, &hi0, &mut re[..FOLD], &mut im[..FOLD]);
+        advance::<W, FMA>(a[k], b[k], x, &mut p0, &mut p1);
+        accumulate_analysis::<W, FMA>(
+            &p1,
+            &hr1,
+            &hi1,
+            &mut re[FOLD..2 * FOLD],
+            &mut im[FOLD..2 * FOLD],
+        );
+        advance::<W, FMA>(a[k + 1], b[k + 1], x, &mut p0, &mut p1);
+        k += 2;
+    }
+    if k < n {
+        let (re, im) = (&mut acc_re[k * FOLD..], &mut acc_im[k * FOLD..]);
+        accumulate_analysis::<W, FMA>(&p1, &hr0, &hi0, &mut re[..FOLD], &mut im[..FOLD]);
+        advance::<W, FMA>(a[k], b[k], x, &mut p0, &mut p1);
+        std::mem::swap(&mut h_cur, &mut h_other);
+    }
+    (p0, p1, h_cur, h_other)
 }
 
 /// Analysis for one order and one block: adds Σ_i P̄_lm(x_i) H_i (with H split by parity of
 /// l − m: `hr[0]`/`hi[0]` for even, `[1]` for odd) into `acc_re`/`acc_im[l·FOLD + k]`.
+/// `rc.a`, `rc.b` must hold lmax + 2 entries (the last is read by a final, discarded step).
 #[inline(always)]
 #[allow(clippy::too_many_arguments)]
 pub fn analysis_block<const W: usize, const FMA: bool>(
@@ -226,21 +370,31 @@ pub fn analysis_block<const W: usize, const FMA: bool>(
     let mut ev = 0;
     let mut l = first.l;
     let pa = (l - m) & 1;
-    let (hr_a, hi_a, hr_b, hi_b) = (&hr[pa], &hi[pa], &hr[1 - pa], &hi[1 - pa]);
+    let mut h_cur = (&hr[pa], &hi[pa]);
+    let mut h_other = (&hr[1 - pa], &hi[1 - pa]);
+    inject(events, &mut ev, l, &mut p0, &mut p1);
     loop {
-        inject(events, &mut ev, l, &mut p0, &mut p1);
-        accumulate_analysis::<W, FMA>(l, &p1, hr_a, hi_a, acc_re, acc_im);
-        if l == lmax {
+        let l_end = if ev < events.len() {
+            events[ev].l
+        } else {
+            lmax + 1
+        };
+        (p0, p1, h_cur, h_other) = analysis_segment::<W, FMA>(
+            l_end - l,
+            &rc.a[l + 1..],
+            &rc.b[l + 1..],
+            x,
+            p0,
+            p1,
+            h_cur,
+            h_other,
+            &mut acc_re[l * FOLD..],
+            &mut acc_im[l * FOLD..],
+        );
+        l = l_end;
+        if l > lmax {
             break;
         }
-        advance::<W, FMA>(rc, l, x, &mut p0, &mut p1);
-        l += 1;
         inject(events, &mut ev, l, &mut p0, &mut p1);
-        accumulate_analysis::<W, FMA>(l, &p1, hr_b, hi_b, acc_re, acc_im);
-        if l == lmax {
-            break;
-        }
-        advance::<W, FMA>(rc, l, x, &mut p0, &mut p1);
-        l += 1;
     }
 }
