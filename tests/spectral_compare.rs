@@ -194,3 +194,26 @@ fn difference_power_of_two_noisy_surveys_matches_their_error_degree_variance() {
     let table = cmp.to_table();
     assert!(table.column("difference_error_degree_variance").is_some());
 }
+
+#[test]
+fn admittance_is_the_reference_per_unit_of_the_compared_model() {
+    // CONVENTIONS.md §5: Z_l = S^{fg}/S^g. If A = k·B + C with C independent of B, then
+    // S^{AB} = k S^B + S^{CB} and Z_l → k (regression of A on B; common practice in
+    // gravity/topography admittance; from memory: Wieczorek 2015, Treatise on Geophysics 10.05).
+    let lmax = 120;
+    let k = 0.125;
+    let b = random_model(lmax, 7, variance);
+    let c = random_model(lmax, 8, |l| 0.01 * variance(l));
+    let mut a = c.clone();
+    a.add_scaled(&b, k).unwrap();
+    let cmp = Comparison::compute(&a, &b, &CompareOptions::default()).unwrap();
+    for l in 10..=lmax {
+        // sampling error of the independent part: |S^{CB}/S^B| ≲ 4·sqrt(0.01/(2l+1)) at 4 sd
+        let tol = 4.0 * (0.01 / (2 * l + 1) as f64).sqrt();
+        assert!(
+            (cmp.admittance[l] - k).abs() < tol,
+            "degree {l}: admittance {} vs {k}",
+            cmp.admittance[l]
+        );
+    }
+}

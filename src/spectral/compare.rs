@@ -3,7 +3,8 @@
 //! ([`super::comparable::make_comparable`]).
 //!
 //! - Cross power S^{AB}_l = Σ_m (C^A C^B + S^A S^B); degree correlation
-//!   r_l = S^{AB}/√(S^A S^B); admittance Z_l = S^{AB}/S^A (B regressed on A).
+//!   r_l = S^{AB}/√(S^A S^B); admittance Z_l = S^{AB}/S^B (A regressed on B, CONVENTIONS.md §5
+//!   with f = A, g = B: e.g. gravity per metre of topography for `compare GRAVITY TOPOGRAPHY`).
 //! - Correlation significance: under the null hypothesis of unrelated isotropic Gaussian
 //!   fields the 2l+1 coefficient pairs (zero mean, no mean removed) make r_l distributed as one
 //!   coordinate of a random unit vector in 2l+1 dimensions, i.e. t = r√ν/√(1−r²) is Student-t
@@ -146,7 +147,7 @@ impl Comparison {
         let correlation = (0..=lmax)
             .map(|l| ratio_or_nan(sab[l], (sa[l] * sb[l]).sqrt()))
             .collect();
-        let admittance = (0..=lmax).map(|l| ratio_or_nan(sab[l], sa[l])).collect();
+        let admittance = (0..=lmax).map(|l| ratio_or_nan(sab[l], sb[l])).collect();
         let radius = pair.reference.reference_radius_m;
         let (agree, first) = agreement_degree(&sa, &diff);
         let difference_error = match (
@@ -218,7 +219,7 @@ impl Comparison {
         t.push(
             "admittance",
             "1",
-            "admittance S_AB / S_A (compared model regressed on the reference)",
+            "admittance S_AB / S_B (reference regressed on the compared model, in reference units per compared unit)",
             self.admittance.clone(),
         );
         t.push(
