@@ -340,8 +340,9 @@ impl Coefficients {
                 let q = if lo == hi {
                     1.0
                 } else {
-                    (lo.ln_factor_relative_to_geodesy(l, m) - hi.ln_factor_relative_to_geodesy(l, m))
-                        .exp()
+                    (lo.ln_factor_relative_to_geodesy(l, m)
+                        - hi.ln_factor_relative_to_geodesy(l, m))
+                    .exp()
                 };
                 let sign = if flip_phase && m % 2 == 1 { -1.0 } else { 1.0 };
                 let i = packed_index(l, m);
@@ -415,7 +416,12 @@ mod tests {
         let mut c = Coefficients::zeros(lmax, Normalization::Geodesy);
         for l in 0..=lmax {
             for m in 0..=l {
-                c.set(l, m, 1.0 + 0.37 * l as f64 - 0.11 * m as f64, 0.5 - 0.07 * m as f64);
+                c.set(
+                    l,
+                    m,
+                    1.0 + 0.37 * l as f64 - 0.11 * m as f64,
+                    0.5 - 0.07 * m as f64,
+                );
             }
         }
         c
@@ -489,7 +495,10 @@ mod tests {
 
     #[test]
     fn parse_normalization_names() {
-        assert_eq!("Schmidt".parse::<Normalization>().unwrap(), Normalization::Schmidt);
+        assert_eq!(
+            "Schmidt".parse::<Normalization>().unwrap(),
+            Normalization::Schmidt
+        );
         let err = "full".parse::<Normalization>().unwrap_err().to_string();
         assert!(err.contains("full") && err.contains("geodesy"));
     }

@@ -196,7 +196,11 @@ fn synthesize_regular_one_degree_shape_and_refusals() {
         "--lmax",
         "4",
     ]);
-    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
     assert!(coarse.exists());
     let leftovers: Vec<_> = std::fs::read_dir(dir.path())
         .unwrap()

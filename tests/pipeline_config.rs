@@ -25,16 +25,34 @@ fn load(dir: &Path, extra: &str) -> Result<Job, String> {
 #[test]
 fn unknown_key_gets_path_and_suggestion() {
     let tmp = tempfile::tempdir().unwrap();
-    let err = load(tmp.path(), "[steps.fit]\nkind = \"fit\"\ninput = \"pts\"\nlmax = 4\nregularisation = \"gcv\"\n").unwrap_err();
-    assert!(err.contains("steps.fit.regularisation: unknown key; did you mean 'regularization'?"), "{err}");
-    let err = load(tmp.path(), "[steps.g]\nkind = \"grid\"\ninput = \"pts\"\nlmxa = 4\n").unwrap_err();
-    assert!(err.contains("steps.g.lmxa: unknown key; did you mean 'lmax'?"), "{err}");
+    let err = load(
+        tmp.path(),
+        "[steps.fit]\nkind = \"fit\"\ninput = \"pts\"\nlmax = 4\nregularisation = \"gcv\"\n",
+    )
+    .unwrap_err();
+    assert!(
+        err.contains("steps.fit.regularisation: unknown key; did you mean 'regularization'?"),
+        "{err}"
+    );
+    let err = load(
+        tmp.path(),
+        "[steps.g]\nkind = \"grid\"\ninput = \"pts\"\nlmxa = 4\n",
+    )
+    .unwrap_err();
+    assert!(
+        err.contains("steps.g.lmxa: unknown key; did you mean 'lmax'?"),
+        "{err}"
+    );
 }
 
 #[test]
 fn missing_path_is_named() {
     let tmp = tempfile::tempdir().unwrap();
-    let err = load(tmp.path(), "[inputs.topo]\nkind = \"grid\"\npath = \"nowhere.nc\"\n").unwrap_err();
+    let err = load(
+        tmp.path(),
+        "[inputs.topo]\nkind = \"grid\"\npath = \"nowhere.nc\"\n",
+    )
+    .unwrap_err();
     assert!(err.contains("inputs.topo.path: no such file:"), "{err}");
     assert!(err.contains("nowhere.nc"), "{err}");
 }
@@ -42,12 +60,26 @@ fn missing_path_is_named() {
 #[test]
 fn bad_degrees_are_refused() {
     let tmp = tempfile::tempdir().unwrap();
-    let err = load(tmp.path(), "[steps.g]\nkind = \"grid\"\ninput = \"pts\"\nlmax = 0\n").unwrap_err();
-    assert!(err.contains("steps.g.lmax: 0 is outside 1..=10800"), "{err}");
+    let err = load(
+        tmp.path(),
+        "[steps.g]\nkind = \"grid\"\ninput = \"pts\"\nlmax = 0\n",
+    )
+    .unwrap_err();
+    assert!(
+        err.contains("steps.g.lmax: 0 is outside 1..=10800"),
+        "{err}"
+    );
     let err = load(tmp.path(), "[steps.g]\nkind = \"grid\"\ninput = \"pts\"\n").unwrap_err();
     assert!(err.contains("steps.g.lmax: missing"), "{err}");
-    let err = load(tmp.path(), "[steps.f]\nkind = \"fit\"\ninput = \"pts\"\nlmax = 400\n").unwrap_err();
-    assert!(err.contains("steps.f.lmax: a least-squares fit to degree 400"), "{err}");
+    let err = load(
+        tmp.path(),
+        "[steps.f]\nkind = \"fit\"\ninput = \"pts\"\nlmax = 400\n",
+    )
+    .unwrap_err();
+    assert!(
+        err.contains("steps.f.lmax: a least-squares fit to degree 400"),
+        "{err}"
+    );
 }
 
 #[test]
@@ -60,9 +92,19 @@ fn cycles_and_missing_products_are_reported() {
     .unwrap_err();
     assert!(err.contains("dependency cycle: a → b → a"), "{err}");
     let err = load(tmp.path(), "[steps.s]\nkind = \"spectrum\"\nmodel = \"fti\"\n[steps.fit]\nkind = \"fit\"\ninput = \"pts\"\nlmax = 3\n").unwrap_err();
-    assert!(err.contains("steps.s.model: no input or step is called 'fti'; did you mean 'fit'?"), "{err}");
-    let err = load(tmp.path(), "[steps.s]\nkind = \"spectrum\"\nmodel = \"pts\"\n").unwrap_err();
-    assert!(err.contains("steps.s.model: 'pts' is a point set, but a coefficient model is needed"), "{err}");
+    assert!(
+        err.contains("steps.s.model: no input or step is called 'fti'; did you mean 'fit'?"),
+        "{err}"
+    );
+    let err = load(
+        tmp.path(),
+        "[steps.s]\nkind = \"spectrum\"\nmodel = \"pts\"\n",
+    )
+    .unwrap_err();
+    assert!(
+        err.contains("steps.s.model: 'pts' is a point set, but a coefficient model is needed"),
+        "{err}"
+    );
 }
 
 #[test]
@@ -91,14 +133,31 @@ fn valid_config_gives_plan_and_memory_estimate() {
 #[test]
 fn dry_run_and_exit_code_from_the_binary() {
     let tmp = tempfile::tempdir().unwrap();
-    load(tmp.path(), "[steps.f]\nkind = \"fit\"\ninput = \"pts\"\nlmax = 3\n").unwrap();
+    load(
+        tmp.path(),
+        "[steps.f]\nkind = \"fit\"\ninput = \"pts\"\nlmax = 3\n",
+    )
+    .unwrap();
     let exe = env!("CARGO_BIN_EXE_kugel");
-    let ok = std::process::Command::new(exe).args(["run", "--dry-run"]).arg(tmp.path().join("job.toml")).output().unwrap();
+    let ok = std::process::Command::new(exe)
+        .args(["run", "--dry-run"])
+        .arg(tmp.path().join("job.toml"))
+        .output()
+        .unwrap();
     assert!(ok.status.success());
     assert!(String::from_utf8_lossy(&ok.stdout).contains("dry run: config is valid"));
     assert!(!tmp.path().join("out").exists(), "a dry run writes nothing");
-    std::fs::write(tmp.path().join("bad.toml"), format!("{BASE}\n[steps.f]\nkind = \"fti\"\n")).unwrap();
-    let bad = std::process::Command::new(exe).args(["run"]).arg(tmp.path().join("bad.toml")).output().unwrap();
+    std::fs::write(
+        tmp.path().join("bad.toml"),
+        format!("{BASE}\n[steps.f]\nkind = \"fti\"\n"),
+    )
+    .unwrap();
+    let bad = std::process::Command::new(exe)
+        .args(["run"])
+        .arg(tmp.path().join("bad.toml"))
+        .output()
+        .unwrap();
     assert_eq!(bad.status.code(), Some(3), "invalid config → exit code 3");
-    assert!(String::from_utf8_lossy(&bad.stderr).contains("steps.f.kind: unknown kind 'fti'; did you mean 'fit'?"));
+    assert!(String::from_utf8_lossy(&bad.stderr)
+        .contains("steps.f.kind: unknown kind 'fti'; did you mean 'fit'?"));
 }

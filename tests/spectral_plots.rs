@@ -7,8 +7,8 @@ mod xml;
 
 use kugel::report::plots::{comparison_svg, spectrum_svg};
 use kugel::spectral::{CompareOptions, Comparison, Spectrum, SpectrumOptions};
-use xml::check_well_formed;
 use spectral_support::{correlated_partner, random_model};
+use xml::check_well_formed;
 
 fn variance(l: usize) -> f64 {
     if l < 2 {

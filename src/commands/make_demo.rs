@@ -22,7 +22,11 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         for (path, bytes) in &report.files {
             println!("{:>10}  {}", human_bytes(*bytes), path.display());
         }
-        println!("{:>10}  in total (invented data: {} and its surveys are not real)", human_bytes(report.total_bytes()), scenario.body_name);
+        println!(
+            "{:>10}  in total (invented data: {} and its surveys are not real)",
+            human_bytes(report.total_bytes()),
+            scenario.body_name
+        );
     }
     Ok(())
 }

@@ -28,9 +28,16 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     if ctx.verbose && !ctx.quiet {
         eprint!("{}", job.describe());
     } else if !ctx.quiet {
-        eprintln!("memory estimate: peak about {}", human_bytes(job.memory.peak_bytes));
+        eprintln!(
+            "memory estimate: peak about {}",
+            human_bytes(job.memory.peak_bytes)
+        );
     }
-    let options = RunOptions { command_line: ctx.command_line.clone(), quiet: ctx.quiet, verbose: ctx.verbose };
+    let options = RunOptions {
+        command_line: ctx.command_line.clone(),
+        quiet: ctx.quiet,
+        verbose: ctx.verbose,
+    };
     let summary = run_job(&job, &options)?;
     if !ctx.quiet {
         print!("{}", summary_table(&summary, &job));
@@ -42,12 +49,29 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
 pub fn summary_table(s: &RunSummary, job: &Job) -> String {
     let mut out = String::from("\nstep               kind        time   key numbers\n");
     for r in &s.steps {
-        let nums = r.numbers.iter().map(|(k, v)| format!("{k} {v}")).collect::<Vec<_>>().join("; ");
-        out.push_str(&format!("{:<18} {:<10} {:>5.1}s  {}\n", r.name, r.kind, r.seconds, nums));
+        let nums = r
+            .numbers
+            .iter()
+            .map(|(k, v)| format!("{k} {v}"))
+            .collect::<Vec<_>>()
+            .join("; ");
+        out.push_str(&format!(
+            "{:<18} {:<10} {:>5.1}s  {}\n",
+            r.name, r.kind, r.seconds, nums
+        ));
     }
-    out.push_str(&format!("\n{} files in {}:\n", s.files.len(), job.output_dir.display()));
+    out.push_str(&format!(
+        "\n{} files in {}:\n",
+        s.files.len(),
+        job.output_dir.display()
+    ));
     for f in &s.files {
-        out.push_str(&format!("  {:>10}  {:<34} {}\n", human_bytes(f.bytes), f.name, f.what));
+        out.push_str(&format!(
+            "  {:>10}  {:<34} {}\n",
+            human_bytes(f.bytes),
+            f.name,
+            f.what
+        ));
     }
     out.push_str(&format!("done in {:.1} s\n", s.seconds));
     out

@@ -15,13 +15,19 @@ pub fn check_quantity(q: &str) -> Result<(), String> {
 
 /// Filter specs may name spectrum files (Wiener filters), relative to the config's folder.
 pub fn check_filter(spec: &str, base: &Path) -> Result<(), String> {
-    FilterChain::parse_relative_to(spec, base).map(|_| ()).map_err(|e| e.to_string())
+    FilterChain::parse_relative_to(spec, base)
+        .map(|_| ())
+        .map_err(|e| e.to_string())
 }
 
 pub fn check_regularization(spec: &str) -> Result<(), String> {
-    Regularization::parse(spec).map(|_| ()).map_err(|e| e.to_string())
+    Regularization::parse(spec)
+        .map(|_| ())
+        .map_err(|e| e.to_string())
 }
 
 pub fn check_gaps(spec: &str) -> Result<(), String> {
-    GapPolicy::parse(spec).map(|_| ()).map_err(|e| e.to_string())
+    GapPolicy::parse(spec)
+        .map(|_| ())
+        .map_err(|e| e.to_string())
 }

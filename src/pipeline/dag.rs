@@ -81,7 +81,11 @@ mod tests {
         let d = deps(&[("b", &["a"]), ("a", &[]), ("c", &["a"]), ("d", &["b", "c"])]);
         assert_eq!(
             levels(&d).unwrap(),
-            vec![vec!["a".to_string()], vec!["b".into(), "c".into()], vec!["d".into()]]
+            vec![
+                vec!["a".to_string()],
+                vec!["b".into(), "c".into()],
+                vec!["d".into()]
+            ]
         );
     }
 
@@ -90,6 +94,9 @@ mod tests {
         let d = deps(&[("a", &[]), ("x", &["y"]), ("y", &["x"])]);
         assert_eq!(levels(&d).unwrap_err(), "dependency cycle: x → y → x");
         let d = deps(&[("a", &["nowhere"])]);
-        assert_eq!(levels(&d).unwrap_err(), "a uses 'nowhere', which no input or step defines");
+        assert_eq!(
+            levels(&d).unwrap_err(),
+            "a uses 'nowhere', which no input or step defines"
+        );
     }
 }

@@ -70,7 +70,10 @@ pub fn estimate(config: &Config, model_lmax: &BTreeMap<String, usize>) -> Memory
         let (what, bytes) = match step.kind.as_str() {
             "grid" => {
                 let l = step.lmax.unwrap_or(0);
-                (format!("3 Gauss grids to degree {l}"), 3 * gauss_grid_bytes(l))
+                (
+                    format!("3 Gauss grids to degree {l}"),
+                    3 * gauss_grid_bytes(l),
+                )
             }
             "fit" => {
                 let l = step.lmax.unwrap_or(0);
@@ -81,7 +84,10 @@ pub fn estimate(config: &Config, model_lmax: &BTreeMap<String, usize>) -> Memory
             }
             "analyse" => {
                 let l = step.lmax.unwrap_or(0);
-                ("input grid and transform".to_string(), 2 * gauss_grid_bytes(l))
+                (
+                    "input grid and transform".to_string(),
+                    2 * gauss_grid_bytes(l),
+                )
             }
             "synthesize" => {
                 let l = step.grid_lmax.or(model_l).unwrap_or(0);
@@ -96,7 +102,10 @@ pub fn estimate(config: &Config, model_lmax: &BTreeMap<String, usize>) -> Memory
         items.push((name.clone(), what, bytes));
     }
     let models: u64 = model_lmax.values().map(|&l| coefficient_bytes(l)).sum();
-    MemoryEstimate { items, peak_bytes: largest.max(syntheses) + models }
+    MemoryEstimate {
+        items,
+        peak_bytes: largest.max(syntheses) + models,
+    }
 }
 
 #[cfg(test)]

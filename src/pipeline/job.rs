@@ -71,10 +71,14 @@ impl Job {
             return Err(problem_list(path, &problems));
         }
         // typed parse from the text (not the value) so that type errors carry line numbers
-        let config: Config = toml::from_str(&text)
-            .map_err(|e| Error::format(path, format!("config: {e}")))?;
+        let config: Config =
+            toml::from_str(&text).map_err(|e| Error::format(path, format!("config: {e}")))?;
         let base_dir = path.parent().map(Path::to_path_buf).unwrap_or_default();
-        let base_dir = if base_dir.as_os_str().is_empty() { PathBuf::from(".") } else { base_dir };
+        let base_dir = if base_dir.as_os_str().is_empty() {
+            PathBuf::from(".")
+        } else {
+            base_dir
+        };
         let mut problems = Vec::new();
         check_body_and_output(&config, &mut problems);
         let mut kinds = BTreeMap::new();
@@ -86,7 +90,9 @@ impl Job {
         }
         for (name, step) in &config.steps {
             if config.inputs.contains_key(name) {
-                problems.push(format!("steps.{name}: an input has the same name; rename one"));
+                problems.push(format!(
+                    "steps.{name}: an input has the same name; rename one"
+                ));
             }
             kinds.insert(name.clone(), step_product(&step.kind));
             deps.insert(name.clone(), step_uses(step));
@@ -122,7 +128,10 @@ impl Job {
 
     /// An input's path resolved against the config's folder.
     pub fn input_path(&self, name: &str) -> Option<PathBuf> {
-        self.config.inputs.get(name).map(|i| self.base_dir.join(&i.path))
+        self.config
+            .inputs
+            .get(name)
+            .map(|i| self.base_dir.join(&i.path))
     }
 
     /// Steps in run order (inputs left out).
@@ -140,21 +149,41 @@ impl Job {
         let mut s = String::new();
         let title = self.config.job.title.as_deref().unwrap_or("(untitled job)");
         let _ = writeln!(s, "job: {title}");
-        let _ = writeln!(s, "config: {} (sha256 {})", self.config_path.display(), &self.config_sha256[..16]);
+        let _ = writeln!(
+            s,
+            "config: {} (sha256 {})",
+            self.config_path.display(),
+            &self.config_sha256[..16]
+        );
         let _ = writeln!(s, "output folder: {}", self.output_dir.display());
         let _ = writeln!(s, "inputs:");
         for (name, input) in &self.config.inputs {
-            let _ = writeln!(s, "  {name:<18} {:<7} {}", input.kind, self.base_dir.join(&input.path).display());
+            let _ = writeln!(
+                s,
+                "  {name:<18} {:<7} {}",
+                input.kind,
+                self.base_dir.join(&input.path).display()
+            );
         }
-        let _ = writeln!(s, "steps, in run order (one line per level; a level's steps are independent):");
+        let _ = writeln!(
+            s,
+            "steps, in run order (one line per level; a level's steps are independent):"
+        );
         let mut n = 0;
         for level in &self.levels {
-            let steps: Vec<&String> =
-                level.iter().filter(|p| self.config.steps.contains_key(p.as_str())).collect();
+            let steps: Vec<&String> = level
+                .iter()
+                .filter(|p| self.config.steps.contains_key(p.as_str()))
+                .collect();
             for name in steps {
                 n += 1;
                 let step = &self.config.steps[name.as_str()];
-                let _ = writeln!(s, "  {n:>2}. {name:<18} {:<10} {}", step.kind, step_summary(step));
+                let _ = writeln!(
+                    s,
+                    "  {n:>2}. {name:<18} {:<10} {}",
+                    step.kind,
+                    step_summary(step)
+                );
             }
         }
         let _ = write!(s, "{}", self.memory.describe());
@@ -163,7 +192,11 @@ impl Job {
 }
 
 fn problem_list(path: &Path, problems: &[String]) -> Error {
-    let noun = if problems.len() == 1 { "problem" } else { "problems" };
+    let noun = if problems.len() == 1 {
+        "problem"
+    } else {
+        "problems"
+    };
     let mut message = format!("{} {noun} in the config:", problems.len());
     for p in problems {
         message.push_str("\n  ");
@@ -174,7 +207,10 @@ fn problem_list(path: &Path, problems: &[String]) -> Error {
 
 pub(crate) fn sha256_hex(bytes: &[u8]) -> String {
     use sha2::{Digest, Sha256};
-    Sha256::digest(bytes).iter().map(|b| format!("{b:02x}")).collect()
+    Sha256::digest(bytes)
+        .iter()
+        .map(|b| format!("{b:02x}"))
+        .collect()
 }
 
 fn input_kind(kind: &str) -> ProductKind {
@@ -225,7 +261,9 @@ fn step_summary(step: &StepSpec) -> String {
 fn check_body_and_output(config: &Config, problems: &mut Vec<String>) {
     let r = config.body.radius_m;
     if !(r.is_finite() && r > 0.0) {
-        problems.push(format!("body.radius_m: must be a positive number of metres, not {r}"));
+        problems.push(format!(
+            "body.radius_m: must be a positive number of metres, not {r}"
+        ));
     }
     if let Some(gm) = config.body.gm_m3_s2 {
         if !(gm.is_finite() && gm > 0.0) {
@@ -234,12 +272,17 @@ fn check_body_and_output(config: &Config, problems: &mut Vec<String>) {
     }
     for f in config.output.formats.iter().flatten() {
         if !OUTPUT_FORMATS.contains(&f.as_str()) {
-            problems.push(format!("output.formats: unknown format '{f}'{}", suggest::hint(f, OUTPUT_FORMATS)));
+            problems.push(format!(
+                "output.formats: unknown format '{f}'{}",
+                suggest::hint(f, OUTPUT_FORMATS)
+            ));
         }
     }
     if let Some(c) = &config.output.lon_convention {
         if c != "0-360" && c != "-180-180" {
-            problems.push(format!("output.lon_convention: '{c}'; expected \"0-360\" or \"-180-180\""));
+            problems.push(format!(
+                "output.lon_convention: '{c}'; expected \"0-360\" or \"-180-180\""
+            ));
         }
     }
 }
@@ -247,10 +290,23 @@ fn check_body_and_output(config: &Config, problems: &mut Vec<String>) {
 fn check_input(name: &str, input: &InputSpec, base: &Path, problems: &mut Vec<String>) {
     let path = base.join(&input.path);
     if !path.is_file() {
-        problems.push(format!("inputs.{name}.path: no such file: {}", path.display()));
+        problems.push(format!(
+            "inputs.{name}.path: no such file: {}",
+            path.display()
+        ));
     }
-    check_choice(&format!("inputs.{name}.on_bad_row"), input.on_bad_row.as_deref(), &["error", "skip"], problems);
-    check_choice(&format!("inputs.{name}.quantity"), input.quantity.as_deref(), &["value", "potential"], problems);
+    check_choice(
+        &format!("inputs.{name}.on_bad_row"),
+        input.on_bad_row.as_deref(),
+        &["error", "skip"],
+        problems,
+    );
+    check_choice(
+        &format!("inputs.{name}.quantity"),
+        input.quantity.as_deref(),
+        &["value", "potential"],
+        problems,
+    );
 }
 
 /// Accepted gridding `method` values.
@@ -259,7 +315,10 @@ pub const GRID_METHODS: &[&str] = &["kernel", "nearest"];
 fn check_choice(path: &str, given: Option<&str>, known: &[&str], problems: &mut Vec<String>) {
     if let Some(g) = given {
         if !known.contains(&g) {
-            problems.push(format!("{path}: unknown value '{g}'{}", suggest::hint(g, known)));
+            problems.push(format!(
+                "{path}: unknown value '{g}'{}",
+                suggest::hint(g, known)
+            ));
         }
     }
 }
@@ -273,17 +332,28 @@ fn check_step(
 ) {
     let at = |key: &str| format!("steps.{name}.{key}");
     let mut need = |key: &str, value: Option<&String>, want: &[ProductKind]| match value {
-        None => problems.push(format!("{}: missing; this {} step needs it", at(key), step.kind)),
+        None => problems.push(format!(
+            "{}: missing; this {} step needs it",
+            at(key),
+            step.kind
+        )),
         Some(v) => match kinds.get(v) {
             None => {
                 let known: Vec<&str> = kinds.keys().map(String::as_str).collect();
-                problems.push(format!("{}: no input or step is called '{v}'{}", at(key), suggest::hint(v, &known)));
+                problems.push(format!(
+                    "{}: no input or step is called '{v}'{}",
+                    at(key),
+                    suggest::hint(v, &known)
+                ));
             }
             Some(k) if !want.contains(k) => problems.push(format!(
                 "{}: '{v}' is a {}, but a {} is needed",
                 at(key),
                 k.name(),
-                want.iter().map(|w| w.name()).collect::<Vec<_>>().join(" or ")
+                want.iter()
+                    .map(|w| w.name())
+                    .collect::<Vec<_>>()
+                    .join(" or ")
             )),
             Some(_) => {}
         },
@@ -302,13 +372,19 @@ fn check_step(
                 need("models", Some(a), &[P::Model]);
                 need("models", Some(b), &[P::Model]);
             }
-            _ => problems.push(format!("{}: expected two model names, e.g. [\"a\", \"b\"]", at("models"))),
+            _ => problems.push(format!(
+                "{}: expected two model names, e.g. [\"a\", \"b\"]",
+                at("models")
+            )),
         },
         _ => {}
     }
     let needs_lmax = matches!(step.kind.as_str(), "grid" | "fit" | "analyse");
     match step.lmax {
-        None if needs_lmax => problems.push(format!("{}: missing; give the band limit (degree)", at("lmax"))),
+        None if needs_lmax => problems.push(format!(
+            "{}: missing; give the band limit (degree)",
+            at("lmax")
+        )),
         Some(l) if !(1..=MAX_DEGREE).contains(&l) => {
             problems.push(format!("{}: {l} is outside 1..={MAX_DEGREE}", at("lmax")))
         }
@@ -324,10 +400,18 @@ fn check_step(
     }
     if let Some(l) = step.grid_lmax {
         if !(1..=MAX_DEGREE).contains(&l) {
-            problems.push(format!("{}: {l} is outside 1..={MAX_DEGREE}", at("grid_lmax")));
+            problems.push(format!(
+                "{}: {l} is outside 1..={MAX_DEGREE}",
+                at("grid_lmax")
+            ));
         }
     }
-    check_choice(&at("method"), step.method.as_deref(), GRID_METHODS, problems);
+    check_choice(
+        &at("method"),
+        step.method.as_deref(),
+        GRID_METHODS,
+        problems,
+    );
     if let Some(g) = &step.gaps {
         if let Err(e) = super::checks::check_gaps(g) {
             problems.push(format!("{}: {e}", at("gaps")));
@@ -340,34 +424,59 @@ fn check_step(
     }
     if let Some(v) = step.radius_km {
         if !(v.is_finite() && v > 0.0) {
-            problems.push(format!("{}: must be a positive number of km, not {v}", at("radius_km")));
+            problems.push(format!(
+                "{}: must be a positive number of km, not {v}",
+                at("radius_km")
+            ));
         }
     }
     if let Some(c) = step.confidence {
         if !(c > 0.0 && c < 1.0) {
-            problems.push(format!("{}: must lie strictly between 0 and 1, not {c}", at("confidence")));
+            problems.push(format!(
+                "{}: must lie strictly between 0 and 1, not {c}",
+                at("confidence")
+            ));
         }
     }
     if let Some([a, b]) = step.fit_range {
         if a < 1 || b <= a {
-            problems.push(format!("{}: [{a}, {b}] is not a degree range lmin < lmax with lmin ≥ 1", at("fit_range")));
+            problems.push(format!(
+                "{}: [{a}, {b}] is not a degree range lmin < lmax with lmin ≥ 1",
+                at("fit_range")
+            ));
         }
     }
     if let Some(alt) = step.altitude_m {
         if !alt.is_finite() {
-            problems.push(format!("{}: must be a finite number of metres", at("altitude_m")));
+            problems.push(format!(
+                "{}: must be a finite number of metres",
+                at("altitude_m")
+            ));
         }
     }
     if step.kind == "synthesize" && step.quantities.as_ref().map_or(true, |q| q.is_empty()) {
-        problems.push(format!("{}: missing; list the quantities to map, e.g. [\"gravity-anomaly\"]", at("quantities")));
+        problems.push(format!(
+            "{}: missing; list the quantities to map, e.g. [\"gravity-anomaly\"]",
+            at("quantities")
+        ));
     }
     for q in step.quantities.iter().flatten().chain(step.quantity.iter()) {
         if let Err(e) = super::checks::check_quantity(q) {
-            problems.push(format!("{}: {e}", at(if step.quantity.as_ref() == Some(q) { "quantity" } else { "quantities" })));
+            problems.push(format!(
+                "{}: {e}",
+                at(if step.quantity.as_ref() == Some(q) {
+                    "quantity"
+                } else {
+                    "quantities"
+                })
+            ));
         }
     }
     if step.kind == "filter" && step.filter.is_none() {
-        problems.push(format!("{}: missing; give a filter such as \"gauss:300\"", at("filter")));
+        problems.push(format!(
+            "{}: missing; give a filter such as \"gauss:300\"",
+            at("filter")
+        ));
     }
     if let Some(f) = &step.filter {
         if let Err(e) = super::checks::check_filter(f, base) {

@@ -31,14 +31,22 @@ impl Staging {
         std::fs::create_dir_all(final_dir).map_err(|e| Error::io(final_dir, e))?;
         let entries = std::fs::read_dir(final_dir).map_err(|e| Error::io(final_dir, e))?;
         for entry in entries.flatten() {
-            if entry.file_name().to_string_lossy().starts_with(STAGING_PREFIX) {
+            if entry
+                .file_name()
+                .to_string_lossy()
+                .starts_with(STAGING_PREFIX)
+            {
                 let p = entry.path();
                 std::fs::remove_dir_all(&p).map_err(|e| Error::io(&p, e))?;
             }
         }
         let dir = final_dir.join(format!("{STAGING_PREFIX}{}", std::process::id()));
         std::fs::create_dir(&dir).map_err(|e| Error::io(&dir, e))?;
-        Ok(Staging { final_dir: final_dir.to_path_buf(), dir, files: Vec::new() })
+        Ok(Staging {
+            final_dir: final_dir.to_path_buf(),
+            dir,
+            files: Vec::new(),
+        })
     }
 
     /// Path of output `name` inside the staging folder.
@@ -50,7 +58,11 @@ impl Staging {
     pub fn record(&mut self, name: &str, what: impl Into<String>) -> Result<()> {
         let p = self.path(name);
         let bytes = std::fs::metadata(&p).map_err(|e| Error::io(&p, e))?.len();
-        self.files.push(OutputFile { name: name.to_string(), bytes, what: what.into() });
+        self.files.push(OutputFile {
+            name: name.to_string(),
+            bytes,
+            what: what.into(),
+        });
         Ok(())
     }
 

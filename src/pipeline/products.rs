@@ -25,7 +25,9 @@ pub enum Product {
     /// Names of the map variables written.
     Maps(Vec<String>),
     /// RMS of the residuals.
-    Residuals { rms: f64 },
+    Residuals {
+        rms: f64,
+    },
 }
 
 impl Product {

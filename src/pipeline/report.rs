@@ -21,11 +21,25 @@ pub fn build(
     files: &[OutputFile],
     cautions: &[String],
 ) -> String {
-    let title = job.config.job.title.clone().unwrap_or_else(|| "kugel run".into());
-    let body = job.config.body.name.clone().unwrap_or_else(|| "the body".into());
+    let title = job
+        .config
+        .job
+        .title
+        .clone()
+        .unwrap_or_else(|| "kugel run".into());
+    let body = job
+        .config
+        .body
+        .name
+        .clone()
+        .unwrap_or_else(|| "the body".into());
     let mut report = Report::new(
         title,
-        format!("{body}, reference radius {:.1} km — kugel {}", job.config.body.radius_m / 1e3, env!("CARGO_PKG_VERSION")),
+        format!(
+            "{body}, reference radius {:.1} km — kugel {}",
+            job.config.body.radius_m / 1e3,
+            env!("CARGO_PKG_VERSION")
+        ),
     );
     let s = report.section("Cautions");
     for c in cautions {
@@ -39,8 +53,18 @@ pub fn build(
     let table: Vec<Vec<String>> = rows
         .iter()
         .map(|r| {
-            let nums = r.numbers.iter().map(|(k, v)| format!("{k}: {v}")).collect::<Vec<_>>().join("; ");
-            vec![r.name.clone(), r.kind.clone(), format!("{:.1}", r.seconds), nums]
+            let nums = r
+                .numbers
+                .iter()
+                .map(|(k, v)| format!("{k}: {v}"))
+                .collect::<Vec<_>>()
+                .join("; ");
+            vec![
+                r.name.clone(),
+                r.kind.clone(),
+                format!("{:.1}", r.seconds),
+                nums,
+            ]
         })
         .collect();
     summary.table(&["step", "kind", "seconds", "key numbers"], table);
@@ -52,15 +76,24 @@ pub fn build(
         (ReportPart::Maps, "Maps"),
         (ReportPart::Residuals, "Residual statistics"),
     ] {
-        let mine: Vec<&Block> = blocks.iter().filter(|(p, _)| *p == part).map(|(_, b)| b).collect();
+        let mine: Vec<&Block> = blocks
+            .iter()
+            .filter(|(p, _)| *p == part)
+            .map(|(_, b)| b)
+            .collect();
         if mine.is_empty() {
             continue;
         }
         let s = report.section(heading);
         s.blocks.extend(mine.into_iter().cloned());
     }
-    let files_rows = files.iter().map(|f| vec![f.name.clone(), human_bytes(f.bytes), f.what.clone()]).collect();
-    report.section("Files written").table(&["file", "size", "content"], files_rows);
+    let files_rows = files
+        .iter()
+        .map(|f| vec![f.name.clone(), human_bytes(f.bytes), f.what.clone()])
+        .collect();
+    report
+        .section("Files written")
+        .table(&["file", "size", "content"], files_rows);
     let mut prov = String::new();
     for (k, v) in provenance.to_attributes() {
         prov.push_str(&format!("{k}: {v}\n"));

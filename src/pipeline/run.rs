@@ -46,10 +46,22 @@ pub struct RunSummary {
 /// Runs `job`. On failure nothing is left in the output folder but what was there before.
 pub fn run_job(job: &Job, options: &RunOptions) -> Result<RunSummary> {
     crate::memory::check_fits("this job (see the memory estimate)", job.memory.peak_bytes)?;
-    let inputs: Vec<std::path::PathBuf> = job.config.inputs.keys().filter_map(|n| job.input_path(n)).collect();
+    let inputs: Vec<std::path::PathBuf> = job
+        .config
+        .inputs
+        .keys()
+        .filter_map(|n| job.input_path(n))
+        .collect();
     for input in &inputs {
-        let out_dir = job.output_dir.canonicalize().unwrap_or_else(|_| job.output_dir.clone());
-        if input.canonicalize().map(|p| p.starts_with(&out_dir)).unwrap_or(false) {
+        let out_dir = job
+            .output_dir
+            .canonicalize()
+            .unwrap_or_else(|_| job.output_dir.clone());
+        if input
+            .canonicalize()
+            .map(|p| p.starts_with(&out_dir))
+            .unwrap_or(false)
+        {
             return Err(crate::Error::invalid(format!(
                 "output.folder {} contains the input {}; choose another folder so inputs are never overwritten",
                 job.output_dir.display(),
@@ -61,7 +73,11 @@ pub fn run_job(job: &Job, options: &RunOptions) -> Result<RunSummary> {
     match run_staged(job, options, &mut staging) {
         Ok((steps, seconds)) => {
             let files = staging.commit()?;
-            Ok(RunSummary { steps, files, seconds })
+            Ok(RunSummary {
+                steps,
+                files,
+                seconds,
+            })
         }
         Err(e) => {
             staging.discard();
@@ -70,7 +86,11 @@ pub fn run_job(job: &Job, options: &RunOptions) -> Result<RunSummary> {
     }
 }
 
-fn run_staged(job: &Job, options: &RunOptions, staging: &mut Staging) -> Result<(Vec<StepRow>, f64)> {
+fn run_staged(
+    job: &Job,
+    options: &RunOptions,
+    staging: &mut Staging,
+) -> Result<(Vec<StepRow>, f64)> {
     let start = Instant::now();
     let mut provenance = Provenance::from_command_line(options.command_line.clone());
     provenance.config_digest = Some(job.config_sha256.clone());
@@ -91,11 +111,17 @@ fn run_staged(job: &Job, options: &RunOptions, staging: &mut Staging) -> Result<
     let mut rows = Vec::new();
     let mut cautions: Vec<String> = Vec::new();
     for level in &job.levels {
-        let names: Vec<&String> = level.iter().filter(|n| job.config.steps.contains_key(n.as_str())).collect();
+        let names: Vec<&String> = level
+            .iter()
+            .filter(|n| job.config.steps.contains_key(n.as_str()))
+            .collect();
         // the syntheses of a level run in parallel when their maps fit in memory together;
         // the other steps of the level run one after another
-        let syntheses: Vec<&String> =
-            names.iter().copied().filter(|n| job.config.steps[n.as_str()].kind == "synthesize").collect();
+        let syntheses: Vec<&String> = names
+            .iter()
+            .copied()
+            .filter(|n| job.config.steps[n.as_str()].kind == "synthesize")
+            .collect();
         let parallel_bytes: u64 = job
             .memory
             .items
@@ -103,19 +129,30 @@ fn run_staged(job: &Job, options: &RunOptions, staging: &mut Staging) -> Result<
             .filter(|(s, _, _)| syntheses.iter().any(|n| *n == s))
             .map(|(_, _, b)| *b)
             .sum();
-        let parallel = syntheses.len() > 1 && crate::memory::check_fits("parallel syntheses", parallel_bytes).is_ok();
-        let env = StepEnv { job, staging_dir: &staging.dir, provenance: &provenance, products: &products, quiet: options.quiet };
+        let parallel = syntheses.len() > 1
+            && crate::memory::check_fits("parallel syntheses", parallel_bytes).is_ok();
+        let env = StepEnv {
+            job,
+            staging_dir: &staging.dir,
+            provenance: &provenance,
+            products: &products,
+            quiet: options.quiet,
+        };
         let run_one = |name: &String| -> Result<(String, StepOutcome, f64)> {
             let t = Instant::now();
             let step = &job.config.steps[name.as_str()];
-            let outcome = run_step(name, step, &env)
-                .map_err(|e| crate::Error::invalid(format!("step '{name}' ({}): {e}", step.kind)))?;
+            let outcome = run_step(name, step, &env).map_err(|e| {
+                crate::Error::invalid(format!("step '{name}' ({}): {e}", step.kind))
+            })?;
             Ok((name.clone(), outcome, t.elapsed().as_secs_f64()))
         };
         let mut results: Vec<(String, StepOutcome, f64)> = Vec::new();
         if parallel {
             progress.stage(&format!("{} syntheses in parallel", syntheses.len()));
-            results = syntheses.par_iter().map(|n| run_one(n)).collect::<Result<_>>()?;
+            results = syntheses
+                .par_iter()
+                .map(|n| run_one(n))
+                .collect::<Result<_>>()?;
         }
         for n in &names {
             if parallel && syntheses.contains(n) {
@@ -129,7 +166,11 @@ fn run_staged(job: &Job, options: &RunOptions, staging: &mut Staging) -> Result<
         results.sort_by(|a, b| a.0.cmp(&b.0));
         for (name, outcome, seconds) in results {
             if options.verbose && !options.quiet {
-                eprintln!("step {name}: {:.1} s, {} file(s)", seconds, outcome.files.len());
+                eprintln!(
+                    "step {name}: {:.1} s, {} file(s)",
+                    seconds,
+                    outcome.files.len()
+                );
             }
             for (file, what) in &outcome.files {
                 staging.record(file, what.clone())?;
@@ -140,7 +181,12 @@ fn run_staged(job: &Job, options: &RunOptions, staging: &mut Staging) -> Result<
                     cautions.push(c);
                 }
             }
-            rows.push(StepRow { name: name.clone(), kind: job.config.steps[name.as_str()].kind.clone(), seconds, numbers: outcome.numbers });
+            rows.push(StepRow {
+                name: name.clone(),
+                kind: job.config.steps[name.as_str()].kind.clone(),
+                seconds,
+                numbers: outcome.numbers,
+            });
             if let Some(p) = outcome.product {
                 products.insert(name, p);
             }
@@ -148,8 +194,13 @@ fn run_staged(job: &Job, options: &RunOptions, staging: &mut Staging) -> Result<
     }
     progress.finish();
     if job.config.output.wants("html") {
-        let html = super::report::build(job, &provenance, &report, &rows, &staging.files, &cautions);
-        staging.write_bytes("report.html", html.as_bytes(), "the run report (open in a browser)")?;
+        let html =
+            super::report::build(job, &provenance, &report, &rows, &staging.files, &cautions);
+        staging.write_bytes(
+            "report.html",
+            html.as_bytes(),
+            "the run report (open in a browser)",
+        )?;
     }
     Ok((rows, start.elapsed().as_secs_f64()))
 }
@@ -160,7 +211,12 @@ fn load_input(job: &Job, name: &str, input: &InputSpec) -> Result<(Product, Vec<
         "points" => {
             let mut columns = ColumnNames::default();
             if let Some(c) = &input.columns {
-                for (slot, given) in [(&mut columns.lat, &c.lat), (&mut columns.lon, &c.lon), (&mut columns.value, &c.value), (&mut columns.sigma, &c.sigma)] {
+                for (slot, given) in [
+                    (&mut columns.lat, &c.lat),
+                    (&mut columns.lon, &c.lon),
+                    (&mut columns.value, &c.value),
+                    (&mut columns.sigma, &c.sigma),
+                ] {
                     if let Some(g) = given {
                         *slot = g.clone();
                     }
@@ -170,25 +226,62 @@ fn load_input(job: &Job, name: &str, input: &InputSpec) -> Result<(Product, Vec<
                 Some("skip") => BadRowPolicy::Skip,
                 _ => BadRowPolicy::Error,
             };
-            let options = PointReadOptions { columns, on_bad_row, ..Default::default() };
+            let options = PointReadOptions {
+                columns,
+                on_bad_row,
+                ..Default::default()
+            };
             let (set, read) = read_points(&path, &options)?;
             let quantity = input.quantity.clone().unwrap_or_else(|| "value".into());
-            let units = input.units.clone().unwrap_or_else(|| if quantity == "potential" { "m2 s-2".into() } else { "1".into() });
+            let units = input.units.clone().unwrap_or_else(|| {
+                if quantity == "potential" {
+                    "m2 s-2".into()
+                } else {
+                    "1".into()
+                }
+            });
             let style = crate::report::maps::MapStyle {
                 title: format!("{name}: observations"),
                 units: units.clone(),
-                degree_range: format!("{} points from {}", set.len(), path.file_name().map(|f| f.to_string_lossy().to_string()).unwrap_or_default()),
+                degree_range: format!(
+                    "{} points from {}",
+                    set.len(),
+                    path.file_name()
+                        .map(|f| f.to_string_lossy().to_string())
+                        .unwrap_or_default()
+                ),
                 ..Default::default()
             };
-            let png = crate::report::maps::render_points_png(&set.lat_deg, &set.lon_deg, &set.value, &style);
+            let png = crate::report::maps::render_points_png(
+                &set.lat_deg,
+                &set.lon_deg,
+                &set.value,
+                &style,
+            );
             let blocks = vec![
                 Block::Paragraph(format!("Point set '{name}': {}", read.summary())),
-                Block::Png { bytes: png, caption: format!("{name}: observation sites coloured by value ({units})") },
+                Block::Png {
+                    bytes: png,
+                    caption: format!("{name}: observation sites coloured by value ({units})"),
+                },
             ];
-            Ok((Product::Points(Points { set, quantity, units }), blocks))
+            Ok((
+                Product::Points(Points {
+                    set,
+                    quantity,
+                    units,
+                }),
+                blocks,
+            ))
         }
         "grid" => {
-            let g = read_grid(&path, &GridReadOptions { variable: input.variable.clone(), index: None })?;
+            let g = read_grid(
+                &path,
+                &GridReadOptions {
+                    variable: input.variable.clone(),
+                    index: None,
+                },
+            )?;
             let (nlat, nlon) = g.grid.shape();
             let style = crate::report::maps::MapStyle {
                 title: format!("{name}: {}", g.variable),
@@ -198,12 +291,21 @@ fn load_input(job: &Job, name: &str, input: &InputSpec) -> Result<(Product, Vec<
                 lon0_deg: g.grid.lon0_rad.to_degrees(),
             };
             let png = crate::report::maps::render_map_png(&g.field, &style);
-            let blocks = vec![Block::Png { bytes: png, caption: format!("{name}: input grid {} ({})", path.display(), g.units) }];
+            let blocks = vec![Block::Png {
+                bytes: png,
+                caption: format!("{name}: input grid {} ({})", path.display(), g.units),
+            }];
             Ok((Product::Grid(Box::new(g)), blocks))
         }
         _ => {
             let m = read_model(&path)?;
-            let blocks = vec![Block::Paragraph(format!("Model '{name}' ({}): degree {}, {} normalisation, units {}", path.display(), m.lmax(), m.normalization, m.units))];
+            let blocks = vec![Block::Paragraph(format!(
+                "Model '{name}' ({}): degree {}, {} normalisation, units {}",
+                path.display(),
+                m.lmax(),
+                m.normalization,
+                m.units
+            ))];
             Ok((Product::Model(m), blocks))
         }
     }

@@ -17,24 +17,57 @@ pub const COLUMN_KEYS: &[&str] = &["lat", "lon", "value", "sigma"];
 
 /// Input kinds and the keys each accepts.
 pub const INPUT_KINDS: &[(&str, &[&str])] = &[
-    ("points", &["kind", "path", "columns", "on_bad_row", "quantity", "units"]),
+    (
+        "points",
+        &["kind", "path", "columns", "on_bad_row", "quantity", "units"],
+    ),
     ("grid", &["kind", "path", "variable", "quantity", "units"]),
     ("model", &["kind", "path"]),
 ];
 
 /// Step kinds and the keys each accepts.
 pub const STEP_KINDS: &[(&str, &[&str])] = &[
-    ("grid", &["kind", "input", "lmax", "method", "radius_km", "neighbours", "gaps"]),
     (
-        "fit",
-        &["kind", "input", "lmax", "regularization"],
+        "grid",
+        &[
+            "kind",
+            "input",
+            "lmax",
+            "method",
+            "radius_km",
+            "neighbours",
+            "gaps",
+        ],
     ),
+    ("fit", &["kind", "input", "lmax", "regularization"]),
     ("analyse", &["kind", "input", "lmax"]),
     ("spectrum", &["kind", "model", "confidence", "fit_range"]),
-    ("compare", &["kind", "models", "confidence", "cross_quantity", "from_degree"]),
+    (
+        "compare",
+        &[
+            "kind",
+            "models",
+            "confidence",
+            "cross_quantity",
+            "from_degree",
+        ],
+    ),
     ("filter", &["kind", "model", "filter"]),
-    ("synthesize", &["kind", "model", "quantities", "altitude_m", "filter", "grid_lmax"]),
-    ("evaluate", &["kind", "model", "points", "quantity", "altitude_m"]),
+    (
+        "synthesize",
+        &[
+            "kind",
+            "model",
+            "quantities",
+            "altitude_m",
+            "filter",
+            "grid_lmax",
+        ],
+    ),
+    (
+        "evaluate",
+        &["kind", "model", "points", "quantity", "altitude_m"],
+    ),
 ];
 
 fn names(kinds: &[(&'static str, &'static [&'static str])]) -> Vec<&'static str> {
@@ -53,11 +86,17 @@ pub fn input_kind_names() -> Vec<&'static str> {
 
 /// Keys accepted by a step of `kind`, or `None` for an unknown kind.
 pub fn step_keys(kind: &str) -> Option<&'static [&'static str]> {
-    STEP_KINDS.iter().find(|(k, _)| *k == kind).map(|(_, keys)| *keys)
+    STEP_KINDS
+        .iter()
+        .find(|(k, _)| *k == kind)
+        .map(|(_, keys)| *keys)
 }
 
 fn input_keys(kind: &str) -> Option<&'static [&'static str]> {
-    INPUT_KINDS.iter().find(|(k, _)| *k == kind).map(|(_, keys)| *keys)
+    INPUT_KINDS
+        .iter()
+        .find(|(k, _)| *k == kind)
+        .map(|(_, keys)| *keys)
 }
 
 /// Walks a parsed config and returns one message per unknown key or kind, each starting with
@@ -68,7 +107,11 @@ pub fn check_keys(root: &toml::Value) -> Vec<String> {
         return vec!["the config is not a TOML table".into()];
     };
     check_table(top, "", TOP_KEYS, &mut problems);
-    for (section, keys) in [("job", JOB_KEYS), ("body", BODY_KEYS), ("output", OUTPUT_KEYS)] {
+    for (section, keys) in [
+        ("job", JOB_KEYS),
+        ("body", BODY_KEYS),
+        ("output", OUTPUT_KEYS),
+    ] {
         if let Some(t) = top.get(section).and_then(|v| v.as_table()) {
             check_table(t, section, keys, &mut problems);
         }
@@ -115,16 +158,25 @@ fn kind_of<'t>(
 ) -> Option<&'t str> {
     match t.get("kind") {
         None => {
-            problems.push(format!("{path}.kind: missing; expected one of: {}", known.join(", ")));
+            problems.push(format!(
+                "{path}.kind: missing; expected one of: {}",
+                known.join(", ")
+            ));
             None
         }
         Some(toml::Value::String(k)) if known.contains(&k.as_str()) => Some(k.as_str()),
         Some(toml::Value::String(k)) => {
-            problems.push(format!("{path}.kind: unknown kind '{k}'{}", suggest::hint(k, known)));
+            problems.push(format!(
+                "{path}.kind: unknown kind '{k}'{}",
+                suggest::hint(k, known)
+            ));
             None
         }
         Some(_) => {
-            problems.push(format!("{path}.kind: expected a string, one of: {}", known.join(", ")));
+            problems.push(format!(
+                "{path}.kind: expected a string, one of: {}",
+                known.join(", ")
+            ));
             None
         }
     }
@@ -133,7 +185,11 @@ fn kind_of<'t>(
 fn check_table(t: &toml::Table, path: &str, known: &[&str], problems: &mut Vec<String>) {
     for key in t.keys() {
         if !known.contains(&key.as_str()) {
-            let full = if path.is_empty() { key.clone() } else { format!("{path}.{key}") };
+            let full = if path.is_empty() {
+                key.clone()
+            } else {
+                format!("{path}.{key}")
+            };
             problems.push(format!("{full}: unknown key{}", suggest::hint(key, known)));
         }
     }
@@ -150,7 +206,10 @@ mod tests {
     #[test]
     fn unknown_step_key_names_path_and_suggestion() {
         let p = problems("[steps.fit]\nkind = \"fit\"\nregularisation = \"gcv\"\n");
-        assert_eq!(p, vec!["steps.fit.regularisation: unknown key; did you mean 'regularization'?"]);
+        assert_eq!(
+            p,
+            vec!["steps.fit.regularisation: unknown key; did you mean 'regularization'?"]
+        );
     }
 
     #[test]
@@ -164,9 +223,14 @@ mod tests {
     #[test]
     fn unknown_kind_and_top_key() {
         let p = problems("outptu = 1\n[steps.a]\nkind = \"synthesise\"\n");
-        assert!(p.contains(&"outptu: unknown key; did you mean 'output'?".to_string()), "{p:?}");
         assert!(
-            p.contains(&"steps.a.kind: unknown kind 'synthesise'; did you mean 'synthesize'?".into()),
+            p.contains(&"outptu: unknown key; did you mean 'output'?".to_string()),
+            "{p:?}"
+        );
+        assert!(
+            p.contains(
+                &"steps.a.kind: unknown kind 'synthesise'; did you mean 'synthesize'?".into()
+            ),
             "{p:?}"
         );
     }
@@ -176,13 +240,19 @@ mod tests {
         let p = problems(
             "[inputs.s]\nkind = \"points\"\npath = \"a.csv\"\ncolumns = { lat = \"a\", lng = \"b\" }\n",
         );
-        assert_eq!(p, vec!["inputs.s.columns.lng: unknown key; did you mean 'lon'?"]);
+        assert_eq!(
+            p,
+            vec!["inputs.s.columns.lng: unknown key; did you mean 'lon'?"]
+        );
     }
 
     #[test]
     fn every_listed_key_is_a_field_of_the_typed_config() {
         // a key listed here but missing from config.rs would be rejected by serde later
-        let fields: Vec<&str> = STEP_KINDS.iter().flat_map(|(_, k)| k.iter().copied()).collect();
+        let fields: Vec<&str> = STEP_KINDS
+            .iter()
+            .flat_map(|(_, k)| k.iter().copied())
+            .collect();
         for key in fields {
             let value = match key {
                 "kind" => "kind = \"fit\"".to_string(),
@@ -193,7 +263,11 @@ mod tests {
                 "radius_km" | "altitude_m" | "confidence" => format!("{key} = 1.0"),
                 _ => format!("{key} = \"x\""),
             };
-            let extra = if key == "kind" { String::new() } else { "kind = \"fit\"\n".into() };
+            let extra = if key == "kind" {
+                String::new()
+            } else {
+                "kind = \"fit\"\n".into()
+            };
             let text = format!("{extra}{value}\n");
             let r: Result<super::super::config::StepSpec, _> = toml::from_str(&text);
             assert!(r.is_ok(), "{key}: {r:?}");

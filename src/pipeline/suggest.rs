@@ -20,7 +20,9 @@ pub fn edit_distance(a: &str, b: &str) -> usize {
     for i in 1..=n {
         for j in 1..=m {
             let cost = usize::from(a[i - 1] != b[j - 1]);
-            let mut best = (d[i - 1][j] + 1).min(d[i][j - 1] + 1).min(d[i - 1][j - 1] + cost);
+            let mut best = (d[i - 1][j] + 1)
+                .min(d[i][j - 1] + 1)
+                .min(d[i - 1][j - 1] + cost);
             if i > 1 && j > 1 && a[i - 1] == b[j - 2] && a[i - 2] == b[j - 1] {
                 best = best.min(d[i - 2][j - 2] + 1);
             }
@@ -54,7 +56,12 @@ pub fn nearest<'a>(given: &str, known: &[&'a str]) -> Option<&'a str> {
 fn shared_chars(a: &str, b: &str) -> usize {
     let mut rest: Vec<char> = b.chars().collect();
     a.chars()
-        .filter(|c| rest.iter().position(|r| r == c).map(|i| rest.swap_remove(i)).is_some())
+        .filter(|c| {
+            rest.iter()
+                .position(|r| r == c)
+                .map(|i| rest.swap_remove(i))
+                .is_some()
+        })
         .count()
 }
 

@@ -22,7 +22,11 @@ impl Canvas {
         for _ in 0..width * height {
             pixels.extend_from_slice(&background);
         }
-        Canvas { width, height, pixels }
+        Canvas {
+            width,
+            height,
+            pixels,
+        }
     }
 
     pub fn set(&mut self, x: usize, y: usize, c: Rgb) {
@@ -88,7 +92,9 @@ impl Canvas {
             enc.set_depth(png::BitDepth::Eight);
             // writing into a Vec cannot fail for a correctly sized buffer
             let mut writer = enc.write_header().expect("PNG header into memory");
-            writer.write_image_data(&self.pixels).expect("PNG data into memory");
+            writer
+                .write_image_data(&self.pixels)
+                .expect("PNG data into memory");
         }
         out
     }

@@ -8,11 +8,20 @@ use std::fmt::Write as _;
 pub enum Block {
     Paragraph(String),
     /// Header row and body rows; cells are plain text.
-    Table { headers: Vec<String>, rows: Vec<Vec<String>> },
+    Table {
+        headers: Vec<String>,
+        rows: Vec<Vec<String>>,
+    },
     /// A PNG picture with its caption.
-    Png { bytes: Vec<u8>, caption: String },
+    Png {
+        bytes: Vec<u8>,
+        caption: String,
+    },
     /// An SVG document (from `report::plots`) with its caption.
-    Svg { svg: String, caption: String },
+    Svg {
+        svg: String,
+        caption: String,
+    },
     /// A caution that applies to results shown (drawn in a highlighted box).
     Caution(String),
     /// Preformatted text (the plan, provenance lines).
@@ -37,11 +46,17 @@ impl Section {
         self
     }
     pub fn png(&mut self, bytes: Vec<u8>, caption: impl Into<String>) -> &mut Self {
-        self.blocks.push(Block::Png { bytes, caption: caption.into() });
+        self.blocks.push(Block::Png {
+            bytes,
+            caption: caption.into(),
+        });
         self
     }
     pub fn svg(&mut self, svg: String, caption: impl Into<String>) -> &mut Self {
-        self.blocks.push(Block::Svg { svg, caption: caption.into() });
+        self.blocks.push(Block::Svg {
+            svg,
+            caption: caption.into(),
+        });
         self
     }
     pub fn caution(&mut self, text: impl Into<String>) -> &mut Self {
@@ -64,12 +79,19 @@ pub struct Report {
 
 impl Report {
     pub fn new(title: impl Into<String>, subtitle: impl Into<String>) -> Report {
-        Report { title: title.into(), subtitle: subtitle.into(), sections: Vec::new() }
+        Report {
+            title: title.into(),
+            subtitle: subtitle.into(),
+            sections: Vec::new(),
+        }
     }
 
     /// Appends a section and returns it for filling.
     pub fn section(&mut self, heading: impl Into<String>) -> &mut Section {
-        self.sections.push(Section { heading: heading.into(), blocks: Vec::new() });
+        self.sections.push(Section {
+            heading: heading.into(),
+            blocks: Vec::new(),
+        });
         self.sections.last_mut().expect("just pushed")
     }
 
@@ -134,10 +156,19 @@ fn block_html(h: &mut String, b: &Block) {
         Block::Svg { svg, caption } => {
             // drop any XML declaration: inline SVG must start at the <svg> element
             let start = svg.find("<svg").unwrap_or(0);
-            let _ = writeln!(h, "<figure class=\"svg\">{}<figcaption>{}</figcaption></figure>", &svg[start..], escape(caption));
+            let _ = writeln!(
+                h,
+                "<figure class=\"svg\">{}<figcaption>{}</figcaption></figure>",
+                &svg[start..],
+                escape(caption)
+            );
         }
         Block::Caution(t) => {
-            let _ = writeln!(h, "<div class=\"caution\" role=\"note\"><strong>Caution.</strong> {}</div>", escape(t));
+            let _ = writeln!(
+                h,
+                "<div class=\"caution\" role=\"note\"><strong>Caution.</strong> {}</div>",
+                escape(t)
+            );
         }
         Block::Preformatted(t) => {
             let _ = writeln!(h, "<pre>{}</pre>", escape(t));
@@ -178,7 +209,11 @@ pub fn base64(bytes: &[u8]) -> String {
     const ALPHABET: &[u8; 64] = b"ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/";
     let mut out = String::with_capacity(bytes.len().div_ceil(3) * 4);
     for chunk in bytes.chunks(3) {
-        let b = [chunk[0], *chunk.get(1).unwrap_or(&0), *chunk.get(2).unwrap_or(&0)];
+        let b = [
+            chunk[0],
+            *chunk.get(1).unwrap_or(&0),
+            *chunk.get(2).unwrap_or(&0),
+        ];
         let n = (u32::from(b[0]) << 16) | (u32::from(b[1]) << 8) | u32::from(b[2]);
         for i in 0..4 {
             if i <= chunk.len() {
@@ -214,16 +249,27 @@ mod tests {
     #[test]
     fn document_is_self_contained_and_escaped() {
         let mut r = Report::new("Run <1>", "sub");
-        r.section("Maps").png(vec![1, 2, 3], "a & b").caution("not for navigation");
-        r.section("Plots").svg("<?xml version=\"1.0\"?><svg xmlns=\"http://www.w3.org/2000/svg\"></svg>".into(), "s");
+        r.section("Maps")
+            .png(vec![1, 2, 3], "a & b")
+            .caution("not for navigation");
+        r.section("Plots").svg(
+            "<?xml version=\"1.0\"?><svg xmlns=\"http://www.w3.org/2000/svg\"></svg>".into(),
+            "s",
+        );
         let html = r.to_html();
         assert!(html.starts_with("<!DOCTYPE html>"));
         assert!(html.contains("<title>Run &lt;1&gt;</title>"));
         assert!(html.contains("src=\"data:image/png;base64,AQID\""));
         assert!(html.contains("a &amp; b"));
         assert!(html.contains("class=\"caution\""));
-        assert!(!html.contains("<?xml"), "inline SVG keeps no XML declaration");
-        assert!(!html.contains("http://") || html.matches("http://").count() == 1, "only the SVG namespace");
+        assert!(
+            !html.contains("<?xml"),
+            "inline SVG keeps no XML declaration"
+        );
+        assert!(
+            !html.contains("http://") || html.matches("http://").count() == 1,
+            "only the SVG namespace"
+        );
         assert_eq!(html.matches("<section").count(), 2);
     }
 }

@@ -37,7 +37,9 @@ pub fn render_map_png(field: &Array2<f64>, style: &MapStyle) -> Vec<u8> {
     let mut canvas = frame_with_title(style);
     let (lo, hi) = colour_range(field.iter().copied());
     let lats = style.lat_deg.clone().unwrap_or_else(|| {
-        (0..nlat).map(|j| 90.0 - (j as f64 + 0.5) * 180.0 / nlat as f64).collect()
+        (0..nlat)
+            .map(|j| 90.0 - (j as f64 + 0.5) * 180.0 / nlat as f64)
+            .collect()
     });
     for py in 0..MAP_H {
         let lat = 90.0 - (py as f64 + 0.5) * 180.0 / MAP_H as f64;
@@ -64,7 +66,12 @@ pub fn render_map_png(field: &Array2<f64>, style: &MapStyle) -> Vec<u8> {
 /// Renders scattered points (latitude, longitude in degrees, value) as a coverage map: each
 /// point a small dot coloured by its value, on a grey background, with the same frame, bar and
 /// labels as [`render_map_png`].
-pub fn render_points_png(lat_deg: &[f64], lon_deg: &[f64], value: &[f64], style: &MapStyle) -> Vec<u8> {
+pub fn render_points_png(
+    lat_deg: &[f64],
+    lon_deg: &[f64],
+    value: &[f64],
+    style: &MapStyle,
+) -> Vec<u8> {
     let mut canvas = frame_with_title(style);
     canvas.fill_rect(LEFT, TOP, MAP_W, MAP_H, [60, 60, 60]);
     let (lo, hi) = colour_range(value.iter().copied());
@@ -81,8 +88,17 @@ pub fn render_points_png(lat_deg: &[f64], lon_deg: &[f64], value: &[f64], style:
 fn frame_with_title(style: &MapStyle) -> Canvas {
     let mut canvas = Canvas::new(LEFT + MAP_W + RIGHT, TOP + MAP_H + BOTTOM, WHITE);
     // the largest text size at which the title fits the map's width
-    let scale = (1..=3).rev().find(|s| super::font::text_width(&style.title) * s <= MAP_W).unwrap_or(1);
-    canvas.text_centred(LEFT + MAP_W / 2, 8 + (3 - scale) * 4, &style.title, scale, BLACK);
+    let scale = (1..=3)
+        .rev()
+        .find(|s| super::font::text_width(&style.title) * s <= MAP_W)
+        .unwrap_or(1);
+    canvas.text_centred(
+        LEFT + MAP_W / 2,
+        8 + (3 - scale) * 4,
+        &style.title,
+        scale,
+        BLACK,
+    );
     let max_chars = (LEFT + MAP_W + RIGHT) / (super::font::GLYPH_W + 1);
     let sub: String = style.degree_range.chars().take(max_chars).collect();
     canvas.text_centred((LEFT + MAP_W + RIGHT) / 2, 36, &sub, 1, BLACK);
@@ -96,7 +112,13 @@ fn finish(mut canvas: Canvas, lo: f64, hi: f64, style: &MapStyle) -> Vec<u8> {
         let y = TOP + ((90 - lat) as f64 / 180.0 * MAP_H as f64) as usize;
         canvas.fill_rect(LEFT - 5, y, 4, 1, BLACK);
         let label = format!("{lat}");
-        canvas.text(LEFT - 8 - super::font::text_width(&label), y.saturating_sub(3), &label, 1, BLACK);
+        canvas.text(
+            LEFT - 8 - super::font::text_width(&label),
+            y.saturating_sub(3),
+            &label,
+            1,
+            BLACK,
+        );
         for px in (0..MAP_W).step_by(4) {
             blend_grid(&mut canvas, LEFT + px, y);
         }
@@ -139,7 +161,13 @@ fn colour_bar(canvas: &mut Canvas, lo: f64, hi: f64, units: &str) {
             canvas.text_centred(x, by + bh + 7, &format_tick(t), 1, BLACK);
         }
     } else {
-        canvas.text_centred(bx + bw / 2, by + bh + 7, &format!("constant {}", format_tick(lo)), 1, BLACK);
+        canvas.text_centred(
+            bx + bw / 2,
+            by + bh + 7,
+            &format!("constant {}", format_tick(lo)),
+            1,
+            BLACK,
+        );
     }
     canvas.text(bx + bw + 12, by + 4, units, 1, BLACK);
     let _ = GREY;
@@ -198,10 +226,23 @@ mod tests {
         // a field increasing from north to south: top of the map dark (viridis start),
         // bottom bright (viridis end)
         let field = Array2::from_shape_fn((18, 36), |(j, _)| j as f64);
-        let bytes = render_map_png(&field, &MapStyle { title: "Test".into(), units: "m".into(), ..Default::default() });
+        let bytes = render_map_png(
+            &field,
+            &MapStyle {
+                title: "Test".into(),
+                units: "m".into(),
+                ..Default::default()
+            },
+        );
         let (w, h, px) = decode(&bytes);
         assert_eq!((w, h), (LEFT + MAP_W + RIGHT, TOP + MAP_H + BOTTOM));
-        let at = |x: usize, y: usize| [px[(y * w + x) * 3], px[(y * w + x) * 3 + 1], px[(y * w + x) * 3 + 2]];
+        let at = |x: usize, y: usize| {
+            [
+                px[(y * w + x) * 3],
+                px[(y * w + x) * 3 + 1],
+                px[(y * w + x) * 3 + 2],
+            ]
+        };
         assert_eq!(at(LEFT + 10, TOP + 1), viridis(0.0).unwrap());
         assert_eq!(at(LEFT + 10, TOP + MAP_H - 2), viridis(1.0).unwrap());
     }
@@ -210,8 +251,17 @@ mod tests {
     fn masked_cells_are_grey_and_range_ignores_nan() {
         let mut field = Array2::from_elem((10, 20), 1.0);
         field[[0, 0]] = f64::NAN;
-        assert_eq!(colour_range([1.0, f64::NAN, 3.0, 2.0].into_iter()), (1.0, 3.0));
-        let bytes = render_map_png(&field, &MapStyle { lon0_deg: 0.0, ..Default::default() });
+        assert_eq!(
+            colour_range([1.0, f64::NAN, 3.0, 2.0].into_iter()),
+            (1.0, 3.0)
+        );
+        let bytes = render_map_png(
+            &field,
+            &MapStyle {
+                lon0_deg: 0.0,
+                ..Default::default()
+            },
+        );
         let (w, _, px) = decode(&bytes);
         // longitude 0 column, north-most row: the first pixel right of the map's centre
         let (x, y) = (LEFT + MAP_W / 2 + 1, TOP + 1);

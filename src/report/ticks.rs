@@ -38,7 +38,10 @@ mod tests {
 
     #[test]
     fn ticks_are_round_and_inside() {
-        assert_eq!(nice_ticks(0.0, 10.0, 5), vec![0.0, 2.0, 4.0, 6.0, 8.0, 10.0]);
+        assert_eq!(
+            nice_ticks(0.0, 10.0, 5),
+            vec![0.0, 2.0, 4.0, 6.0, 8.0, 10.0]
+        );
         assert_eq!(nice_ticks(-3.2, 7.9, 6), vec![-2.0, 0.0, 2.0, 4.0, 6.0]);
         assert_eq!(format_tick(2.5), "2.5");
         assert_eq!(format_tick(-40.0), "-40");

@@ -97,13 +97,22 @@ impl Scenario {
         gravity.units = "1".into();
         topo.reference_radius_m = self.radius_m;
         topo.units = "m".into();
-        for (c, what) in [(&mut gravity, "gravity potential"), (&mut topo, "topography")] {
+        for (c, what) in [
+            (&mut gravity, "gravity potential"),
+            (&mut topo, "topography"),
+        ] {
             c.attributes.insert(
                 "title".into(),
-                format!("{} {what}: invented synthetic truth (kugel demo, not a real body)", self.body_name),
+                format!(
+                    "{} {what}: invented synthetic truth (kugel demo, not a real body)",
+                    self.body_name
+                ),
             );
         }
-        Truth { gravity, topography: topo }
+        Truth {
+            gravity,
+            topography: topo,
+        }
     }
 }
 

@@ -63,7 +63,11 @@ pub struct Survey {
 }
 
 /// Draws the sites and values of `design` from the truth gravity field.
-pub fn sample(design: &SurveyDesign, scenario: &Scenario, gravity: &Coefficients) -> Result<Survey> {
+pub fn sample(
+    design: &SurveyDesign,
+    scenario: &Scenario,
+    gravity: &Coefficients,
+) -> Result<Survey> {
     let mut rng = ChaCha8Rng::seed_from_u64(scenario.seed ^ (design.seed << 32));
     let zmax = design.max_abs_lat_deg.to_radians().sin();
     let mut sites = Vec::with_capacity(design.points);
@@ -85,7 +89,10 @@ pub fn sample(design: &SurveyDesign, scenario: &Scenario, gravity: &Coefficients
     // the number of threads
     let values: Vec<f64> = thetas
         .par_chunks(512)
-        .map(|chunk| crate::sht::evaluate_points(gravity, chunk).map(|v| v.into_iter().map(|p| p.value).collect::<Vec<_>>()))
+        .map(|chunk| {
+            crate::sht::evaluate_points(gravity, chunk)
+                .map(|v| v.into_iter().map(|p| p.value).collect::<Vec<_>>())
+        })
         .collect::<Result<Vec<_>>>()?
         .into_iter()
         .flatten()
@@ -94,7 +101,11 @@ pub fn sample(design: &SurveyDesign, scenario: &Scenario, gravity: &Coefficients
     Ok(Survey {
         lat_deg: sites.iter().map(|s| s.0).collect(),
         lon_deg: sites.iter().map(|s| s.1).collect(),
-        potential_m2_s2: values.iter().zip(&noise).map(|(v, n)| round_to(v * scale + n, 3)).collect(),
+        potential_m2_s2: values
+            .iter()
+            .zip(&noise)
+            .map(|(v, n)| round_to(v * scale + n, 3))
+            .collect(),
         sigma_m2_s2: design.noise_m2_s2,
     })
 }
@@ -117,10 +128,17 @@ mod tests {
         d.points = 2000;
         let a = sample(&d, &s, &truth.gravity).unwrap();
         assert!(a.lat_deg.iter().all(|l| l.abs() <= 72.0));
-        assert_eq!(a.potential_m2_s2, sample(&d, &s, &truth.gravity).unwrap().potential_m2_s2);
+        assert_eq!(
+            a.potential_m2_s2,
+            sample(&d, &s, &truth.gravity).unwrap().potential_m2_s2
+        );
         // residuals about the noiseless truth have the design σ (2000 draws: ±5% is ~3 SE)
-        let pts: Vec<(f64, f64)> =
-            a.lat_deg.iter().zip(&a.lon_deg).map(|(la, lo)| ((90.0 - la).to_radians(), lo.to_radians())).collect();
+        let pts: Vec<(f64, f64)> = a
+            .lat_deg
+            .iter()
+            .zip(&a.lon_deg)
+            .map(|(la, lo)| ((90.0 - la).to_radians(), lo.to_radians()))
+            .collect();
         let clean = crate::sht::evaluate_points(&truth.gravity, &pts).unwrap();
         let var: f64 = clean
             .iter()
@@ -128,6 +146,10 @@ mod tests {
             .map(|(c, v)| (v - c.value * s.potential_scale()).powi(2))
             .sum::<f64>()
             / 2000.0;
-        assert!((var.sqrt() / 40.0 - 1.0).abs() < 0.05, "noise σ {}", var.sqrt());
+        assert!(
+            (var.sqrt() / 40.0 - 1.0).abs() < 0.05,
+            "noise σ {}",
+            var.sqrt()
+        );
     }
 }

@@ -43,7 +43,12 @@ fn provenance(scenario: &Scenario) -> Provenance {
 /// Generates the scenario and writes it to `out`. `step` is told the name of each stage as it
 /// starts (for progress display).
 pub fn write_demo(out: &Path, scenario: &Scenario, step: impl FnMut(&str)) -> Result<DemoReport> {
-    write_demo_with(out, scenario, &[SurveyDesign::wickline(), SurveyDesign::halyard()], step)
+    write_demo_with(
+        out,
+        scenario,
+        &[SurveyDesign::wickline(), SurveyDesign::halyard()],
+        step,
+    )
 }
 
 /// As [`write_demo`] with other survey designs (smaller data sets for tests).
@@ -58,7 +63,10 @@ pub fn write_demo_with(
     let mut report = DemoReport::default();
     step("drawing the truth fields");
     let truth = scenario.truth();
-    let models = [("truth_gravity.nc", &truth.gravity), ("truth_topography.nc", &truth.topography)];
+    let models = [
+        ("truth_gravity.nc", &truth.gravity),
+        ("truth_topography.nc", &truth.topography),
+    ];
     for (name, model) in models {
         let path = out.join(name);
         write_model(&path, model, &prov)?;
@@ -69,17 +77,37 @@ pub fn write_demo_with(
     let grid = GaussGrid::new(scenario.truth_lmax);
     let plan = TransformPlan::new(scenario.truth_lmax, &grid)?;
     let topo = plan.synthesise(&truth.topography)?;
-    let mut file = GridFile::from_engine_grid(&grid, format!("{} topography (invented)", scenario.body_name));
-    file.push("topography", "height above the reference sphere", "m", None, topo);
-    file.attributes.push(("kugel_body".into(), scenario.body_name.into()));
-    file.attributes.push(("kugel_reference_radius_m".into(), scenario.radius_m.to_string()));
+    let mut file = GridFile::from_engine_grid(
+        &grid,
+        format!("{} topography (invented)", scenario.body_name),
+    );
+    file.push(
+        "topography",
+        "height above the reference sphere",
+        "m",
+        None,
+        topo,
+    );
+    file.attributes
+        .push(("kugel_body".into(), scenario.body_name.into()));
+    file.attributes.push((
+        "kugel_reference_radius_m".into(),
+        scenario.radius_m.to_string(),
+    ));
     let path = out.join("topography.nc");
-    let options = GridWriteOptions { float32: true, lon_convention: LonConvention::ZeroTo360, provenance: &prov };
+    let options = GridWriteOptions {
+        float32: true,
+        lon_convention: LonConvention::ZeroTo360,
+        provenance: &prov,
+    };
     write_grid(&path, &file, &options)?;
     report.files.push(sized(path)?);
 
     for design in designs {
-        step(&format!("sampling the {} survey ({} sites)", design.name, design.points));
+        step(&format!(
+            "sampling the {} survey ({} sites)",
+            design.name, design.points
+        ));
         let survey = sample(design, scenario, &truth.gravity)?;
         let rows: Vec<Vec<String>> = (0..survey.lat_deg.len())
             .map(|i| {
@@ -92,7 +120,11 @@ pub fn write_demo_with(
             })
             .collect();
         let path = out.join(format!("{}.csv", design.file_stem));
-        write_csv_table(&path, &["lat_deg", "lon_deg", "potential_m2_s2", "sigma_m2_s2"], &rows)?;
+        write_csv_table(
+            &path,
+            &["lat_deg", "lon_deg", "potential_m2_s2", "sigma_m2_s2"],
+            &rows,
+        )?;
         report.files.push(sized(path)?);
     }
 
@@ -103,7 +135,9 @@ pub fn write_demo_with(
 }
 
 fn sized(path: PathBuf) -> Result<(PathBuf, u64)> {
-    let len = std::fs::metadata(&path).map_err(|e| Error::io(&path, e))?.len();
+    let len = std::fs::metadata(&path)
+        .map_err(|e| Error::io(&path, e))?
+        .len();
     Ok((path, len))
 }
 

@@ -6,7 +6,9 @@ use crate::error::Result;
 use crate::field::cautions::caution_for;
 use crate::field::normal_field::NormalField;
 use crate::field::quantity::Quantity;
-use crate::field::synthesis::{evaluate_at_points, synthesize_on_grid, GeocentricPoint, SynthesisRequest, TargetSurface};
+use crate::field::synthesis::{
+    evaluate_at_points, synthesize_on_grid, GeocentricPoint, SynthesisRequest, TargetSurface,
+};
 use crate::io::csv_table::write_csv_table;
 use crate::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use crate::io::provenance::Provenance;
@@ -23,7 +25,11 @@ pub(super) fn write_options<'a>(env: &StepEnv, provenance: &'a Provenance) -> Gr
         Some("-180-180") => LonConvention::MinusPlus180,
         _ => LonConvention::ZeroTo360,
     };
-    GridWriteOptions { float32: env.job.config.output.float32, lon_convention, provenance }
+    GridWriteOptions {
+        float32: env.job.config.output.float32,
+        lon_convention,
+        provenance,
+    }
 }
 
 fn quantities(names: &[String]) -> Result<Vec<Quantity>> {
@@ -33,9 +39,17 @@ fn quantities(names: &[String]) -> Result<Vec<Quantity>> {
 pub fn synthesize(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
     let model = env.model(step.model.as_ref())?;
     let qs = quantities(step.quantities.as_deref().unwrap_or_default())?;
-    let chain = step.filter.as_deref().map(|f| FilterChain::parse_relative_to(f, &env.job.base_dir)).transpose()?;
+    let chain = step
+        .filter
+        .as_deref()
+        .map(|f| FilterChain::parse_relative_to(f, &env.job.base_dir))
+        .transpose()?;
     let altitude_m = step.altitude_m.unwrap_or(0.0);
-    let surface = if altitude_m == 0.0 { TargetSurface::ReferenceSphere } else { TargetSurface::Altitude { altitude_m } };
+    let surface = if altitude_m == 0.0 {
+        TargetSurface::ReferenceSphere
+    } else {
+        TargetSurface::Altitude { altitude_m }
+    };
     let grid_lmax = step.grid_lmax.unwrap_or(model.lmax());
     let grid = GaussGrid::new(grid_lmax);
     let mut request = SynthesisRequest::new(qs.clone());
@@ -48,14 +62,29 @@ pub fn synthesize(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutc
     let degree_range = format!(
         "degrees 0-{}{}{}",
         model.lmax(),
-        filter_text.as_ref().map(|f| format!(", {f}")).unwrap_or_default(),
-        if altitude_m != 0.0 { format!(", at {:.1} km altitude", altitude_m / 1e3) } else { String::new() }
+        filter_text
+            .as_ref()
+            .map(|f| format!(", {f}"))
+            .unwrap_or_default(),
+        if altitude_m != 0.0 {
+            format!(", at {:.1} km altitude", altitude_m / 1e3)
+        } else {
+            String::new()
+        }
     );
     let mut out = StepOutcome::default();
-    let mut file = GridFile::from_engine_grid(&grid, format!("{name}: {}", qs.iter().map(|q| q.name()).collect::<Vec<_>>().join(", ")));
+    let mut file = GridFile::from_engine_grid(
+        &grid,
+        format!(
+            "{name}: {}",
+            qs.iter().map(|q| q.name()).collect::<Vec<_>>().join(", ")
+        ),
+    );
     let mut variables = Vec::new();
     for (q, data) in &fields {
-        let units = q.units().map_or_else(|| model.units.clone(), str::to_string);
+        let units = q
+            .units()
+            .map_or_else(|| model.units.clone(), str::to_string);
         let style = MapStyle {
             title: format!("{name}: {}", q.long_name()),
             units: units.clone(),
@@ -69,23 +98,45 @@ pub fn synthesize(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutc
             crate::io::atomic::write_bytes_atomic(&env.staging_dir.join(&png_name), &png)?;
             out.files.push((png_name, format!("map of {}", q.name())));
         }
-        out.report.push((ReportPart::Maps, Block::Png { bytes: png, caption: format!("{}: {} ({units}), {degree_range}", name, q.long_name()) }));
+        out.report.push((
+            ReportPart::Maps,
+            Block::Png {
+                bytes: png,
+                caption: format!("{}: {} ({units}), {degree_range}", name, q.long_name()),
+            },
+        ));
         if let Some(c) = caution_for(*q) {
             out.cautions.push(c.to_string());
         }
         variables.push(q.variable_name());
-        file.push(&q.variable_name(), q.long_name(), &units, q.standard_name_given(false), data.clone());
+        file.push(
+            &q.variable_name(),
+            q.long_name(),
+            &units,
+            q.standard_name_given(false),
+            data.clone(),
+        );
     }
     if !out.cautions.is_empty() {
-        file.attributes.push(("caution".into(), out.cautions.join(" ")));
+        file.attributes
+            .push(("caution".into(), out.cautions.join(" ")));
     }
-    file.attributes.push(("kugel_altitude_m".into(), altitude_m.to_string()));
-    file.attributes.push(("kugel_reference_radius_m".into(), model.reference_radius_m.to_string()));
+    file.attributes
+        .push(("kugel_altitude_m".into(), altitude_m.to_string()));
+    file.attributes.push((
+        "kugel_reference_radius_m".into(),
+        model.reference_radius_m.to_string(),
+    ));
     let prov = env.provenance_for(Some(model.lmax()), filter_text);
     let nc = format!("{name}.nc");
     if env.job.config.output.wants("netcdf") {
-        write_grid(&env.staging_dir.join(&nc), &file, &write_options(env, &prov))?;
-        out.files.push((nc, format!("maps of {}", variables.join(", "))));
+        write_grid(
+            &env.staging_dir.join(&nc),
+            &file,
+            &write_options(env, &prov),
+        )?;
+        out.files
+            .push((nc, format!("maps of {}", variables.join(", "))));
     }
     out.product = Some(Product::Maps(variables));
     Ok(out)
@@ -94,7 +145,11 @@ pub fn synthesize(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutc
 pub fn evaluate(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
     let model = env.model(step.model.as_ref())?;
     let points = env.points(step.points.as_ref())?;
-    let default_q = if points.quantity == "potential" { "potential" } else { "value" };
+    let default_q = if points.quantity == "potential" {
+        "potential"
+    } else {
+        "value"
+    };
     let q: Quantity = step.quantity.as_deref().unwrap_or(default_q).parse()?;
     let radius = model.reference_radius_m + step.altitude_m.unwrap_or(0.0);
     let sites: Vec<GeocentricPoint> = points
@@ -107,9 +162,17 @@ pub fn evaluate(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcom
     let mut request = SynthesisRequest::new(vec![q]);
     request.normal_field = NormalField::None;
     let modelled = evaluate_at_points(model, &sites, &request)?.remove(0);
-    let residual: Vec<f64> = points.set.value.iter().zip(&modelled).map(|(o, m)| o - m).collect();
+    let residual: Vec<f64> = points
+        .set
+        .value
+        .iter()
+        .zip(&modelled)
+        .map(|(o, m)| o - m)
+        .collect();
     let stats = ResidualStats::of(&residual);
-    let units = q.units().map_or_else(|| points.units.clone(), str::to_string);
+    let units = q
+        .units()
+        .map_or_else(|| points.units.clone(), str::to_string);
 
     let mut out = StepOutcome::default();
     if env.job.config.output.wants("csv") {
@@ -125,13 +188,28 @@ pub fn evaluate(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcom
             })
             .collect();
         let file = format!("{name}_residuals.csv");
-        write_csv_table(&env.staging_dir.join(&file), &["lat_deg", "lon_deg", "observed", "model", "residual"], &rows)?;
-        out.files.push((file, format!("observed − model {} at {} points ({units})", q.name(), residual.len())));
+        write_csv_table(
+            &env.staging_dir.join(&file),
+            &["lat_deg", "lon_deg", "observed", "model", "residual"],
+            &rows,
+        )?;
+        out.files.push((
+            file,
+            format!(
+                "observed − model {} at {} points ({units})",
+                q.name(),
+                residual.len()
+            ),
+        ));
     }
     let style = MapStyle {
         title: format!("{name}: residuals"),
         units: units.clone(),
-        degree_range: format!("observed minus model {} (degrees 0-{})", q.name(), model.lmax()),
+        degree_range: format!(
+            "observed minus model {} (degrees 0-{})",
+            q.name(),
+            model.lmax()
+        ),
         ..Default::default()
     };
     let png = render_points_png(&points.set.lat_deg, &points.set.lon_deg, &residual, &style);
@@ -143,7 +221,10 @@ pub fn evaluate(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcom
     out.report.push((
         ReportPart::Residuals,
         Block::Table {
-            headers: ["step", "points", "mean", "RMS", "max |r|", "units"].iter().map(|s| s.to_string()).collect(),
+            headers: ["step", "points", "mean", "RMS", "max |r|", "units"]
+                .iter()
+                .map(|s| s.to_string())
+                .collect(),
             rows: vec![vec![
                 name.to_string(),
                 residual.len().to_string(),
@@ -154,8 +235,15 @@ pub fn evaluate(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcom
             ]],
         },
     ));
-    out.report.push((ReportPart::Residuals, Block::Png { bytes: png, caption: format!("{name}: observed minus model at each observation ({units})") }));
-    out.numbers.push(("residual RMS".into(), format!("{:.4} {units}", stats.rms)));
+    out.report.push((
+        ReportPart::Residuals,
+        Block::Png {
+            bytes: png,
+            caption: format!("{name}: observed minus model at each observation ({units})"),
+        },
+    ));
+    out.numbers
+        .push(("residual RMS".into(), format!("{:.4} {units}", stats.rms)));
     out.product = Some(Product::Residuals { rms: stats.rms });
     Ok(out)
 }

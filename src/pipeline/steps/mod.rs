@@ -38,17 +38,23 @@ pub struct StepEnv<'a> {
 
 impl StepEnv<'_> {
     fn product(&self, name: &str) -> Result<&Product> {
-        self.products
-            .get(name)
-            .ok_or_else(|| Error::invalid(format!("product '{name}' has not been made (run order bug)")))
+        self.products.get(name).ok_or_else(|| {
+            Error::invalid(format!(
+                "product '{name}' has not been made (run order bug)"
+            ))
+        })
     }
     fn model(&self, name: Option<&String>) -> Result<&crate::coeffs::Coefficients> {
         let name = name.ok_or_else(|| Error::invalid("a model is required"))?;
-        self.product(name)?.as_model().ok_or_else(|| Error::invalid(format!("'{name}' is not a model")))
+        self.product(name)?
+            .as_model()
+            .ok_or_else(|| Error::invalid(format!("'{name}' is not a model")))
     }
     fn points(&self, name: Option<&String>) -> Result<&Points> {
         let name = name.ok_or_else(|| Error::invalid("a point set is required"))?;
-        self.product(name)?.as_points().ok_or_else(|| Error::invalid(format!("'{name}' is not a point set")))
+        self.product(name)?
+            .as_points()
+            .ok_or_else(|| Error::invalid(format!("'{name}' is not a point set")))
     }
     /// Provenance of one output: the run's, plus degree, normalisation and filter.
     fn provenance_for(&self, lmax: Option<usize>, filter: Option<String>) -> Provenance {
@@ -84,6 +90,8 @@ pub fn run_step(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcom
         "compare" => spectra::compare(name, step, env),
         "synthesize" => field::synthesize(name, step, env),
         "evaluate" => field::evaluate(name, step, env),
-        other => Err(Error::invalid(format!("steps.{name}.kind: unknown kind '{other}'"))),
+        other => Err(Error::invalid(format!(
+            "steps.{name}.kind: unknown kind '{other}'"
+        ))),
     }
 }

@@ -11,7 +11,10 @@ use crate::sht::TransformPlan;
 use crate::spectral::filter::FilterChain;
 
 pub fn analyse(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
-    let input = step.input.as_ref().ok_or_else(|| Error::invalid("analyse needs an input"))?;
+    let input = step
+        .input
+        .as_ref()
+        .ok_or_else(|| Error::invalid("analyse needs an input"))?;
     let grid = env
         .product(input)?
         .as_grid()
@@ -23,11 +26,19 @@ pub fn analyse(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome
     let mut model = plan.analyse(&grid.field)?;
     model.reference_radius_m = env.job.config.body.radius_m;
     model.units = grid.units.clone();
-    model.attributes.insert("title".into(), format!("{name}: analysis of {input} to degree {lmax}"));
+    model.attributes.insert(
+        "title".into(),
+        format!("{name}: analysis of {input} to degree {lmax}"),
+    );
     let mut out = StepOutcome::default();
     let file = format!("{name}_model.nc");
-    write_model(&env.staging_dir.join(&file), &model, &env.provenance_for(Some(lmax), None))?;
-    out.files.push((file, format!("coefficients of {input} to degree {lmax}")));
+    write_model(
+        &env.staging_dir.join(&file),
+        &model,
+        &env.provenance_for(Some(lmax), None),
+    )?;
+    out.files
+        .push((file, format!("coefficients of {input} to degree {lmax}")));
     let (nlat, nlon) = grid.grid.shape();
     out.report.push((
         ReportPart::Inputs,
@@ -51,7 +62,10 @@ pub fn filter(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome>
     let file = format!("{name}_model.nc");
     let prov = env.provenance_for(Some(model.lmax()), Some(chain.describe()));
     write_model(&env.staging_dir.join(&file), &model, &prov)?;
-    out.files.push((file, format!("filtered coefficients ({})", chain.describe())));
+    out.files.push((
+        file,
+        format!("filtered coefficients ({})", chain.describe()),
+    ));
     out.product = Some(Product::Model(model));
     Ok(out)
 }

@@ -46,7 +46,9 @@ fn stamp(model: &mut Coefficients, points: &Points, env: &StepEnv, name: &str, h
         model.gm_m3_s2 = None;
         model.units = points.units.clone();
     }
-    model.attributes.insert("title".into(), format!("{name}: {how}"));
+    model
+        .attributes
+        .insert("title".into(), format!("{name}: {how}"));
 }
 
 pub fn grid(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
@@ -54,32 +56,80 @@ pub fn grid(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
     let lmax = step.lmax.unwrap_or(0);
     let (set, scale) = model_units_points(points, env)?;
     let method = match step.method.as_deref() {
-        Some("nearest") => GriddingMethod::Nearest { k: step.neighbours.unwrap_or(8) },
-        _ => GriddingMethod::Kernel { radius_km: step.radius_km.unwrap_or_else(|| default_radius_km(env, lmax)) },
+        Some("nearest") => GriddingMethod::Nearest {
+            k: step.neighbours.unwrap_or(8),
+        },
+        _ => GriddingMethod::Kernel {
+            radius_km: step
+                .radius_km
+                .unwrap_or_else(|| default_radius_km(env, lmax)),
+        },
     };
     let gaps = match &step.gaps {
         Some(g) => GapPolicy::parse(g)?,
         None => GapPolicy::Nearest,
     };
-    let options = GriddingOptions { method, gaps, body_radius_m: env.job.config.body.radius_m };
+    let options = GriddingOptions {
+        method,
+        gaps,
+        body_radius_m: env.job.config.body.radius_m,
+    };
     let gridded = grid_points(&set, lmax, &options)?;
     let plan = TransformPlan::new(lmax, &gridded.grid)?;
     let mut model = plan.analyse(&gridded.value)?;
-    stamp(&mut model, points, env, name, &format!("gridded ({}) and analysed to degree {lmax}", method.describe()));
+    stamp(
+        &mut model,
+        points,
+        env,
+        name,
+        &format!(
+            "gridded ({}) and analysed to degree {lmax}",
+            method.describe()
+        ),
+    );
 
     let mut out = StepOutcome::default();
     let prov = env.provenance_for(Some(lmax), None);
     let model_file = format!("{name}_model.nc");
     write_model(&env.staging_dir.join(&model_file), &model, &prov)?;
-    out.files.push((model_file, format!("coefficients to degree {lmax} from gridding")));
+    out.files.push((
+        model_file,
+        format!("coefficients to degree {lmax} from gridding"),
+    ));
 
-    let mut file = GridFile::from_engine_grid(&gridded.grid, format!("{name}: gridded observations"));
-    file.push("value", &format!("gridded {}", points.quantity), &points.units, None, gridded.value.mapv(|v| v * scale));
-    file.push("count", "observations in each node's mean", "1", None, gridded.count.clone());
-    file.push("nearest_km", "distance to the nearest observation", "km", None, gridded.nearest_km.clone());
+    let mut file =
+        GridFile::from_engine_grid(&gridded.grid, format!("{name}: gridded observations"));
+    file.push(
+        "value",
+        &format!("gridded {}", points.quantity),
+        &points.units,
+        None,
+        gridded.value.mapv(|v| v * scale),
+    );
+    file.push(
+        "count",
+        "observations in each node's mean",
+        "1",
+        None,
+        gridded.count.clone(),
+    );
+    file.push(
+        "nearest_km",
+        "distance to the nearest observation",
+        "km",
+        None,
+        gridded.nearest_km.clone(),
+    );
     let grid_file = format!("{name}_gridded.nc");
-    write_grid(&env.staging_dir.join(&grid_file), &file, &super::field::write_options(env, &prov))?;
-    out.files.push((grid_file, "gridded values, counts and distance to data".into()));
+    write_grid(
+        &env.staging_dir.join(&grid_file),
+        &file,
+        &super::field::write_options(env, &prov),
+    )?;
+    out.files.push((
+        grid_file,
+        "gridded values, counts and distance to data".into(),
+    ));
 
     let style = MapStyle {
         title: format!("{name}: distance to nearest observation"),
@@ -94,8 +144,20 @@ pub fn grid(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
         crate::io::atomic::write_bytes_atomic(&env.staging_dir.join(&png_name), &png)?;
         out.files.push((png_name, "coverage map".into()));
     }
-    out.report.push((ReportPart::Inputs, Block::Png { bytes: png, caption: format!("{name}: distance from each grid node to the nearest observation ({})", gridded.report.summary()) }));
-    out.numbers.push(("gap nodes".into(), format!("{} of {}", gridded.report.gap_nodes, gridded.report.nodes)));
+    out.report.push((
+        ReportPart::Inputs,
+        Block::Png {
+            bytes: png,
+            caption: format!(
+                "{name}: distance from each grid node to the nearest observation ({})",
+                gridded.report.summary()
+            ),
+        },
+    ));
+    out.numbers.push((
+        "gap nodes".into(),
+        format!("{} of {}", gridded.report.gap_nodes, gridded.report.nodes),
+    ));
     out.product = Some(Product::Model(model));
     Ok(out)
 }
@@ -110,36 +172,87 @@ pub fn fit(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
     let lmax = step.lmax.unwrap_or(0);
     let (set, scale) = model_units_points(points, env)?;
     let regularization = Regularization::parse(step.regularization.as_deref().unwrap_or("gcv"))?;
-    let options = FitOptions { regularization, body_radius_m: env.job.config.body.radius_m };
+    let options = FitOptions {
+        regularization,
+        body_radius_m: env.job.config.body.radius_m,
+    };
     let result = lsq_fit(&set, lmax, &options)?;
     let mut model = result.model.clone();
-    stamp(&mut model, points, env, name, &format!("least-squares fit to degree {lmax}, {}", regularization.describe()));
+    stamp(
+        &mut model,
+        points,
+        env,
+        name,
+        &format!(
+            "least-squares fit to degree {lmax}, {}",
+            regularization.describe()
+        ),
+    );
 
     let mut out = StepOutcome::default();
     let mut prov = env.provenance_for(Some(lmax), None);
-    prov.extra.push(("kugel_fit_regularization".into(), regularization.describe()));
-    prov.extra.push(("kugel_fit_residual_rms".into(), format!("{:e} {}", result.residual_rms * scale, points.units)));
-    prov.extra.push(("kugel_fit_chi2_per_dof".into(), format!("{}", result.chi2_per_dof)));
+    prov.extra
+        .push(("kugel_fit_regularization".into(), regularization.describe()));
+    prov.extra.push((
+        "kugel_fit_residual_rms".into(),
+        format!("{:e} {}", result.residual_rms * scale, points.units),
+    ));
+    prov.extra.push((
+        "kugel_fit_chi2_per_dof".into(),
+        format!("{}", result.chi2_per_dof),
+    ));
     let model_file = format!("{name}_model.nc");
     write_model(&env.staging_dir.join(&model_file), &model, &prov)?;
-    out.files.push((model_file, format!("fitted coefficients with sigmas to degree {lmax}")));
-    out.numbers.push(("residual RMS".into(), format!("{:.4} {}", result.residual_rms * scale, points.units)));
-    out.numbers.push(("χ²/dof".into(), format!("{:.3}", result.chi2_per_dof)));
-    out.numbers.push(("λ".into(), format!("{:.3e}", result.lambda)));
+    out.files.push((
+        model_file,
+        format!("fitted coefficients with sigmas to degree {lmax}"),
+    ));
+    out.numbers.push((
+        "residual RMS".into(),
+        format!("{:.4} {}", result.residual_rms * scale, points.units),
+    ));
+    out.numbers
+        .push(("χ²/dof".into(), format!("{:.3}", result.chi2_per_dof)));
+    out.numbers
+        .push(("λ".into(), format!("{:.3e}", result.lambda)));
     let rows = vec![
         vec!["points".into(), set.len().to_string()],
         vec!["unknowns".into(), ((lmax + 1) * (lmax + 1)).to_string()],
         vec!["regularization".into(), regularization.describe()],
         vec!["λ".into(), format!("{:.3e}", result.lambda)],
-        vec!["effective parameters".into(), format!("{:.1}", result.effective_parameters)],
-        vec!["residual RMS".into(), format!("{:.4} {}", result.residual_rms * scale, points.units)],
+        vec![
+            "effective parameters".into(),
+            format!("{:.1}", result.effective_parameters),
+        ],
+        vec![
+            "residual RMS".into(),
+            format!("{:.4} {}", result.residual_rms * scale, points.units),
+        ],
         vec!["χ²/dof".into(), format!("{:.3}", result.chi2_per_dof)],
-        vec!["condition estimate".into(), format!("{:.3e}", result.condition_estimate)],
+        vec![
+            "condition estimate".into(),
+            format!("{:.3e}", result.condition_estimate),
+        ],
     ];
-    out.report.push((ReportPart::Models, Block::Paragraph(format!("Fit '{name}' of '{}':", step.input.as_deref().unwrap_or("")))));
-    out.report.push((ReportPart::Models, Block::Table { headers: vec!["quantity".into(), "value".into()], rows }));
+    out.report.push((
+        ReportPart::Models,
+        Block::Paragraph(format!(
+            "Fit '{name}' of '{}':",
+            step.input.as_deref().unwrap_or("")
+        )),
+    ));
+    out.report.push((
+        ReportPart::Models,
+        Block::Table {
+            headers: vec!["quantity".into(), "value".into()],
+            rows,
+        },
+    ));
     for w in &result.warnings {
-        out.report.push((ReportPart::Models, Block::Paragraph(format!("Warning ({name}): {w}"))));
+        out.report.push((
+            ReportPart::Models,
+            Block::Paragraph(format!("Warning ({name}): {w}")),
+        ));
     }
     out.product = Some(Product::Model(model));
     Ok(out)
