@@ -111,7 +111,7 @@ impl<const W: usize> Acc<W> {
 }
 
 #[inline(always)]
-#[allow(clippy::too_many_arguments)]
+#[allow(clippy::too_many_arguments, clippy::needless_range_loop)]
 fn synth_step<const W: usize, const FMA: bool, const GRAD: bool>(
     lf: f64,
     f: f64,
@@ -296,6 +296,9 @@ fn accumulate_analysis<const W: usize, const FMA: bool>(
     }
 }
 
+/// Real and imaginary parts of the ring spectra of one parity class.
+type SpectrumPair<'h, const W: usize> = (&'h [f64; W], &'h [f64; W]);
+
 /// Degrees l0..l0 + n with no lane entering (see `synth_segment`). `h_cur` belongs to the
 /// parity of l0; the pair is returned swapped when n is odd. `acc_re`/`acc_im` start at
 /// l0·FOLD, `a`, `b` at l0 + 1.
@@ -308,16 +311,11 @@ fn analysis_segment<'h, const W: usize, const FMA: bool>(
     x: &[f64; W],
     mut p0: [f64; W],
     mut p1: [f64; W],
-    mut h_cur: (&'h [f64; W], &'h [f64; W]),
-    mut h_other: (&'h [f64; W], &'h [f64; W]),
+    mut h_cur: SpectrumPair<'h, W>,
+    mut h_other: SpectrumPair<'h, W>,
     acc_re: &mut [f64],
     acc_im: &mut [f64],
-) -> (
-    [f64; W],
-    [f64; W],
-    (&'h [f64; W], &'h [f64; W]),
-    (&'h [f64; W], &'h [f64; W]),
-) {
+) -> ([f64; W], [f64; W], SpectrumPair<'h, W>, SpectrumPair<'h, W>) {
     let (a, b) = (&a[..n], &b[..n]);
     let acc_re = &mut acc_re[..n * FOLD];
     let acc_im = &mut acc_im[..n * FOLD];
