@@ -29,6 +29,8 @@ pub struct TransformBenchResult {
     pub threads: usize,
     pub kernel: String,
     pub repeat: usize,
+    /// Gauss–Legendre nodes and weights with the grid (part of `plan_s`), seconds.
+    pub gauss_grid_s: f64,
     pub plan_s: f64,
     pub synthesis_s: f64,
     pub analysis_s: f64,
@@ -81,10 +83,11 @@ pub fn run_transform_bench(args: &TransformBenchArgs) -> anyhow::Result<Transfor
         };
         let t = Instant::now();
         let grid = GaussGrid::new(lmax);
+        let gauss_grid_s = t.elapsed().as_secs_f64();
         let plan = TransformPlan::new(lmax, &grid)?;
         let plan_s = t.elapsed().as_secs_f64();
         say(format!(
-            "degree {lmax}: Gauss grid {} x {}, {threads} threads, {} kernels, plan {plan_s:.3} s",
+            "degree {lmax}: Gauss grid {} x {}, {threads} threads, {} kernels, plan {plan_s:.3} s (Gauss–Legendre nodes and weights {gauss_grid_s:.3} s)",
             grid.nlat(),
             grid.nlon,
             plan.kernel_path().name()
@@ -117,6 +120,7 @@ pub fn run_transform_bench(args: &TransformBenchArgs) -> anyhow::Result<Transfor
             threads,
             kernel: plan.kernel_path().name().to_string(),
             repeat: args.repeat.max(1),
+            gauss_grid_s,
             plan_s,
             synthesis_s: s,
             analysis_s: a,

@@ -15,18 +15,17 @@
 use rayon::prelude::*;
 use std::f64::consts::PI;
 
-use super::legendre::polynomial::legendre_polynomial_pair;
-
 /// Colatitudes θ_j (ascending, north to south) and weights of the n-point rule.
 pub fn colatitudes_and_weights(n: usize) -> (Vec<f64>, Vec<f64>) {
     if n == 0 {
         return (Vec::new(), Vec::new());
     }
     let half = n.div_ceil(2);
+    let table = BonnetTable::new(n);
     let north: Vec<(f64, f64)> = (0..half)
         .into_par_iter()
         .with_min_len(16)
-        .map(|i| root(n, i))
+        .map(|i| root(n, i, &table))
         .collect();
     let mut theta = vec![0.0; n];
     let mut w = vec![0.0; n];
@@ -58,7 +57,7 @@ pub fn nodes_and_weights(n: usize) -> (Vec<f64>, Vec<f64>) {
 }
 
 /// The i-th root from the north pole (i < ⌈n/2⌉): (θ_i, w_i).
-fn root(n: usize, i: usize) -> (f64, f64) {
+fn root(n: usize, i: usize, table: &BonnetTable) -> (f64, f64) {
     let nf = n as f64;
     let k = (i + 1) as f64;
     let phi = (4.0 * k - 1.0) * PI / (4.0 * nf + 2.0);
@@ -70,7 +69,7 @@ fn root(n: usize, i: usize) -> (f64, f64) {
         theta = PI / 2.0;
     }
     for _ in 0..10 {
-        let (p, q) = legendre_polynomial_pair(n, theta.cos());
+        let (p, q) = table.pair(theta.cos());
         // dP_n/dθ = n (cos θ P_n − P_{n−1}) / sin θ
         let s = theta.sin();
         let dp = nf * (theta.cos() * p - q) / s;
@@ -88,7 +87,7 @@ fn root(n: usize, i: usize) -> (f64, f64) {
     // correction refers to the point actually used (near the poles fl(cos θ) moves θ by far
     // more than an ulp of θ).
     let x = theta.cos();
-    let (p, q) = pair_double_double(n, x);
+    let (p, q) = table.pair_double_double(x);
     let s = ((1.0 - x) * (1.0 + x)).sqrt();
     let dp = nf * (x * p - q) / s;
     let delta = -p / dp;
@@ -100,26 +99,86 @@ fn root(n: usize, i: usize) -> (f64, f64) {
 /// Numer. Math. 18:224–242): the plain recursion loses about n ulp, which would cap the weights
 /// near 1e-12 at n in the thousands. Each step forms (2k+1) x p_k − k p_{k−1} exactly enough
 /// and divides by k + 1 in double-double, so no rounded ratio enters.
-fn pair_double_double(n: usize, x: f64) -> (f64, f64) {
-    if n == 0 {
-        return (1.0, 0.0);
-    }
-    let mut prev = Dd::new(1.0);
-    let mut p = Dd::new(x);
-    for k in 1..n {
-        let kf = k as f64;
-        let next = p
-            .mul_f64(x)
-            .mul_f64(2.0 * kf + 1.0)
-            .sub(prev.mul_f64(kf))
-            .div_f64(kf + 1.0);
-        prev = p;
-        p = next;
-    }
-    (p.to_f64(), prev.to_f64())
+/// Bonnet's recursion P_{k+1}(x) = α_k x P_k(x) − β_k P_{k−1}(x) with α_k = (2k+1)/(k+1) and
+/// β_k = k/(k+1) (Abramowitz & Stegun 8.5.3), its coefficients tabulated once per rule (in
+/// double and in double-double precision) so that the per-node loops carry no division.
+struct BonnetTable {
+    n: usize,
+    alpha: Vec<f64>,
+    beta: Vec<f64>,
+    alpha_dd: Vec<Dd>,
+    beta_dd: Vec<Dd>,
 }
 
-/// A double-double number hi + lo, |lo| ≤ ulp(hi)/2.
+impl BonnetTable {
+    fn new(n: usize) -> Self {
+        let ks = 1..n.max(1);
+        let alpha_dd: Vec<Dd> = ks
+            .clone()
+            .map(|k| Dd::new((2 * k + 1) as f64).div_f64((k + 1) as f64))
+            .collect();
+        let beta_dd: Vec<Dd> = ks
+            .map(|k| Dd::new(k as f64).div_f64((k + 1) as f64))
+            .collect();
+        BonnetTable {
+            n,
+            alpha: alpha_dd.iter().map(|d| d.to_f64()).collect(),
+            beta: beta_dd.iter().map(|d| d.to_f64()).collect(),
+            alpha_dd,
+            beta_dd,
+        }
+    }
+
+    /// (P_n(x), P_{n−1}(x)) in double precision (for the Newton steps).
+    fn pair(&self, x: f64) -> (f64, f64) {
+        if self.n == 0 {
+            return (1.0, 0.0);
+        }
+        let (mut prev, mut p) = (1.0, x);
+        for (a, b) in self.alpha.iter().zip(&self.beta) {
+            let next = a * x * p - b * prev;
+            prev = p;
+            p = next;
+        }
+        (p, prev)
+    }
+
+    /// (P_n(x), P_{n−1}(x)) carried in double-double precision, rounded at the end: the
+    /// derivative in the weight formula then keeps full double accuracy at n in the tens of
+    /// thousands.
+    fn pair_double_double(&self, x: f64) -> (f64, f64) {
+        #[cfg(target_arch = "x86_64")]
+        if std::arch::is_x86_feature_detected!("fma") {
+            // SAFETY: the CPU supports FMA (checked just above).
+            return unsafe { self.pair_double_double_fma(x) };
+        }
+        self.pair_double_double_with::<false>(x)
+    }
+
+    /// The same recursion compiled with hardware FMA, whose exact products replace Dekker's
+    /// splitting (both give the exact error term, so the results are identical).
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "fma")]
+    unsafe fn pair_double_double_fma(&self, x: f64) -> (f64, f64) {
+        self.pair_double_double_with::<true>(x)
+    }
+
+    #[inline(always)]
+    fn pair_double_double_with<const FMA: bool>(&self, x: f64) -> (f64, f64) {
+        if self.n == 0 {
+            return (1.0, 0.0);
+        }
+        let mut prev = Dd::new(1.0);
+        let mut p = Dd::new(x);
+        for (a, b) in self.alpha_dd.iter().zip(&self.beta_dd) {
+            let next = a.mul::<FMA>(p.mul_f64::<FMA>(x)).sub(b.mul::<FMA>(prev));
+            prev = p;
+            p = next;
+        }
+        (p.to_f64(), prev.to_f64())
+    }
+}
+
 #[derive(Clone, Copy)]
 struct Dd {
     hi: f64,
@@ -149,9 +208,17 @@ impl Dd {
         }
     }
     /// Dekker's exact product without FMA (portable and fast on every target).
-    fn two_prod(a: f64, b: f64) -> Dd {
-        const SPLIT: f64 = 134_217_729.0; // 2^27 + 1
+    /// Exact product a·b = hi + lo: by FMA, or by Dekker's splitting (Dekker 1971).
+    #[inline(always)]
+    fn two_prod<const FMA: bool>(a: f64, b: f64) -> Dd {
         let p = a * b;
+        if FMA {
+            return Dd {
+                hi: p,
+                lo: a.mul_add(b, -p),
+            };
+        }
+        const SPLIT: f64 = 134_217_729.0; // 2^27 + 1
         let (ah, al) = {
             let t = SPLIT * a;
             let h = t - (t - a);
@@ -167,17 +234,24 @@ impl Dd {
             lo: ((ah * bh - p) + ah * bl + al * bh) + al * bl,
         }
     }
-    fn mul_f64(self, b: f64) -> Dd {
-        let p = Dd::two_prod(self.hi, b);
+    #[inline(always)]
+    fn mul_f64<const FMA: bool>(self, b: f64) -> Dd {
+        let p = Dd::two_prod::<FMA>(self.hi, b);
         Dd::quick_two_sum(p.hi, p.lo + self.lo * b)
     }
     fn sub(self, o: Dd) -> Dd {
         let s = Dd::two_sum(self.hi, -o.hi);
         Dd::quick_two_sum(s.hi, s.lo + (self.lo - o.lo))
     }
+    /// Double-double product (Dekker 1971), dropping the lo·lo term.
+    #[inline(always)]
+    fn mul<const FMA: bool>(self, o: Dd) -> Dd {
+        let p = Dd::two_prod::<FMA>(self.hi, o.hi);
+        Dd::quick_two_sum(p.hi, p.lo + (self.hi * o.lo + self.lo * o.hi))
+    }
     fn div_f64(self, b: f64) -> Dd {
         let q1 = self.hi / b;
-        let r = self.sub(Dd::two_prod(q1, b));
+        let r = self.sub(Dd::two_prod::<false>(q1, b));
         let q2 = r.hi / b;
         Dd::quick_two_sum(q1, q2)
     }
