@@ -483,8 +483,10 @@ impl TransformPlan {
 impl Lane {
     fn as_single(self, grid: &Grid) -> Lane {
         let th = grid.colatitude_rad[self.north];
+        let t = th.cos();
         Lane {
-            t: th.cos(),
+            t,
+            t_lo: super::kernel::lanes::cos_low_part(th, t),
             u: th.sin().abs(),
             north: self.north,
             south: None,

@@ -76,17 +76,26 @@ fn inject<const W: usize>(
     }
 }
 
+/// cos θ of a block's lanes as a double `t` plus its rounding error `t_lo`
+/// (see [`super::lanes::cos_low_part`]).
+#[derive(Debug, Clone, Copy)]
+pub struct Nodes<const W: usize> {
+    pub t: [f64; W],
+    pub t_lo: [f64; W],
+}
+
 /// One recursion step P̄_{l−1}, P̄_l → P̄_l, P̄_{l+1} with `a` = a_{l+1}, `b` = b_{l+1}.
 #[inline(always)]
 fn advance<const W: usize, const FMA: bool>(
     a: f64,
     b: f64,
-    x: &[f64; W],
+    x: &Nodes<W>,
     p0: &mut [f64; W],
     p1: &mut [f64; W],
 ) {
     for i in 0..W {
-        let next = fmadd::<FMA>(a * x[i], p1[i], -(b * p0[i]));
+        let main = fmadd::<FMA>(a * x.t[i], p1[i], -(b * p0[i]));
+        let next = fmadd::<FMA>(a * x.t_lo[i], p1[i], main);
         p0[i] = p1[i];
         p1[i] = next;
     }
@@ -119,7 +128,7 @@ fn synth_step<const W: usize, const FMA: bool, const GRAD: bool>(
     sl: f64,
     a_next: f64,
     b_next: f64,
-    x: &[f64; W],
+    x: &Nodes<W>,
     p0: &mut [f64; W],
     p1: &mut [f64; W],
     acc: &mut Acc<W>,
@@ -130,7 +139,7 @@ fn synth_step<const W: usize, const FMA: bool, const GRAD: bool>(
     }
     if GRAD {
         for i in 0..W {
-            let d = fmadd::<FMA>(lf * x[i], p1[i], -(f * p0[i]));
+            let d = fmadd::<FMA>(lf * x.t[i], p1[i], -(f * p0[i]));
             acc.dc[i] = fmadd::<FMA>(cl, d, acc.dc[i]);
             acc.ds[i] = fmadd::<FMA>(sl, d, acc.ds[i]);
         }
@@ -152,7 +161,7 @@ fn synth_segment<const W: usize, const FMA: bool, const GRAD: bool>(
     f: &[f64],
     c: &[f64],
     s: &[f64],
-    x: &[f64; W],
+    x: &Nodes<W>,
     mut p0: [f64; W],
     mut p1: [f64; W],
     mut cur: Acc<W>,
@@ -215,7 +224,7 @@ fn synth_segment<const W: usize, const FMA: bool, const GRAD: bool>(
 #[inline(always)]
 pub fn synth_block<const W: usize, const FMA: bool, const GRAD: bool>(
     rc: &OrderCoefficients,
-    x: &[f64; W],
+    x: &Nodes<W>,
     events: &[Event],
     c: &[f64],
     s: &[f64],
@@ -308,7 +317,7 @@ fn analysis_segment<'h, const W: usize, const FMA: bool>(
     n: usize,
     a: &[f64],
     b: &[f64],
-    x: &[f64; W],
+    x: &Nodes<W>,
     mut p0: [f64; W],
     mut p1: [f64; W],
     mut h_cur: SpectrumPair<'h, W>,
@@ -352,7 +361,7 @@ fn analysis_segment<'h, const W: usize, const FMA: bool>(
 #[allow(clippy::too_many_arguments)]
 pub fn analysis_block<const W: usize, const FMA: bool>(
     rc: &OrderCoefficients,
-    x: &[f64; W],
+    x: &Nodes<W>,
     events: &[Event],
     hr: &[[f64; W]; 2],
     hi: &[[f64; W]; 2],

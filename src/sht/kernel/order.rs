@@ -4,7 +4,7 @@
 
 use realfft::num_complex::Complex64;
 
-use super::block::{analysis_block, synth_block, Event, OrderCoefficients, FOLD};
+use super::block::{analysis_block, synth_block, Event, Nodes, OrderCoefficients, FOLD};
 use super::lanes::Lane;
 use crate::coeffs::packed_index;
 use crate::sht::legendre::recursion::{a_lm, b_lm, f_lm, sectoral, NEGLIGIBLE_LOG2};
@@ -76,7 +76,11 @@ fn block_events<const W: usize>(
     c_m: f64,
     block: &[Lane],
     sc: &mut OrderScratch,
-) -> [f64; W] {
+) -> Nodes<W> {
+    let mut nodes = Nodes {
+        t: [0.0; W],
+        t_lo: [0.0; W],
+    };
     let mut x = [0.0; W];
     let mut p = [0.0; W];
     let mut pp = [0.0; W];
@@ -88,6 +92,8 @@ fn block_events<const W: usize>(
     let limit = |k: i32| if k == -1 { threshold_abs } else { BIG_SQRT };
     for (i, lane) in block.iter().enumerate() {
         x[i] = lane.t;
+        nodes.t[i] = lane.t;
+        nodes.t_lo[i] = lane.t_lo;
         if m > lmax {
             continue;
         }
@@ -110,7 +116,7 @@ fn block_events<const W: usize>(
         }
     }
     if pending == 0 {
-        return x;
+        return nodes;
     }
     for l in (m + 1)..=lmax {
         let (al, bl) = (sc.a[l], sc.b[l]);
@@ -153,7 +159,7 @@ fn block_events<const W: usize>(
             break;
         }
     }
-    x
+    nodes
 }
 
 /// What a synthesis pass reads and where it writes.
@@ -375,6 +381,7 @@ mod tests {
                 };
                 Lane {
                     t: th.cos(),
+                    t_lo: 0.0,
                     u: th.sin(),
                     north: j,
                     south: None,
