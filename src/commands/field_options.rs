@@ -64,7 +64,11 @@ impl FieldOptions {
                 self.max_amplification
             )));
         }
-        let regularization = self.downward.as_deref().map(parse_downward).transpose()?;
+        let regularization = self
+            .downward
+            .as_deref()
+            .map(str::parse::<DownwardRegularization>)
+            .transpose()?;
         Ok(ParsedFieldOptions {
             quantities,
             normal_field,
@@ -74,29 +78,6 @@ impl FieldOptions {
                 max_amplification: self.max_amplification,
             },
         })
-    }
-}
-
-/// Parses `tikhonov:ALPHA` or `cutoff:L`.
-fn parse_downward(spec: &str) -> crate::Result<DownwardRegularization> {
-    let bad = || {
-        Error::invalid(format!(
-            "--downward `{spec}`: expected tikhonov:ALPHA (ALPHA > 0) or cutoff:L (a degree)"
-        ))
-    };
-    let (method, value) = spec.trim().split_once(':').ok_or_else(bad)?;
-    match method.trim().to_ascii_lowercase().as_str() {
-        "tikhonov" => {
-            let alpha: f64 = value.trim().parse().map_err(|_| bad())?;
-            if !(alpha.is_finite() && alpha > 0.0) {
-                return Err(bad());
-            }
-            Ok(DownwardRegularization::Tikhonov { alpha })
-        }
-        "cutoff" => Ok(DownwardRegularization::Cutoff {
-            lmax: value.trim().parse().map_err(|_| bad())?,
-        }),
-        _ => Err(bad()),
     }
 }
 
