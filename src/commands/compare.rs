@@ -73,18 +73,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         .unwrap_or_else(|| format!("{} vs {}", cmp.reference_label, cmp.other_label));
     outputs.write(&table, &provenance, || comparison_svg(&cmp, &title))?;
     if !ctx.quiet {
-        let summary = cmp.summary();
-        if outputs.is_empty() {
-            eprint!("{summary}");
-        } else {
-            print!("{summary}");
-            for p in [outputs.netcdf, outputs.csv, outputs.plot]
-                .into_iter()
-                .flatten()
-            {
-                println!("wrote {}", p.display());
-            }
-        }
+        outputs.report(&cmp.summary());
     }
     Ok(())
 }

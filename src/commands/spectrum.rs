@@ -103,6 +103,19 @@ impl TableOutputs<'_> {
         }
         Ok(())
     }
+
+    /// Prints the summary and the files written; with no output files the table went to
+    /// standard output, so the summary goes to standard error instead.
+    pub fn report(&self, summary: &str) {
+        if self.is_empty() {
+            eprint!("{summary}");
+        } else {
+            print!("{summary}");
+            for p in [self.netcdf, self.csv, self.plot].into_iter().flatten() {
+                println!("wrote {}", p.display());
+            }
+        }
+    }
 }
 
 /// The table as CSV text for standard output (same columns and number format as the file).
@@ -176,18 +189,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         .unwrap_or_else(|| format!("Spectrum of {name}"));
     outputs.write(&table, &provenance, || spectrum_svg(&spectrum, &title))?;
     if !ctx.quiet {
-        let summary = spectrum.summary();
-        if outputs.is_empty() {
-            eprint!("{summary}");
-        } else {
-            print!("{summary}");
-            for p in [outputs.netcdf, outputs.csv, outputs.plot]
-                .into_iter()
-                .flatten()
-            {
-                println!("wrote {}", p.display());
-            }
-        }
+        outputs.report(&spectrum.summary());
     }
     Ok(())
 }
