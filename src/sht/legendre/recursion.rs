@@ -43,41 +43,53 @@ pub fn f_lm(l: usize, m: usize) -> f64 {
 /// The sectoral prefactor c_m, computed as exp of a compensated sum of ln(1 + 1/(2k)) so that
 /// it is good to a few ulp at any m (a running product would drift by up to m ulp).
 pub fn sectoral_factor(m: usize) -> f64 {
-    if m == 0 {
-        return 1.0;
+    SectoralLogSum::new()
+        .nth(m)
+        .expect("the iterator is unbounded")
+        .exp()
+}
+
+/// Running compensated (Neumaier 1974) sum of ln c_m = ½ ln 2 + Σ_{k=1..m} ½ ln(1 + 1/(2k)),
+/// yielding ln c_0 = 0, ln c_1, ln c_2, ...
+struct SectoralLogSum {
+    k: usize,
+    sum: f64,
+    comp: f64,
+}
+
+impl SectoralLogSum {
+    fn new() -> Self {
+        SectoralLogSum {
+            k: 0,
+            sum: 0.5 * std::f64::consts::LN_2,
+            comp: 0.0,
+        }
     }
-    // Neumaier summation of ½ ln(1 + 1/(2k)), k = 1..m, plus ½ ln 2.
-    let (mut sum, mut comp) = (0.5 * std::f64::consts::LN_2, 0.0);
-    for k in 1..=m {
-        let term = 0.5 * (0.5 / k as f64).ln_1p();
-        let t = sum + term;
-        comp += if sum.abs() >= term.abs() {
-            (sum - t) + term
+}
+
+impl Iterator for SectoralLogSum {
+    type Item = f64;
+    fn next(&mut self) -> Option<f64> {
+        if self.k == 0 {
+            self.k = 1;
+            return Some(0.0);
+        }
+        let term = 0.5 * (0.5 / self.k as f64).ln_1p();
+        let t = self.sum + term;
+        self.comp += if self.sum.abs() >= term.abs() {
+            (self.sum - t) + term
         } else {
-            (term - t) + sum
+            (term - t) + self.sum
         };
-        sum = t;
+        self.sum = t;
+        self.k += 1;
+        Some(self.sum + self.comp)
     }
-    (sum + comp).exp()
 }
 
 /// All sectoral prefactors c_0..c_mmax (one pass, same compensated sum).
 pub fn sectoral_factors(mmax: usize) -> Vec<f64> {
-    let mut out = Vec::with_capacity(mmax + 1);
-    out.push(1.0);
-    let (mut sum, mut comp) = (0.5 * std::f64::consts::LN_2, 0.0);
-    for k in 1..=mmax {
-        let term = 0.5 * (0.5 / k as f64).ln_1p();
-        let t = sum + term;
-        comp += if sum.abs() >= term.abs() {
-            (sum - t) + term
-        } else {
-            (term - t) + sum
-        };
-        sum = t;
-        out.push((sum + comp).exp());
-    }
-    out
+    SectoralLogSum::new().take(mmax + 1).map(f64::exp).collect()
 }
 
 /// P̄_mm(θ) = c_m sin^m θ as an X-number (exact zero at the poles for m > 0).
