@@ -8,7 +8,7 @@ use std::path::Path;
 use std::process::Command;
 
 use kugel::io::degree_table::read_degree_table;
-use kugel::io::model_file::write_model;
+use kugel::io::model::write_model;
 use kugel::io::provenance::Provenance;
 use spectral_support::{correlated_partner, random_model};
 

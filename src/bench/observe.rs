@@ -14,7 +14,7 @@ use crate::observe::gaps::GapPolicy;
 use crate::observe::gridding::{
     default_radius_km, grid_points, GriddingMethod, GriddingOptions, EARTH_MEAN_RADIUS_M,
 };
-use crate::observe::lsq::{fit, FitOptions, Regularization};
+use crate::observe::fit::{fit, FitOptions, Regularization};
 use crate::observe::points::PointSet;
 
 /// Sizes for the scattered-data benchmarks.

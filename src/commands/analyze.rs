@@ -9,9 +9,9 @@ use super::convert::OnOff;
 use super::CommandContext;
 use crate::coeffs::Normalization;
 use crate::io::atomic::refuse_overwrite_of_input;
-use crate::io::grid_file::grid_kind_name;
-use crate::io::grid_read::{read_grid, GridReadOptions};
-use crate::io::model_file::write_model;
+use crate::io::grid::write::grid_kind_name;
+use crate::io::grid::read::{read_grid, GridReadOptions};
+use crate::io::model::write_model;
 use crate::io::provenance::Provenance;
 use crate::sht::TransformPlan;
 

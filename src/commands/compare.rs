@@ -6,7 +6,7 @@ use std::path::PathBuf;
 
 use super::spectrum::{display_name, TableOutputs};
 use super::CommandContext;
-use crate::io::model_file::read_model;
+use crate::io::model::read_model;
 use crate::io::provenance::Provenance;
 use crate::report::plots::comparison_svg;
 use crate::spectral::{CompareOptions, Comparison};

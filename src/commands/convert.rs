@@ -8,7 +8,7 @@ use anyhow::Context;
 use super::CommandContext;
 use crate::coeffs::Normalization;
 use crate::io::atomic::refuse_overwrite_of_input;
-use crate::io::model_file::{read_model_with_report, write_model};
+use crate::io::model::{read_model_with_report, write_model};
 use crate::io::provenance::Provenance;
 
 /// A switch written `on` or `off` on the command line.

@@ -12,8 +12,8 @@ use crate::io::atomic::refuse_overwrite_of_input;
 use crate::io::degree_table::{
     write_degree_table_csv, write_degree_table_netcdf, DegreeColumn, DegreeTable,
 };
-use crate::io::model_file::is_netcdf_path;
-use crate::io::model_file::{read_model, write_model};
+use crate::io::model::is_netcdf_path;
+use crate::io::model::{read_model, write_model};
 use crate::io::provenance::Provenance;
 use crate::spectral::continuation::{
     amplification, apply_continuation, radial_factors, ContinuationOptions, DownwardRegularization,

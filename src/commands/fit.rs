@@ -5,9 +5,9 @@ use std::path::PathBuf;
 
 use super::grid::PointInputArgs;
 use super::CommandContext;
-use crate::io::model_file::write_model;
+use crate::io::model::write_model;
 use crate::io::provenance::Provenance;
-use crate::observe::lsq::{fit_with_progress, FitOptions, Regularization};
+use crate::observe::fit::{fit_with_progress, FitOptions, Regularization};
 use crate::observe::progress::Progress;
 
 #[derive(Debug, clap::Args)]

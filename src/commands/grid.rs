@@ -4,7 +4,7 @@
 use std::path::{Path, PathBuf};
 
 use super::CommandContext;
-use crate::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention};
+use crate::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use crate::io::provenance::Provenance;
 use crate::observe::degree_choice::default_lmax_with_index;
 use crate::observe::gaps::{GapPolicy, DEFAULT_GAP_ITERATIONS, DEFAULT_GAP_TOLERANCE};

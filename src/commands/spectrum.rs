@@ -9,7 +9,7 @@ use super::CommandContext;
 use crate::error::Error;
 use crate::io::atomic::{refuse_overwrite_of_input, write_bytes_atomic};
 use crate::io::degree_table::{write_degree_table_csv, write_degree_table_netcdf};
-use crate::io::model_file::read_model;
+use crate::io::model::read_model;
 use crate::io::provenance::Provenance;
 use crate::report::plots::spectrum_svg;
 use crate::spectral::{SpectralTable, Spectrum, SpectrumOptions};

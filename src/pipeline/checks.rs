@@ -6,7 +6,7 @@ use std::path::Path;
 
 use crate::field::quantity::Quantity;
 use crate::observe::gaps::GapPolicy;
-use crate::observe::lsq::Regularization;
+use crate::observe::fit::Regularization;
 use crate::spectral::filter::FilterChain;
 
 pub fn check_quantity(q: &str) -> Result<(), String> {

@@ -9,8 +9,8 @@ use super::scenario::Scenario;
 use super::surveys::{sample, SurveyDesign};
 use crate::error::{Error, Result};
 use crate::io::csv_table::write_csv_table;
-use crate::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention};
-use crate::io::model_file::write_model;
+use crate::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
+use crate::io::model::write_model;
 use crate::io::provenance::Provenance;
 use crate::sht::{GaussGrid, TransformPlan};
 

@@ -9,9 +9,9 @@ use faer::linalg::matmul::triangular::{matmul as tri_matmul, BlockStructure};
 use faer::{Mat, Parallelism};
 use rayon::prelude::*;
 
-use super::lsq_design::{design_row, LegendreTable, UnknownLayout};
-use super::points::PointSet;
-use super::progress::Progress;
+use super::design::{design_row, LegendreTable, UnknownLayout};
+use crate::observe::points::PointSet;
+use crate::observe::progress::Progress;
 use crate::coeffs::packed_len;
 
 /// Points per assembly block.

@@ -13,8 +13,8 @@ use std::path::{Path, PathBuf};
 use ndarray::Array2;
 use netcdf_reader::{NcFile, NcSliceInfo, NcSliceInfoElem, NcVariable};
 
-use super::grid_layout::{engine_grid, latitude_axis, longitude_axis};
-use super::netcdf_common as nc;
+use super::layout::{engine_grid, latitude_axis, longitude_axis};
+use crate::io::netcdf_common as nc;
 use crate::error::{Error, Result};
 use crate::sht::{Grid, GridKind};
 

@@ -12,8 +12,8 @@ use std::path::Path;
 use netcdf_reader::NcAttrValue;
 use netcdf_writer::NcFileBuilder;
 
-use super::netcdf_common as nc;
-use super::provenance::Provenance;
+use crate::io::netcdf_common as nc;
+use crate::io::provenance::Provenance;
 use crate::coeffs::{packed_index, packed_len, Coefficients, Normalization};
 use crate::error::{Error, Result};
 
