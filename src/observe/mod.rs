@@ -14,7 +14,6 @@ pub mod fit;
 pub mod gaps;
 pub mod gridding;
 pub mod points;
-pub mod progress;
 pub mod spatial;
 
 pub use degree_choice::default_lmax;

@@ -33,7 +33,7 @@ use self::normal::{assemble, predict};
 use self::solve::solve;
 use crate::observe::gridding::EARTH_MEAN_RADIUS_M;
 use crate::observe::points::PointSet;
-use crate::observe::progress::Progress;
+use crate::progress::{Progress, Silent};
 use crate::observe::spatial::SphereIndex;
 
 /// Regularisation of the fit (see the module doc).
@@ -173,7 +173,7 @@ pub fn fit_memory_bytes(lmax: usize, regularization: &Regularization) -> u64 {
 
 /// Fits the points to all coefficients up to `lmax` (no progress output).
 pub fn fit(points: &PointSet, lmax: usize, options: &FitOptions) -> Result<FitResult> {
-    fit_with_progress(points, lmax, options, &Progress::hidden())
+    fit_with_progress(points, lmax, options, &Silent)
 }
 
 /// As [`fit`], reporting progress while assembling.
@@ -181,7 +181,7 @@ pub fn fit_with_progress(
     points: &PointSet,
     lmax: usize,
     options: &FitOptions,
-    progress: &Progress,
+    progress: &dyn Progress,
 ) -> Result<FitResult> {
     if points.is_empty() || points.value.len() != points.len() {
         return Err(Error::invalid("the fit needs observations with values"));
