@@ -17,8 +17,8 @@ use rayon::prelude::*;
 use crate::error::{Error, Result};
 use crate::sht::{GaussGrid, Grid};
 
-use super::gaps::{fill_gaps, GapFillReport, GapPolicy};
 use super::averaging_kernel::GaussianKernel;
+use super::gaps::{fill_gaps, GapFillReport, GapPolicy};
 use super::points::PointSet;
 use super::spatial::SphereIndex;
 use crate::progress::{Progress, Silent};

@@ -5,7 +5,7 @@
 //! - [`spatial`]: the index of points on the sphere;
 //! - [`gridding`] with its [`averaging_kernel`]: points onto an engine grid;
 //! - [`gaps`]: what to do with grid cells no observation reaches;
-//! - [`fit`]: the regularised least-squares fit of coefficients to points;
+//! - [`fit`](mod@fit): the regularised least-squares fit of coefficients to points;
 //! - [`degree_choice`]: the default maximum degree for a point set.
 
 pub mod averaging_kernel;

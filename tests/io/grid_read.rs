@@ -4,8 +4,8 @@
 
 use std::path::Path;
 
-use kugel::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use kugel::io::grid::read::{read_grid, GridReadOptions};
+use kugel::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use kugel::io::provenance::Provenance;
 use kugel::sht::{GaussGrid, GridKind, TransformPlan};
 use netcdf_writer::{NcAttrValue, NcFileBuilder, NcWriteFormat, NcWriteOptions};

@@ -353,9 +353,12 @@ fn csv_is_streamed_not_read_whole() {
         given: given.clone(),
         limit: 16 << 20,
     };
-    let records =
-        CsvPointRecords::new(Path::new("endless.csv"), source, &PointReadOptions::default())
-            .unwrap();
+    let records = CsvPointRecords::new(
+        Path::new("endless.csv"),
+        source,
+        &PointReadOptions::default(),
+    )
+    .unwrap();
     let taken: Vec<_> = records.take(20_000).collect::<Result<_, _>>().unwrap();
     assert_eq!(taken.len(), 20_000);
     assert_eq!(taken[19_999].line, 20_001);
@@ -377,7 +380,12 @@ fn large_file_reads_every_row() {
     let mut text = String::from("lat,lon,value\n");
     let n = 200_000usize;
     for i in 0..n {
-        text.push_str(&format!("{},{},{}\n", (i % 179) as f64 - 89.0, (i / 179) % 360, i));
+        text.push_str(&format!(
+            "{},{},{}\n",
+            (i % 179) as f64 - 89.0,
+            (i / 179) % 360,
+            i
+        ));
     }
     let path = csv(dir.path(), "big.csv", &text);
     let options = PointReadOptions {

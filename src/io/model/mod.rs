@@ -12,9 +12,9 @@ pub mod text;
 
 use self::netcdf::{read_model_netcdf, write_model_netcdf};
 use self::text::{read_model_text, write_model_text, TextModelReport};
-use crate::io::provenance::Provenance;
 use crate::coeffs::Coefficients;
 use crate::error::{Error, Result};
+use crate::io::provenance::Provenance;
 
 /// True when `path` names a NetCDF file by its extension (`.nc`, `.nc4`, `.cdf`, `.netcdf`).
 pub fn is_netcdf_path(path: &Path) -> bool {

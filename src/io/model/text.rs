@@ -11,9 +11,9 @@ use std::collections::{BTreeMap, HashSet};
 use std::fmt::Write as _;
 use std::path::Path;
 
-use crate::io::provenance::Provenance;
 use crate::coeffs::{packed_index, packed_len, Coefficients, Normalization};
 use crate::error::{Error, Result};
+use crate::io::provenance::Provenance;
 
 /// Highest degree a text table may declare (keeps a typo from asking for terabytes).
 pub const MAX_TEXT_DEGREE: usize = 100_000;

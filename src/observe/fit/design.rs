@@ -183,7 +183,7 @@ mod tests {
     fn layout_counts_every_coefficient_once() {
         let layout = UnknownLayout::new(7);
         assert_eq!(layout.len(), 64);
-        let mut seen = vec![false; 64];
+        let mut seen = [false; 64];
         for m in 0..=7 {
             for l in m..=7 {
                 seen[layout.c_index(l, m)] = true;
@@ -206,7 +206,7 @@ mod tests {
             0.0f64,
             0.3,
             1.0,
-            1.5707963267948966,
+            std::f64::consts::FRAC_PI_2,
             2.9,
             std::f64::consts::PI,
         ] {

@@ -16,7 +16,7 @@
 //! χ²/dof = Σ w r² / (n − tr H), tr H = tr((N + λP)⁻¹N) = u − λ Σ P_ii [(N + λP)⁻¹]_ii.
 //!
 //! This folder owns the fit: [`design`] (unknowns and design rows), [`normal`] (assembly of
-//! the normal equations), [`solve`] (Cholesky solve and posterior variances) and [`gcv`]
+//! the normal equations), [`solve`](mod@solve) (Cholesky solve and posterior variances) and [`gcv`]
 //! (choice of λ); this file drives them.
 
 use crate::coeffs::Coefficients;
@@ -33,8 +33,8 @@ use self::normal::{assemble, predict};
 use self::solve::solve;
 use crate::observe::gridding::EARTH_MEAN_RADIUS_M;
 use crate::observe::points::PointSet;
-use crate::progress::{Progress, Silent};
 use crate::observe::spatial::SphereIndex;
+use crate::progress::{Progress, Silent};
 
 /// Regularisation of the fit (see the module doc).
 #[derive(Debug, Clone, Copy, PartialEq)]

@@ -144,9 +144,8 @@ impl<R: Read> CsvPointRecords<R> {
     fn start_line(&self, quote_left_open: bool) -> usize {
         let after = self.reader.position();
         let source = self.reader.get_ref();
-        let ended_on_line_feed = !quote_left_open
-            && after.byte() > 0
-            && source.byte_at(after.byte() - 1) == Some(b'\n');
+        let ended_on_line_feed =
+            !quote_left_open && after.byte() > 0 && source.byte_at(after.byte() - 1) == Some(b'\n');
         let line_feeds_inside = bytecount(self.record.as_slice(), b'\n');
         let end_line = after.line() - u64::from(ended_on_line_feed);
         (end_line - line_feeds_inside) as usize
@@ -156,12 +155,11 @@ impl<R: Read> CsvPointRecords<R> {
     /// up to the end of the input without a closing quote (see the module doc).
     fn quote_left_open(&self) -> bool {
         let source = self.reader.get_ref();
-        let at_end =
-            source.reached_end() && self.reader.position().byte() == source.delivered();
+        let at_end = source.reached_end() && self.reader.position().byte() == source.delivered();
         let last_field_spans_lines = self
             .record
             .iter()
-            .last()
+            .next_back()
             .is_some_and(|f| f.contains(&b'\n'));
         at_end && last_field_spans_lines && source.last_non_line_break() != Some(b'"')
     }

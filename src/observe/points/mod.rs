@@ -243,7 +243,13 @@ pub fn read_points(path: &Path, options: &PointReadOptions) -> Result<(PointSet,
     let is_netcdf = head.starts_with(b"CDF") || head.starts_with(b"\x89HDF");
     if is_netcdf {
         let (columns, records) = netcdf::read_netcdf_records(path, options)?;
-        validate_records(path, "record", columns, records.into_iter().map(Ok), options)
+        validate_records(
+            path,
+            "record",
+            columns,
+            records.into_iter().map(Ok),
+            options,
+        )
     } else {
         let records = csv::read_csv_records(path, options)?;
         let columns = records.record_columns();

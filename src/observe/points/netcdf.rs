@@ -8,8 +8,8 @@ use netcdf_reader::NcFile;
 
 use crate::error::{Error, Result};
 
-use super::PointReadOptions;
 use super::validate::{RawRecord, RecordColumns};
+use super::PointReadOptions;
 
 /// Finds a variable by case-insensitive name.
 fn find_variable(path: &Path, file: &NcFile, name: &str) -> Result<Option<String>> {

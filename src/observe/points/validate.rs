@@ -181,10 +181,13 @@ pub fn merge_duplicates(set: &mut PointSet, report: &mut PointReadReport) {
     let mut first_of: HashMap<(u64, u64), usize> = HashMap::with_capacity(n);
     let mut target = vec![usize::MAX; n];
     let mut any = false;
-    for i in 0..n {
-        let key = position_key(set.lat_deg[i], set.lon_deg[i]);
-        let first = *first_of.entry(key).or_insert(i);
-        target[i] = first;
+    for (i, (target_i, (&lat, &lon))) in target
+        .iter_mut()
+        .zip(set.lat_deg.iter().zip(&set.lon_deg))
+        .enumerate()
+    {
+        let first = *first_of.entry(position_key(lat, lon)).or_insert(i);
+        *target_i = first;
         any |= first != i;
     }
     if !any {
@@ -194,8 +197,7 @@ pub fn merge_duplicates(set: &mut PointSet, report: &mut PointReadReport) {
     let mut sum_wv = vec![0.0; n];
     let mut sum_w = vec![0.0; n];
     let mut count = vec![0usize; n];
-    for i in 0..n {
-        let t = target[i];
+    for (i, &t) in target.iter().enumerate() {
         let w = set.weight(i);
         if !set.value.is_empty() {
             sum_wv[t] += w * set.value[i];

@@ -96,7 +96,12 @@ mod tests {
     #[test]
     fn zero_numerator_ends_the_fraction_exactly() {
         // 2 + 3/(4 + 0/…) = 2.75
-        let v = modified_lentz(2.0, |j| if j == 1 { (3.0, 4.0) } else { (0.0, 1.0) }, 1e-16, 10);
+        let v = modified_lentz(
+            2.0,
+            |j| if j == 1 { (3.0, 4.0) } else { (0.0, 1.0) },
+            1e-16,
+            10,
+        );
         assert_eq!(v, 2.75);
     }
 
