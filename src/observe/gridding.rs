@@ -2,7 +2,7 @@
 //!
 //! Per grid node, either
 //! - a Gaussian-kernel weighted mean of all observations within the search radius
-//!   (`observe::kernel` states the kernel and its half-width convention), or
+//!   (`observe::averaging_kernel` states the kernel and its half-width convention), or
 //! - inverse-distance weighting of the k nearest observations, w ∝ 1/ψ² (Shepard 1968,
 //!   Proc. 23rd ACM National Conference, with power 2),
 //!
@@ -17,8 +17,8 @@ use rayon::prelude::*;
 use crate::error::{Error, Result};
 use crate::sht::{GaussGrid, Grid};
 
+use super::averaging_kernel::GaussianKernel;
 use super::gaps::{fill_gaps, GapFillReport, GapPolicy};
-use super::kernel::GaussianKernel;
 use super::points::PointSet;
 use super::spatial::SphereIndex;
 use crate::progress::{Progress, Silent};
@@ -51,7 +51,7 @@ impl GriddingMethod {
         match self {
             GriddingMethod::Kernel { radius_km } => format!(
                 "Gaussian-kernel mean within {radius_km:.1} km (half-width {:.1} km, weight 1/2 there; ~1/16 at the edge)",
-                radius_km / super::kernel::RADIUS_PER_HALF_WIDTH
+                radius_km / super::averaging_kernel::RADIUS_PER_HALF_WIDTH
             ),
             GriddingMethod::Nearest { k } => {
                 format!("inverse-distance (power 2) mean of the {k} nearest observations")

@@ -1,11 +1,11 @@
-//! Reading users' grids (io::grid_read): awkward layouts written with the NetCDF writer crate,
+//! Reading users' grids (io::grid::read): awkward layouts written with the NetCDF writer crate,
 //! a closed-form degree-2 field (closed forms of the fully normalised P̄_lm for l ≤ 2, any
 //! geodesy text — common practice) analysed back to its coefficients.
 
 use std::path::Path;
 
-use kugel::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention};
-use kugel::io::grid_read::{read_grid, GridReadOptions};
+use kugel::io::grid::read::{read_grid, GridReadOptions};
+use kugel::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use kugel::io::provenance::Provenance;
 use kugel::sht::{GaussGrid, GridKind, TransformPlan};
 use netcdf_writer::{NcAttrValue, NcFileBuilder, NcWriteFormat, NcWriteOptions};

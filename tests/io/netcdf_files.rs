@@ -8,8 +8,8 @@ use kugel::coeffs::{Coefficients, Normalization};
 use kugel::io::degree_table::{
     read_degree_table, write_degree_table_csv, write_degree_table_netcdf, DegreeColumn, DegreeTable,
 };
-use kugel::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention};
-use kugel::io::model_file::{read_model, read_model_with_report, write_model};
+use kugel::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
+use kugel::io::model::{read_model, read_model_with_report, write_model};
 use kugel::io::provenance::Provenance;
 use ndarray::Array2;
 use netcdf_reader::{NcAttrValue, NcFile};

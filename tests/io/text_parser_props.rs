@@ -4,7 +4,7 @@
 use std::path::Path;
 
 use kugel::coeffs::{Coefficients, Normalization};
-use kugel::io::model_text::{model_text, parse_model_text};
+use kugel::io::model::text::{model_text, parse_model_text};
 use kugel::io::provenance::Provenance;
 use proptest::prelude::*;
 

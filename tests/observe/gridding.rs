@@ -8,13 +8,13 @@
 //! Expected attenuation: for dense, even sampling the kernel mean is the convolution with the
 //! normalised kernel, so C_lm → W_l C_lm with W_l the kernel's degree response (Funk–Hecke
 //! theorem, common practice), here computed by `GaussianKernel::degree_response` and checked
-//! against its planar limit in `observe::kernel`. Random sampling adds scatter of order
+//! against its planar limit in `observe::averaging_kernel`. Random sampling adds scatter of order
 //! (field variation over a cap)/sqrt(points per cap); with ~1400 points per cap we accept 1%
 //! of the largest coefficient.
 
+use kugel::observe::averaging_kernel::GaussianKernel;
 use kugel::observe::gaps::{fill_gaps, GapPolicy};
 use kugel::observe::gridding::{grid_points, GriddingMethod, GriddingOptions, EARTH_MEAN_RADIUS_M};
-use kugel::observe::kernel::GaussianKernel;
 use kugel::observe::spatial::{brute_force_within, unit_vector, SphereIndex};
 use kugel::observe::PointSet;
 use kugel::progress::Silent;
@@ -102,9 +102,9 @@ fn count_and_nearest_match_exhaustive_search() {
     let lats = g.grid.latitudes_deg();
     let lons = g.grid.longitudes_deg();
     let r = radius_km * 1000.0 / EARTH_MEAN_RADIUS_M;
-    for j in 0..lats.len() {
+    for (j, &lat) in lats.iter().enumerate() {
         for k in (0..lons.len()).step_by(3) {
-            let q = unit_vector(lats[j], lons[k]);
+            let q = unit_vector(lat, lons[k]);
             let inside = brute_force_within(&unit, &q, r);
             assert!(
                 (g.count[(j, k)] - inside.len() as f64).abs() <= 1.0,

@@ -244,3 +244,158 @@ fn netcdf_point_file_from_the_reference_library() {
         "{err}"
     );
 }
+
+#[test]
+fn quoted_field_with_line_break_and_comma_is_one_field() {
+    // RFC 4180 §2 (6)–(7): a quoted field may hold commas, line breaks and "" for a quote.
+    let dir = tempfile::tempdir().unwrap();
+    let path = csv(
+        dir.path(),
+        "p.csv",
+        "lat,lon,value,station\n10,20,1.5,\"Wickline ridge,\nnorth cairn\"\n11,21,2.5,\"say \"\"Halyard\"\"\"\n12,22,3.5,plain\n",
+    );
+    let (points, report) = read_points(&path, &PointReadOptions::default()).unwrap();
+    assert_eq!(report.rows_read, 3);
+    assert_eq!(points.lat_deg, vec![10.0, 11.0, 12.0]);
+    assert_eq!(points.value, vec![1.5, 2.5, 3.5]);
+    // a record is numbered by the line it starts on
+    assert_eq!(points.source_lines, vec![2, 4, 5]);
+}
+
+#[test]
+fn bad_value_after_a_multi_line_record_names_its_own_line() {
+    let err = error_of("lat,lon,value,note\n1,1,1,\"a\nb, c\nd\"\n2,2,x,ok\n");
+    assert!(err.contains("line 5: value `x` is not a number"), "{err}");
+    // CRLF line ends, blank and comment lines (indented too) before the record
+    let err = error_of("\u{feff}lat,lon,value\r\n\r\n# c\r\n   # indented\r\n1,1,1\r\n2,2,zz\r\n");
+    assert!(err.contains("line 6: value `zz` is not a number"), "{err}");
+    let err = error_of("lat,lon,value,note\n1,1,1,\"x\r\ny\"\r\n\n\n2,2,q,ok");
+    assert!(err.contains("line 6: value `q` is not a number"), "{err}");
+}
+
+#[test]
+fn malformed_records_are_refused_with_their_line() {
+    let err = error_of("lat,lon,value\n1,1,1\n1,2\n");
+    assert!(
+        err.contains("line 3") && err.contains("2 fields, but the header has 3 (lat,lon,value)"),
+        "{err}"
+    );
+    // an open quote that swallows the following lines
+    let err = error_of("lat,lon,value,note\n1,1,1,ok\n1,1,1,\"open\n2,2,2,x\n");
+    assert!(err.contains("line 3: unterminated quoted field"), "{err}");
+    let err = error_of("lat,lon,value\n1,\"2,3\n4,5,6\n");
+    assert!(err.contains("line 2: unterminated quoted field"), "{err}");
+    // a closed multi-line field at the very end of a file without a final line break is fine
+    let dir = tempfile::tempdir().unwrap();
+    let path = csv(dir.path(), "p.csv", "lat,lon,value,note\n1,1,1,\"a\nb\"");
+    let (points, _) = read_points(&path, &PointReadOptions::default()).unwrap();
+    assert_eq!(points.source_lines, vec![2]);
+    let err = error_of("# only a comment\n\n");
+    assert!(err.contains("no header row"), "{err}");
+    let err = error_of("lat,lon,value\n1,1,\u{0}\u{0}\n");
+    assert!(err.contains("line 2: value"), "{err}");
+}
+
+#[test]
+fn non_utf8_record_names_its_line() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("p.csv");
+    std::fs::write(&path, b"lat,lon,value\n1,1,1\n2,2,\xff\n").unwrap();
+    let err = read_points(&path, &PointReadOptions::default())
+        .unwrap_err()
+        .to_string();
+    assert!(err.contains("line 3") && err.contains("not UTF-8"), "{err}");
+}
+
+/// An endless CSV source, generated row by row, that counts what it hands out and refuses to
+/// give more than `limit` bytes (so a reader that tried to take the whole input fails at once
+/// instead of exhausting memory).
+struct EndlessRows {
+    next_row: u64,
+    pending: Vec<u8>,
+    given: std::rc::Rc<std::cell::Cell<u64>>,
+    limit: u64,
+}
+
+impl std::io::Read for EndlessRows {
+    fn read(&mut self, buf: &mut [u8]) -> std::io::Result<usize> {
+        if self.given.get() >= self.limit {
+            return Err(std::io::Error::other("read past the limit"));
+        }
+        while self.pending.len() < buf.len() {
+            let row = if self.next_row == 0 {
+                "lat,lon,value\n".to_string()
+            } else {
+                let i = self.next_row;
+                format!("{},{},{}\n", (i % 180) as f64 - 89.5, i % 360, i)
+            };
+            self.pending.extend_from_slice(row.as_bytes());
+            self.next_row += 1;
+        }
+        let n = buf.len();
+        buf.copy_from_slice(&self.pending[..n]);
+        self.pending.drain(..n);
+        self.given.set(self.given.get() + n as u64);
+        Ok(n)
+    }
+}
+
+#[test]
+fn csv_is_streamed_not_read_whole() {
+    // By design the reader holds one record and a fixed read-ahead buffer: taking 20 000
+    // records (~300 kB of text) from an endless source must not pull more than that text plus
+    // one buffer, whatever the size of the input.
+    use kugel::observe::points::csv::CsvPointRecords;
+    let given = std::rc::Rc::new(std::cell::Cell::new(0));
+    let source = EndlessRows {
+        next_row: 0,
+        pending: Vec::new(),
+        given: given.clone(),
+        limit: 16 << 20,
+    };
+    let records = CsvPointRecords::new(
+        Path::new("endless.csv"),
+        source,
+        &PointReadOptions::default(),
+    )
+    .unwrap();
+    let taken: Vec<_> = records.take(20_000).collect::<Result<_, _>>().unwrap();
+    assert_eq!(taken.len(), 20_000);
+    assert_eq!(taken[19_999].line, 20_001);
+    assert_eq!(taken[19_999].value, Some(Ok(20_000.0)));
+    let text_bytes: u64 = (1..=20_000u64)
+        .map(|i| format!("{},{},{}\n", (i % 180) as f64 - 89.5, i % 360, i).len() as u64)
+        .sum::<u64>()
+        + 14;
+    assert!(
+        given.get() <= text_bytes + (128 << 10),
+        "{} bytes pulled for {text_bytes} bytes of records",
+        given.get()
+    );
+}
+
+#[test]
+fn large_file_reads_every_row() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut text = String::from("lat,lon,value\n");
+    let n = 200_000usize;
+    for i in 0..n {
+        text.push_str(&format!(
+            "{},{},{}\n",
+            (i % 179) as f64 - 89.0,
+            (i / 179) % 360,
+            i
+        ));
+    }
+    let path = csv(dir.path(), "big.csv", &text);
+    let options = PointReadOptions {
+        merge_duplicates: false,
+        ..Default::default()
+    };
+    let (points, report) = read_points(&path, &options).unwrap();
+    assert_eq!(report.rows_read, n);
+    assert_eq!(points.len(), n);
+    assert_eq!(points.source_lines[n - 1], n + 1);
+    let sum: f64 = points.value.iter().sum();
+    assert_eq!(sum, (n * (n - 1) / 2) as f64);
+}

@@ -83,7 +83,7 @@ impl FieldOptions {
 
 /// Reads a model and truncates (or zero-pads) it to `lmax` when asked.
 pub fn read_model_truncated(path: &Path, lmax: Option<usize>) -> anyhow::Result<Coefficients> {
-    let model = kugel::io::model_file::read_model(path)?;
+    let model = kugel::io::model::read_model(path)?;
     Ok(match lmax {
         Some(l) => model.resized(l),
         None => model,

@@ -10,11 +10,11 @@ use std::time::Instant;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 
+use kugel::observe::fit::{fit, FitOptions, Regularization};
 use kugel::observe::gaps::GapPolicy;
 use kugel::observe::gridding::{
     default_radius_km, grid_points, GriddingMethod, GriddingOptions, EARTH_MEAN_RADIUS_M,
 };
-use kugel::observe::lsq::{fit, FitOptions, Regularization};
 use kugel::observe::points::PointSet;
 
 /// Sizes for the scattered-data benchmarks.

@@ -9,9 +9,9 @@ use super::CommandContext;
 use crate::args::OnOff;
 use kugel::coeffs::Normalization;
 use kugel::io::atomic::refuse_overwrite_of_input;
-use kugel::io::grid_file::grid_kind_name;
-use kugel::io::grid_read::{read_grid, GridReadOptions};
-use kugel::io::model_file::write_model;
+use kugel::io::grid::read::{read_grid, GridReadOptions};
+use kugel::io::grid::write::grid_kind_name;
+use kugel::io::model::write_model;
 use kugel::io::provenance::Provenance;
 use kugel::sht::TransformPlan;
 

@@ -6,7 +6,7 @@ use std::path::PathBuf;
 
 use super::CommandContext;
 use crate::tables::{display_name, TableOutputs};
-use kugel::io::model_file::read_model;
+use kugel::io::model::read_model;
 use kugel::io::provenance::Provenance;
 use kugel::report::plots::comparison_svg;
 use kugel::spectral::{CompareOptions, Comparison};

@@ -9,7 +9,7 @@ use super::CommandContext;
 use crate::args::OnOff;
 use kugel::coeffs::Normalization;
 use kugel::io::atomic::refuse_overwrite_of_input;
-use kugel::io::model_file::{read_model_with_report, write_model};
+use kugel::io::model::{read_model_with_report, write_model};
 use kugel::io::provenance::Provenance;
 
 #[derive(Debug, clap::Args)]

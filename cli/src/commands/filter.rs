@@ -12,8 +12,8 @@ use kugel::io::atomic::refuse_overwrite_of_input;
 use kugel::io::degree_table::{
     write_degree_table_csv, write_degree_table_netcdf, DegreeColumn, DegreeTable,
 };
-use kugel::io::model_file::is_netcdf_path;
-use kugel::io::model_file::{read_model, write_model};
+use kugel::io::model::is_netcdf_path;
+use kugel::io::model::{read_model, write_model};
 use kugel::io::provenance::Provenance;
 use kugel::spectral::continuation::{
     amplification, apply_continuation, radial_factors, ContinuationOptions, DownwardRegularization,

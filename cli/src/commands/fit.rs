@@ -6,9 +6,9 @@ use std::path::PathBuf;
 use super::CommandContext;
 use crate::args::PointInputArgs;
 use crate::progress_bar::TerminalProgress;
-use kugel::io::model_file::write_model;
+use kugel::io::model::write_model;
 use kugel::io::provenance::Provenance;
-use kugel::observe::lsq::{fit_with_progress, FitOptions, Regularization};
+use kugel::observe::fit::{fit_with_progress, FitOptions, Regularization};
 use kugel::progress::Progress;
 
 #[derive(Debug, clap::Args)]

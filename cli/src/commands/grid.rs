@@ -6,7 +6,7 @@ use std::path::PathBuf;
 use super::CommandContext;
 use crate::args::PointInputArgs;
 use crate::progress_bar::TerminalProgress;
-use kugel::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention};
+use kugel::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use kugel::io::provenance::Provenance;
 use kugel::observe::degree_choice::default_lmax_with_index;
 use kugel::observe::gaps::{GapPolicy, DEFAULT_GAP_ITERATIONS, DEFAULT_GAP_TOLERANCE};

@@ -8,7 +8,7 @@ use anyhow::Context;
 use super::CommandContext;
 use crate::tables::{display_name, TableOutputs};
 use kugel::error::Error;
-use kugel::io::model_file::read_model;
+use kugel::io::model::read_model;
 use kugel::io::provenance::Provenance;
 use kugel::report::plots::spectrum_svg;
 use kugel::spectral::{Spectrum, SpectrumOptions};

@@ -9,7 +9,7 @@ use crate::progress_bar::TerminalProgress;
 use kugel::error::Error;
 use kugel::field::synthesis::synthesize_on_grid_with_progress;
 use kugel::field::{cautions, Quantity, SynthesisRequest, TargetSurface};
-use kugel::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention};
+use kugel::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use kugel::io::provenance::Provenance;
 use kugel::progress::Progress;
 use kugel::report::maps::{render_map_png, MapStyle};

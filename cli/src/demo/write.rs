@@ -9,8 +9,8 @@ use super::scenario::Scenario;
 use super::surveys::{sample, SurveyDesign};
 use kugel::error::{Error, Result};
 use kugel::io::csv_table::write_csv_table;
-use kugel::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention};
-use kugel::io::model_file::write_model;
+use kugel::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
+use kugel::io::model::write_model;
 use kugel::io::provenance::Provenance;
 use kugel::sht::{GaussGrid, TransformPlan};
 

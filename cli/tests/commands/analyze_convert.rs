@@ -4,7 +4,7 @@ use std::path::Path;
 use std::process::Command;
 
 use kugel::coeffs::Normalization;
-use kugel::io::model_file::read_model;
+use kugel::io::model::read_model;
 use netcdf_reader::NcFile;
 
 fn kugel(args: &[&str]) -> std::process::Output {

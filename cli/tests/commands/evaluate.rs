@@ -3,7 +3,7 @@
 use std::path::Path;
 use std::process::Command;
 
-use kugel::io::model_file::write_model;
+use kugel::io::model::write_model;
 use kugel::io::provenance::Provenance;
 use kugel::{Coefficients, Normalization};
 

@@ -4,7 +4,7 @@
 use std::path::Path;
 use std::process::Command;
 
-use kugel::io::model_file::{read_model, write_model};
+use kugel::io::model::{read_model, write_model};
 use kugel::io::provenance::Provenance;
 use kugel::spectral::filter::FilterChain;
 use kugel::{Coefficients, Normalization};

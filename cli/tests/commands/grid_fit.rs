@@ -115,7 +115,7 @@ fn fit_writes_model_with_sigmas() {
         input: input_args(),
     };
     fit::run(&args, &ctx()).unwrap();
-    let model = kugel::io::model_file::read_model(&out).unwrap();
+    let model = kugel::io::model::read_model(&out).unwrap();
     assert_eq!(model.lmax(), 4);
     assert_eq!(model.reference_radius_m, 6_371_000.0);
     // value = 3z² − 1 = (2/√5) P̄_20: C_20 = 2/√5 (closed form of P̄_20, any geodesy text)

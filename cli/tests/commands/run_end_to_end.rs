@@ -5,8 +5,8 @@
 use std::path::Path;
 
 use kugel::io::degree_table::read_degree_table;
-use kugel::io::grid_read::{read_grid, GridReadOptions};
-use kugel::io::model_file::read_model;
+use kugel::io::grid::read::{read_grid, GridReadOptions};
+use kugel::io::model::read_model;
 use kugel::pipeline::run::{run_job, RunOptions};
 use kugel::pipeline::Job;
 use kugel::progress::Silent;

@@ -7,7 +7,7 @@ use std::process::Command;
 
 use crate::support::{correlated_partner, random_model};
 use kugel::io::degree_table::read_degree_table;
-use kugel::io::model_file::write_model;
+use kugel::io::model::write_model;
 use kugel::io::provenance::Provenance;
 
 fn variance(l: usize) -> f64 {

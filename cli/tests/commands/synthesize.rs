@@ -4,7 +4,7 @@
 use std::process::Command;
 
 use kugel::field::{Ellipsoid, NormalField};
-use kugel::io::model_file::write_model;
+use kugel::io::model::write_model;
 use kugel::io::provenance::Provenance;
 use kugel::{Coefficients, Normalization};
 use netcdf_reader::NcFile;

@@ -6,13 +6,15 @@
 //! (θ, λ) holds P̄_lm cos mλ under C_lm and P̄_lm sin mλ under S_lm (m ≥ 1).
 //!
 //! P̄_lm by the fully normalised recursions of Holmes & Featherstone (2002), J. Geodesy
-//! 76:279–299, eqs. 11–13: sectoral P̄_mm = u sqrt((2m+1)/(2m)) P̄_{m−1,m−1} (P̄_11 = √3 u),
-//! P̄_{m+1,m} = sqrt(2m+3) t P̄_mm, P̄_lm = a_lm t P̄_{l−1,m} − b_lm P̄_{l−2,m}.
+//! 76:279–299, eqs. 11–13: sectoral P̄_mm = c_m u^m, then P̄_lm = a_lm t P̄_{l−1,m} − b_lm
+//! P̄_{l−2,m} (b_{m+1,m} = 0, so P̄_{m+1,m} = a_{m+1,m} t P̄_mm = sqrt(2m+3) t P̄_mm). The
+//! coefficients c_m, a_lm and b_lm are those of [`crate::sht::legendre::recursion`].
 //! Plain doubles suffice for the degrees a dense fit can reach (L ≲ 1000, where the normal
 //! matrix alone needs ~8 TB): where u^m underflows near a pole, the true P̄_lm for l ≤ L are
 //! themselves below ~1e-280, since the column only grows back for l ≳ m/θ.
 
 use crate::coeffs::{packed_index, packed_len, Coefficients, Normalization};
+use crate::sht::legendre::recursion::{a_lm, b_lm, sectoral_factors};
 
 /// Where each coefficient sits in the vector of unknowns: order by order, for each m the
 /// C_lm (l = m..L) then the S_lm (l = m..L, m ≥ 1). (L+1)² unknowns in all.
@@ -92,13 +94,16 @@ impl UnknownLayout {
     }
 }
 
-/// Precomputed recursion coefficients for all (l, m) up to L.
+/// Precomputed recursion coefficients for all (l, m) up to L, taken from
+/// [`crate::sht::legendre::recursion`] once so that each design row costs no square roots.
 #[derive(Debug, Clone)]
 pub struct LegendreTable {
     pub lmax: usize,
+    /// a_lm, packed (index `packed_index(l, m)`, l > m; 0 on the diagonal).
     a: Vec<f64>,
+    /// b_lm, packed (0 for l ≤ m + 1).
     b: Vec<f64>,
-    /// sqrt((2m+1)/(2m)) for the sectoral step, index m.
+    /// Sectoral prefactors c_m of P̄_mm = c_m sin^m θ, index m.
     sectoral: Vec<f64>,
 }
 
@@ -107,45 +112,32 @@ impl LegendreTable {
         let n = packed_len(lmax);
         let (mut a, mut b) = (vec![0.0; n], vec![0.0; n]);
         for m in 0..=lmax {
-            for l in (m + 2)..=lmax {
-                let (lf, mf) = (l as f64, m as f64);
-                a[packed_index(l, m)] =
-                    ((2.0 * lf - 1.0) * (2.0 * lf + 1.0) / ((lf - mf) * (lf + mf))).sqrt();
-                b[packed_index(l, m)] = ((2.0 * lf + 1.0) * (lf + mf - 1.0) * (lf - mf - 1.0)
-                    / ((lf - mf) * (lf + mf) * (2.0 * lf - 3.0)))
-                    .sqrt();
+            for l in (m + 1)..=lmax {
+                a[packed_index(l, m)] = a_lm(l, m);
+                b[packed_index(l, m)] = b_lm(l, m);
             }
         }
-        let sectoral = (0..=lmax)
-            .map(|m| {
-                if m == 0 {
-                    1.0
-                } else {
-                    ((2 * m + 1) as f64 / (2 * m) as f64).sqrt()
-                }
-            })
-            .collect();
         LegendreTable {
             lmax,
             a,
             b,
-            sectoral,
+            sectoral: sectoral_factors(lmax),
         }
     }
 
     /// All P̄_lm(cos θ), packed (index `packed_index(l, m)`), for t = cos θ, u = sin θ.
     pub fn fill(&self, t: f64, u: f64, out: &mut [f64]) {
         let lmax = self.lmax;
-        let mut pmm = 1.0;
+        let mut u_pow_m = 1.0;
         for m in 0..=lmax {
-            if m == 1 {
-                pmm = 3f64.sqrt() * u;
-            } else if m > 1 {
-                pmm *= u * self.sectoral[m];
+            if m > 0 {
+                u_pow_m *= u;
             }
+            let pmm = self.sectoral[m] * u_pow_m;
             out[packed_index(m, m)] = pmm;
             if m < lmax {
-                out[packed_index(m + 1, m)] = ((2 * m + 3) as f64).sqrt() * t * pmm;
+                let k = packed_index(m + 1, m);
+                out[k] = self.a[k] * t * pmm;
             }
             for l in (m + 2)..=lmax {
                 let k = packed_index(l, m);
@@ -191,7 +183,7 @@ mod tests {
     fn layout_counts_every_coefficient_once() {
         let layout = UnknownLayout::new(7);
         assert_eq!(layout.len(), 64);
-        let mut seen = vec![false; 64];
+        let mut seen = [false; 64];
         for m in 0..=7 {
             for l in m..=7 {
                 seen[layout.c_index(l, m)] = true;
@@ -214,7 +206,7 @@ mod tests {
             0.0f64,
             0.3,
             1.0,
-            1.5707963267948966,
+            std::f64::consts::FRAC_PI_2,
             2.9,
             std::f64::consts::PI,
         ] {
@@ -231,6 +223,8 @@ mod tests {
                 p[packed_index(3, 1)],
                 42f64.sqrt() / 4.0 * u * (5.0 * t * t - 1.0)
             ));
+            // P̄_33 = √70/4 u³ (same source): the sectoral factor c_3 = sqrt(35/8)
+            assert!(close(p[packed_index(3, 3)], 70f64.sqrt() / 4.0 * u * u * u));
         }
     }
 }

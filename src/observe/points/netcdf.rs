@@ -8,8 +8,8 @@ use netcdf_reader::NcFile;
 
 use crate::error::{Error, Result};
 
-use super::points::PointReadOptions;
-use super::validate::RawRecord;
+use super::validate::{RawRecord, RecordColumns};
+use super::PointReadOptions;
 
 /// Finds a variable by case-insensitive name.
 fn find_variable(path: &Path, file: &NcFile, name: &str) -> Result<Option<String>> {
@@ -22,8 +22,12 @@ fn find_variable(path: &Path, file: &NcFile, name: &str) -> Result<Option<String
         .map(|v| v.name().to_string()))
 }
 
-/// Reads the records of a NetCDF point file (unvalidated). Record numbers start at 0.
-pub fn read_netcdf_records(path: &Path, options: &PointReadOptions) -> Result<Vec<RawRecord>> {
+/// Reads the records of a NetCDF point file (unvalidated), with the optional columns found.
+/// Record numbers start at 0.
+pub fn read_netcdf_records(
+    path: &Path,
+    options: &PointReadOptions,
+) -> Result<(RecordColumns, Vec<RawRecord>)> {
     let file = NcFile::open(path)
         .map_err(|e| Error::format(path, format!("cannot open as NetCDF: {e}")))?;
     let names = &options.columns;
@@ -97,7 +101,11 @@ pub fn read_netcdf_records(path: &Path, options: &PointReadOptions) -> Result<Ve
             return Err(mismatch(name, s.len()));
         }
     }
-    Ok((0..n)
+    let columns = RecordColumns {
+        value: value_v.is_some(),
+        sigma: sigma_v.is_some(),
+    };
+    let records = (0..n)
         .map(|i| RawRecord {
             line: i,
             lat: Ok(lat_v[i]),
@@ -105,5 +113,6 @@ pub fn read_netcdf_records(path: &Path, options: &PointReadOptions) -> Result<Ve
             value: value_v.as_ref().map(|v| Ok(v[i])),
             sigma: sigma_v.as_ref().map(|s| Ok(s[i])),
         })
-        .collect())
+        .collect();
+    Ok((columns, records))
 }

@@ -2,13 +2,21 @@
 //! what was read, skipped and merged.
 //!
 //! Positions are geocentric latitude and longitude in degrees; longitudes may be given in
-//! either convention (−180..180 or 0..360). Validation rules live in `observe::validate`.
+//! either convention (−180..180 or 0..360).
+//!
+//! This folder owns point input: [`csv`] (streaming CSV reader), [`netcdf`] (NetCDF point
+//! files) and [`validate`] (the rules every record passes and the merging of duplicates).
+
+pub mod csv;
+pub mod netcdf;
+mod recent_bytes;
+pub mod validate;
 
 use std::path::{Path, PathBuf};
 
 use crate::error::{Error, Result};
 
-use super::validate::{validate_records, RawRecord};
+use self::validate::{validate_records, RawRecord, RecordColumns};
 
 /// A validated set of observations. All vectors have the same length.
 #[derive(Debug, Clone, Default, PartialEq)]
@@ -65,17 +73,21 @@ impl PointSet {
                 sigma.as_ref().map(|s| s.len())
             )));
         }
-        let records = (0..n)
-            .map(|i| RawRecord {
+        let columns = RecordColumns {
+            value: true,
+            sigma: sigma.is_some(),
+        };
+        let records = (0..n).map(|i| {
+            Ok(RawRecord {
                 line: i,
                 lat: Ok(lat_deg[i]),
                 lon: Ok(lon_deg[i]),
                 value: Some(Ok(value[i])),
                 sigma: sigma.as_ref().map(|s| Ok(s[i])),
             })
-            .collect();
+        });
         let options = PointReadOptions::default();
-        validate_records(Path::new("<memory>"), "index", records, &options)
+        validate_records(Path::new("<memory>"), "index", columns, records, &options)
     }
 }
 
@@ -230,11 +242,18 @@ pub fn read_points(path: &Path, options: &PointReadOptions) -> Result<(PointSet,
     let head = read_head(path)?;
     let is_netcdf = head.starts_with(b"CDF") || head.starts_with(b"\x89HDF");
     if is_netcdf {
-        let records = super::points_netcdf::read_netcdf_records(path, options)?;
-        validate_records(path, "record", records, options)
+        let (columns, records) = netcdf::read_netcdf_records(path, options)?;
+        validate_records(
+            path,
+            "record",
+            columns,
+            records.into_iter().map(Ok),
+            options,
+        )
     } else {
-        let records = super::points_csv::read_csv_records(path, options)?;
-        validate_records(path, "line", records, options)
+        let records = csv::read_csv_records(path, options)?;
+        let columns = records.record_columns();
+        validate_records(path, "line", columns, records, options)
     }
 }
 

@@ -17,7 +17,7 @@ use std::path::Path;
 
 use crate::error::{Error, Result};
 
-use super::points::{BadRowPolicy, PointReadOptions, PointReadReport, PointSet};
+use super::{BadRowPolicy, PointReadOptions, PointReadReport, PointSet};
 
 /// How many bad rows an error message or report quotes.
 pub const QUOTED_BAD_ROWS: usize = 5;
@@ -90,28 +90,35 @@ fn position_key(lat: f64, lon: f64) -> (u64, u64) {
     ((lat + 0.0).to_bits(), (lon + 0.0).to_bits())
 }
 
-/// Validates records, applies the bad-row policy and merges duplicates. `unit` names what
-/// `line` counts ("line", "record", "index") in messages.
+/// Which optional columns the records of a source carry (known from its header or variable
+/// list before any record is read).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct RecordColumns {
+    pub value: bool,
+    pub sigma: bool,
+}
+
+/// Validates records as they come, applies the bad-row policy and merges duplicates. `unit`
+/// names what `line` counts ("line", "record", "index") in messages. An error from the source
+/// (a malformed record) stops the reading and is returned as it is.
 pub fn validate_records(
     path: &Path,
     unit: &str,
-    records: Vec<RawRecord>,
+    columns: RecordColumns,
+    records: impl IntoIterator<Item = Result<RawRecord>>,
     options: &PointReadOptions,
 ) -> Result<(PointSet, PointReadReport)> {
     let mut report = PointReadReport {
         path: path.to_path_buf(),
-        rows_read: records.len(),
         ..Default::default()
     };
-    let has_value = records
-        .first()
-        .map_or(options.require_value, |r| r.value.is_some());
-    let has_sigma = records.first().is_some_and(|r| r.sigma.is_some());
     let mut set = PointSet::default();
     let mut sigma = Vec::new();
     let mut bad = 0usize;
-    for r in &records {
-        match check_record(r) {
+    for r in records {
+        let r = r?;
+        report.rows_read += 1;
+        match check_record(&r) {
             Ok((lat, lon, v, s)) => {
                 set.lat_deg.push(lat);
                 set.lon_deg.push(lon);
@@ -139,17 +146,17 @@ pub fn validate_records(
             format!(
                 "{bad} bad row{} of {}: {}{}; fix them or pass --on-bad-row skip to skip and count them",
                 if bad == 1 { "" } else { "s" },
-                records.len(),
+                report.rows_read,
                 report.bad_row_examples.join("; "),
                 if bad > QUOTED_BAD_ROWS { "; ..." } else { "" }
             ),
         ));
     }
     report.bad_rows_skipped = bad;
-    if has_sigma {
+    if columns.sigma {
         set.sigma = Some(sigma);
     }
-    if !has_value {
+    if !columns.value {
         set.value.clear();
     }
     if options.merge_duplicates {
@@ -174,10 +181,13 @@ pub fn merge_duplicates(set: &mut PointSet, report: &mut PointReadReport) {
     let mut first_of: HashMap<(u64, u64), usize> = HashMap::with_capacity(n);
     let mut target = vec![usize::MAX; n];
     let mut any = false;
-    for i in 0..n {
-        let key = position_key(set.lat_deg[i], set.lon_deg[i]);
-        let first = *first_of.entry(key).or_insert(i);
-        target[i] = first;
+    for (i, (target_i, (&lat, &lon))) in target
+        .iter_mut()
+        .zip(set.lat_deg.iter().zip(&set.lon_deg))
+        .enumerate()
+    {
+        let first = *first_of.entry(position_key(lat, lon)).or_insert(i);
+        *target_i = first;
         any |= first != i;
     }
     if !any {
@@ -187,8 +197,7 @@ pub fn merge_duplicates(set: &mut PointSet, report: &mut PointReadReport) {
     let mut sum_wv = vec![0.0; n];
     let mut sum_w = vec![0.0; n];
     let mut count = vec![0usize; n];
-    for i in 0..n {
-        let t = target[i];
+    for (i, &t) in target.iter().enumerate() {
         let w = set.weight(i);
         if !set.value.is_empty() {
             sum_wv[t] += w * set.value[i];
@@ -247,7 +256,11 @@ mod tests {
         let (set, report) = validate_records(
             Path::new("x.csv"),
             "line",
-            recs,
+            RecordColumns {
+                value: true,
+                sigma: recs[0].sigma.is_some(),
+            },
+            recs.into_iter().map(Ok),
             &PointReadOptions::default(),
         )
         .unwrap();
@@ -264,7 +277,11 @@ mod tests {
         let (set, report) = validate_records(
             Path::new("x.csv"),
             "line",
-            recs,
+            RecordColumns {
+                value: true,
+                sigma: recs[0].sigma.is_some(),
+            },
+            recs.into_iter().map(Ok),
             &PointReadOptions::default(),
         )
         .unwrap();

@@ -2,29 +2,38 @@
 //! spherical-harmonic coefficients up to degree L.
 //!
 //! Minimises (y − Ax)ᵀ W (y − Ax) + λ xᵀ P x with W = diag(1/σ²) (unit weights without σ),
-//! A the design matrix (`lsq_design`), P diagonal:
+//! A the design matrix ([`design`]), P diagonal:
 //! - `None`: P = 0;
 //! - `Damping(λ)`: Tikhonov damping, P = I (Tikhonov 1963, Soviet Math. Dokl. 4:1035);
 //! - `Kaula { a, p }`: a prior per-coefficient RMS σ_l = a·l^−p (Kaula 1966, *Theory of Satellite
 //!   Geodesy*; degree 0 uses σ_0 = a), P = diag(1/σ_l²), λ = 1 (the Bayesian prior itself);
-//! - `Gcv`: P = I with λ from generalised cross-validation (`lsq_gcv`);
+//! - `Gcv`: P = I with λ from generalised cross-validation ([`gcv`]);
 //! - `KaulaGcv { a, p }`: the Kaula prior scaled by a λ chosen by GCV.
 //!
 //! Posterior covariance C = σ̂₀² (N + λP)⁻¹. **Scaling:** when the points carry σ the formal
 //! covariance is reported unscaled (σ̂₀² = 1; judge the σ by χ²/dof); without σ, unit weights
 //! mean nothing in absolute terms, so σ̂₀² = χ²/dof, the a-posteriori variance factor.
 //! χ²/dof = Σ w r² / (n − tr H), tr H = tr((N + λP)⁻¹N) = u − λ Σ P_ii [(N + λP)⁻¹]_ii.
+//!
+//! This folder owns the fit: [`design`] (unknowns and design rows), [`normal`] (assembly of
+//! the normal equations), [`solve`](mod@solve) (Cholesky solve and posterior variances) and [`gcv`]
+//! (choice of λ); this file drives them.
 
 use crate::coeffs::Coefficients;
 use crate::error::{Error, Result};
 
-use super::gridding::EARTH_MEAN_RADIUS_M;
-use super::lsq_design::UnknownLayout;
-use super::lsq_gcv::GcvSpectrum;
-use super::lsq_normal::{assemble, predict};
-use super::lsq_solve::solve;
-use super::points::PointSet;
-use super::spatial::SphereIndex;
+pub mod design;
+pub mod gcv;
+pub mod normal;
+pub mod solve;
+
+use self::design::UnknownLayout;
+use self::gcv::GcvSpectrum;
+use self::normal::{assemble, predict};
+use self::solve::solve;
+use crate::observe::gridding::EARTH_MEAN_RADIUS_M;
+use crate::observe::points::PointSet;
+use crate::observe::spatial::SphereIndex;
 use crate::progress::{Progress, Silent};
 
 /// Regularisation of the fit (see the module doc).

@@ -11,9 +11,9 @@ use std::collections::{BTreeMap, HashSet};
 use std::fmt::Write as _;
 use std::path::Path;
 
-use super::provenance::Provenance;
 use crate::coeffs::{packed_index, packed_len, Coefficients, Normalization};
 use crate::error::{Error, Result};
+use crate::io::provenance::Provenance;
 
 /// Highest degree a text table may declare (keeps a typo from asking for terabytes).
 pub const MAX_TEXT_DEGREE: usize = 100_000;
@@ -314,7 +314,7 @@ pub fn model_text(coeffs: &Coefficients, provenance: &Provenance) -> String {
     out.push_str("# kugel spherical-harmonic coefficient table\n");
     out.push_str(&format!(
         "# source: {}\n",
-        super::provenance::source_attribute()
+        crate::io::provenance::source_attribute()
     ));
     let _ = writeln!(out, "normalization = {}", coeffs.normalization.name());
     let _ = writeln!(
@@ -332,7 +332,7 @@ pub fn model_text(coeffs: &Coefficients, provenance: &Provenance) -> String {
     if let Some(previous) = coeffs.attributes.get("history") {
         for (k, v) in extra.iter_mut() {
             if k == "history" {
-                *v = super::provenance::chain_history(v, Some(previous), " | ");
+                *v = crate::io::provenance::chain_history(v, Some(previous), " | ");
             }
         }
     }
@@ -368,7 +368,7 @@ pub fn model_text(coeffs: &Coefficients, provenance: &Provenance) -> String {
 /// Writes a text coefficient table atomically.
 pub fn write_model_text(path: &Path, coeffs: &Coefficients, provenance: &Provenance) -> Result<()> {
     coeffs.check_finite()?;
-    super::atomic::write_bytes_atomic(path, model_text(coeffs, provenance).as_bytes())
+    crate::io::atomic::write_bytes_atomic(path, model_text(coeffs, provenance).as_bytes())
 }
 
 #[cfg(test)]

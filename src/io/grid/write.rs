@@ -12,9 +12,9 @@ use std::path::Path;
 use ndarray::Array2;
 use netcdf_writer::{NcAttrValue, NcFileBuilder, NC_FILL_DOUBLE, NC_FILL_FLOAT};
 
-use super::netcdf_common as nc;
-use super::provenance::Provenance;
 use crate::error::{Error, Result};
+use crate::io::netcdf_common as nc;
+use crate::io::provenance::Provenance;
 use crate::sht::{Grid, GridKind};
 
 /// One gridded quantity.

@@ -1,4 +1,5 @@
-//! The Gaussian averaging kernel used by kernel gridding, and its degree response.
+//! The Gaussian averaging kernel used by kernel gridding, and its degree response. (Not to be
+//! confused with `sht::kernel`, the inner loops of the transforms.)
 //!
 //! Kernel (Jekeli 1981, OSU Report 327, the isotropic Gaussian on the sphere; also Wahr et al.
 //! 1998, JGR 103:30205): w(ψ) = exp(−b (1 − cos ψ)), b = ln 2 / (1 − cos(r½/R)), so the weight
@@ -11,6 +12,8 @@
 //! For dense, even sampling the normalised weighted mean is the convolution of the field with
 //! the normalised kernel, which multiplies degree l by (Funk–Hecke theorem; common practice)
 //! W_l = ∫₀^ψcut w(ψ) P_l(cos ψ) sin ψ dψ / ∫₀^ψcut w(ψ) sin ψ dψ.
+
+use crate::sht::legendre::polynomial::legendre_polynomials;
 
 /// The search-radius to half-width ratio of kernel gridding (see the module doc).
 pub const RADIUS_PER_HALF_WIDTH: f64 = 2.0;
@@ -60,40 +63,24 @@ impl GaussianKernel {
     }
 
     /// Degree response W_0..=W_lmax of the normalised truncated kernel, by Gauss–Legendre
-    /// quadrature in x = cos ψ over [cos ψ_cut, 1] with Legendre polynomials from Bonnet's
-    /// recursion (A&S 8.5.3). W_0 = 1.
+    /// quadrature in x = cos ψ over [cos ψ_cut, 1] with the Legendre polynomials of
+    /// [`crate::sht::legendre::polynomial`] (Bonnet's recursion, A&S 8.5.3). W_0 = 1.
     pub fn degree_response(&self, lmax: usize) -> Vec<f64> {
         let n = 64 + 2 * lmax + (4.0 * self.b.sqrt()) as usize;
         let (nodes, weights) = crate::sht::gauss_legendre::nodes_and_weights(n.min(20_000));
         let x0 = self.cutoff_rad.min(std::f64::consts::PI).cos();
         let half = 0.5 * (1.0 - x0);
         let mut num = vec![0.0; lmax + 1];
-        let mut p = vec![0.0; lmax + 1];
         for (&t, &wq) in nodes.iter().zip(&weights) {
             let x = x0 + half * (t + 1.0);
             let w = wq * half * (-self.b * (1.0 - x)).exp();
-            legendre_polynomials(x, &mut p);
+            let p = legendre_polynomials(lmax, x);
             for (acc, pl) in num.iter_mut().zip(&p) {
                 *acc += w * pl;
             }
         }
         let norm = num[0];
         num.iter().map(|v| v / norm).collect()
-    }
-}
-
-/// P_0(x)..P_L(x) by Bonnet's recursion (l+1)P_{l+1} = (2l+1)x P_l − l P_{l−1} (A&S 8.5.3).
-fn legendre_polynomials(x: f64, out: &mut [f64]) {
-    if out.is_empty() {
-        return;
-    }
-    out[0] = 1.0;
-    if out.len() > 1 {
-        out[1] = x;
-    }
-    for l in 1..out.len().saturating_sub(1) {
-        let lf = l as f64;
-        out[l + 1] = ((2.0 * lf + 1.0) * x * out[l] - lf * out[l - 1]) / (lf + 1.0);
     }
 }
 

@@ -1,14 +1,20 @@
 //! Coefficient model files: NetCDF-4 for `.nc` paths, plain-text tables otherwise.
 //! Reading recognises NetCDF by its magic bytes, whatever the extension.
+//!
+//! This folder owns the model formats: [`netcdf`] (CF NetCDF-4 layout) and [`text`] (plain-text
+//! tables); this file chooses between them.
 
 use std::io::Read;
 use std::path::Path;
 
-use super::model_netcdf::{read_model_netcdf, write_model_netcdf};
-use super::model_text::{read_model_text, write_model_text, TextModelReport};
-use super::provenance::Provenance;
+pub mod netcdf;
+pub mod text;
+
+use self::netcdf::{read_model_netcdf, write_model_netcdf};
+use self::text::{read_model_text, write_model_text, TextModelReport};
 use crate::coeffs::Coefficients;
 use crate::error::{Error, Result};
+use crate::io::provenance::Provenance;
 
 /// True when `path` names a NetCDF file by its extension (`.nc`, `.nc4`, `.cdf`, `.netcdf`).
 pub fn is_netcdf_path(path: &Path) -> bool {

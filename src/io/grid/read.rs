@@ -13,9 +13,9 @@ use std::path::{Path, PathBuf};
 use ndarray::Array2;
 use netcdf_reader::{NcFile, NcSliceInfo, NcSliceInfoElem, NcVariable};
 
-use super::grid_layout::{engine_grid, latitude_axis, longitude_axis};
-use super::netcdf_common as nc;
+use super::layout::{engine_grid, latitude_axis, longitude_axis};
 use crate::error::{Error, Result};
+use crate::io::netcdf_common as nc;
 use crate::sht::{Grid, GridKind};
 
 /// Which variable and which slice of extra dimensions to read.
@@ -192,7 +192,7 @@ fn lat_lon_dims(vars: &[NcVariable], v: &NcVariable) -> Option<(usize, usize)> {
     Some((lat?, lon?))
 }
 
-fn candidates<'a>(vars: &'a [NcVariable]) -> Vec<&'a NcVariable> {
+fn candidates(vars: &[NcVariable]) -> Vec<&NcVariable> {
     let ancillary: Vec<String> = vars
         .iter()
         .filter_map(|v| nc::text(v.attributes(), "ancillary_variables"))

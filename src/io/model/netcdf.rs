@@ -12,10 +12,10 @@ use std::path::Path;
 use netcdf_reader::NcAttrValue;
 use netcdf_writer::NcFileBuilder;
 
-use super::netcdf_common as nc;
-use super::provenance::Provenance;
 use crate::coeffs::{packed_index, packed_len, Coefficients, Normalization};
 use crate::error::{Error, Result};
+use crate::io::netcdf_common as nc;
+use crate::io::provenance::Provenance;
 
 /// Global attribute names kugel sets itself; carried-through metadata never overrides them.
 const RESERVED: &[&str] = &[
@@ -170,8 +170,8 @@ pub fn read_model_netcdf(path: &Path) -> Result<Coefficients> {
         fmt("global attribute 'condon_shortley_phase' is missing (expected 0 or 1)".into())
     })?;
     let condon_shortley = match phase {
-        p if p == 0.0 => false,
-        p if p == 1.0 => true,
+        0.0 => false,
+        1.0 => true,
         p => {
             return Err(fmt(format!(
                 "global attribute 'condon_shortley_phase' is {p}; expected 0 or 1"
