@@ -6,13 +6,18 @@ pub mod config;
 pub mod dag;
 pub mod demo;
 pub mod estimate;
+pub mod field_names;
+pub mod file_names;
+pub mod input_spec;
 pub mod job;
+mod kinds;
 pub mod outputs;
 pub mod products;
 pub mod progress;
 pub mod report;
 pub mod run;
 pub mod schema;
+pub mod step_spec;
 pub mod steps;
 pub mod suggest;
 
