@@ -118,7 +118,10 @@ pub fn point_count_bound(path: &Path) -> Result<u64> {
 
 /// Shape (nlat, nlon) of the Gauss grid for `lmax`.
 fn gauss_shape(lmax: usize) -> (usize, usize) {
-    (lmax + 1, crate::sht::grid::fft_friendly_length(2 * lmax + 1))
+    (
+        lmax + 1,
+        crate::sht::grid::fft_friendly_length(2 * lmax + 1),
+    )
 }
 
 /// Estimates every step of `config`, given the model degrees known before the run and an upper
@@ -171,7 +174,10 @@ pub fn estimate(
                 let Some(&model_l) = model_lmax.get(&s.model) else {
                     estimate.unknown.push((
                         name.clone(),
-                        format!("maps of '{}', whose degree is known once it is read", s.model),
+                        format!(
+                            "maps of '{}', whose degree is known once it is read",
+                            s.model
+                        ),
                     ));
                     continue;
                 };

@@ -101,15 +101,24 @@ mod tests {
 
     #[test]
     fn suffix_is_never_doubled() {
-        assert_eq!(file_name("halyard", "residuals", "csv"), "halyard_residuals.csv");
+        assert_eq!(
+            file_name("halyard", "residuals", "csv"),
+            "halyard_residuals.csv"
+        );
         assert_eq!(
             file_name("halyard_residuals", "residuals", "csv"),
             "halyard_residuals.csv"
         );
-        assert_eq!(file_name("topography_model", "model", "nc"), "topography_model.nc");
+        assert_eq!(
+            file_name("topography_model", "model", "nc"),
+            "topography_model.nc"
+        );
         assert_eq!(file_name("model", "model", "nc"), "model.nc");
         // only a whole trailing word counts: "supermodel" is not "super" + "_model"
-        assert_eq!(file_name("supermodel", "model", "nc"), "supermodel_model.nc");
+        assert_eq!(
+            file_name("supermodel", "model", "nc"),
+            "supermodel_model.nc"
+        );
         assert_eq!(file_name("maps", "", "nc"), "maps.nc");
     }
 }

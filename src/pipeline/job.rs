@@ -236,9 +236,7 @@ fn input_product(kind: InputKind) -> ProductKind {
 
 fn step_product(kind: StepKind) -> ProductKind {
     match kind {
-        StepKind::Grid | StepKind::Fit | StepKind::Analyze | StepKind::Filter => {
-            ProductKind::Model
-        }
+        StepKind::Grid | StepKind::Fit | StepKind::Analyze | StepKind::Filter => ProductKind::Model,
         StepKind::Spectrum => ProductKind::Spectrum,
         StepKind::Compare => ProductKind::Comparison,
         StepKind::Synthesize => ProductKind::Maps,

@@ -159,6 +159,11 @@ fn check_required<T: DeserializeOwned>(
     kind: &str,
     problems: &mut Vec<String>,
 ) {
+    let table = if path.starts_with("inputs.") {
+        "input"
+    } else {
+        "step"
+    };
     let Err(e) = toml::Value::Table(t.clone()).try_into::<T>() else {
         return;
     };
@@ -169,7 +174,9 @@ fn check_required<T: DeserializeOwned>(
         .and_then(|(_, rest)| rest.split_once('`'))
         .map(|(field, _)| field)
     {
-        problems.push(format!("{path}.{field}: missing; a {kind} needs it"));
+        problems.push(format!(
+            "{path}.{field}: missing; this {kind} {table} needs it"
+        ));
     }
 }
 
@@ -232,15 +239,17 @@ mod tests {
         assert_eq!(
             p,
             vec![
-                "steps.a.input: missing; a fit needs it",
-                "steps.b.model: missing; a filter needs it"
+                "steps.a.input: missing; this fit step needs it",
+                "steps.b.model: missing; this filter step needs it"
             ]
         );
     }
 
     #[test]
     fn old_altitude_key_points_to_km() {
-        let p = problems("[steps.e]\nkind = \"evaluate\"\nmodel = \"m\"\npoints = \"p\"\naltitude_m = 5000.0\n");
+        let p = problems(
+            "[steps.e]\nkind = \"evaluate\"\nmodel = \"m\"\npoints = \"p\"\naltitude_m = 5000.0\n",
+        );
         assert_eq!(
             p,
             vec!["steps.e.altitude_m: unknown key; did you mean 'altitude_km'? (altitudes are given in km: divide the value by 1000)"]

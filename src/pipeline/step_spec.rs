@@ -170,7 +170,10 @@ mod tests {
     #[test]
     fn every_kind_lists_its_keys() {
         // the keys come from the structs: spot-check a few and that no kind is left empty
-        assert_eq!(StepKind::Fit.keys(), ["kind", "input", "lmax", "regularization"]);
+        assert_eq!(
+            StepKind::Fit.keys(),
+            ["kind", "input", "lmax", "regularization"]
+        );
         assert!(StepKind::Synthesize.keys().contains(&"altitude_km"));
         assert!(!StepKind::Synthesize.keys().contains(&"altitude_m"));
         for k in StepKind::ALL {

@@ -5,8 +5,8 @@ use super::{ReportPart, StepEnv, StepOutcome};
 use crate::error::Result;
 use crate::io::degree_table::{write_degree_table_csv, write_degree_table_netcdf};
 use crate::pipeline::file_names::StepFiles;
-use crate::pipeline::step_spec::{CompareStep, SpectrumStep};
 use crate::pipeline::products::Product;
+use crate::pipeline::step_spec::{CompareStep, SpectrumStep};
 use crate::report::html::Block;
 use crate::report::plots::{comparison_svg, spectrum_svg};
 use crate::spectral::{CompareOptions, Comparison, SpectralTable, Spectrum, SpectrumOptions};
@@ -64,10 +64,7 @@ pub fn spectrum(name: &str, step: &SpectrumStep, env: &StepEnv) -> Result<StepOu
         &mut out,
         "degree-variance spectrum",
     )?;
-    let svg = spectrum_svg(
-        &spectrum,
-        &format!("{name}: spectrum of {}", step.model),
-    );
+    let svg = spectrum_svg(&spectrum, &format!("{name}: spectrum of {}", step.model));
     write_svg(name, &svg, env, &mut out)?;
     out.report.push((
         ReportPart::Spectra,
