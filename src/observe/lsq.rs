@@ -24,8 +24,8 @@ use super::lsq_gcv::GcvSpectrum;
 use super::lsq_normal::{assemble, predict};
 use super::lsq_solve::solve;
 use super::points::PointSet;
-use super::progress::Progress;
 use super::spatial::SphereIndex;
+use crate::progress::{Progress, Silent};
 
 /// Regularisation of the fit (see the module doc).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -164,7 +164,7 @@ pub fn fit_memory_bytes(lmax: usize, regularization: &Regularization) -> u64 {
 
 /// Fits the points to all coefficients up to `lmax` (no progress output).
 pub fn fit(points: &PointSet, lmax: usize, options: &FitOptions) -> Result<FitResult> {
-    fit_with_progress(points, lmax, options, &Progress::hidden())
+    fit_with_progress(points, lmax, options, &Silent)
 }
 
 /// As [`fit`], reporting progress while assembling.
@@ -172,7 +172,7 @@ pub fn fit_with_progress(
     points: &PointSet,
     lmax: usize,
     options: &FitOptions,
-    progress: &Progress,
+    progress: &dyn Progress,
 ) -> Result<FitResult> {
     if points.is_empty() || points.value.len() != points.len() {
         return Err(Error::invalid("the fit needs observations with values"));

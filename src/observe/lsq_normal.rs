@@ -11,8 +11,8 @@ use rayon::prelude::*;
 
 use super::lsq_design::{design_row, LegendreTable, UnknownLayout};
 use super::points::PointSet;
-use super::progress::Progress;
 use crate::coeffs::packed_len;
+use crate::progress::Progress;
 
 /// Points per assembly block.
 pub const BLOCK_POINTS: usize = 512;
@@ -27,7 +27,11 @@ pub struct NormalEquations {
 }
 
 /// Assembles the normal equations for all points.
-pub fn assemble(points: &PointSet, layout: &UnknownLayout, progress: &Progress) -> NormalEquations {
+pub fn assemble(
+    points: &PointSet,
+    layout: &UnknownLayout,
+    progress: &dyn Progress,
+) -> NormalEquations {
     let u = layout.len();
     let table = LegendreTable::new(layout.lmax);
     let mut n = Mat::<f64>::zeros(u, u);
@@ -35,7 +39,7 @@ pub fn assemble(points: &PointSet, layout: &UnknownLayout, progress: &Progress) 
     let mut y_w_y = 0.0;
     let mut block = vec![0.0; u * BLOCK_POINTS];
     let count = points.len();
-    progress.stage(count.div_ceil(BLOCK_POINTS) as u64, "assembling normals");
+    progress.stage("assembling normals", count.div_ceil(BLOCK_POINTS) as u64);
     for start in (0..count).step_by(BLOCK_POINTS) {
         let end = (start + BLOCK_POINTS).min(count);
         let nb = end - start;
@@ -68,7 +72,7 @@ pub fn assemble(points: &PointSet, layout: &UnknownLayout, progress: &Progress) 
             let col = &cols[k * u..(k + 1) * u];
             b.iter_mut().zip(col).for_each(|(bi, a)| *bi += a * wy);
         }
-        progress.inc(1);
+        progress.advance(1);
     }
     NormalEquations {
         n,
@@ -144,7 +148,7 @@ mod tests {
             source_lines: vec![0; count],
         };
         let layout = UnknownLayout::new(5);
-        let fast = assemble(&points, &layout, &Progress::hidden());
+        let fast = assemble(&points, &layout, &crate::progress::Silent);
         let (n, b) = rank_one_reference(&points, &layout);
         let scale = n.iter().flatten().fold(0.0f64, |a, v| a.max(v.abs()));
         for r in 0..layout.len() {

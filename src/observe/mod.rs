@@ -8,7 +8,6 @@ pub mod kernel;
 pub mod points;
 pub mod points_csv;
 pub mod points_netcdf;
-pub mod progress;
 pub mod spatial;
 pub mod validate;
 

@@ -4,7 +4,6 @@
 pub mod checks;
 pub mod config;
 pub mod dag;
-pub mod demo;
 pub mod estimate;
 pub mod field_names;
 pub mod file_names;
@@ -13,7 +12,6 @@ pub mod job;
 mod kinds;
 pub mod outputs;
 pub mod products;
-pub mod progress;
 pub mod report;
 pub mod run;
 pub mod schema;
