@@ -67,7 +67,10 @@ fn dry_run_prints_plan_and_estimate() {
     // a fit without `regularization` is unregularized, as on the command line
     assert!(stdout.contains("regularization none"), "{stdout}");
     assert!(stdout.contains("memory estimate"), "{stdout}");
-    assert!(stdout.contains("normal matrices of 25 unknowns"), "{stdout}");
+    assert!(
+        stdout.contains("normal matrices of 25 unknowns"),
+        "{stdout}"
+    );
     assert!(stdout.contains("peak about"), "{stdout}");
     assert!(!tmp.path().join("out").exists(), "a dry run writes nothing");
 }
