@@ -231,6 +231,28 @@ pub fn longitude_densified(grid: &Grid, lmax: usize) -> (Grid, usize) {
     (dense, stride)
 }
 
+/// Grids a synthesis of `quantities` holds at once: one per quantity plus one working grid,
+/// or three for the magnetic vector components.
+pub fn synthesis_grid_count(quantities: &[Quantity]) -> usize {
+    let magnetic = quantities
+        .iter()
+        .any(|q| q.family() == QuantityFamily::Magnetic);
+    quantities.len() + if magnetic { 3 } else { 1 }
+}
+
+/// Bytes [`synthesize_with_plan`] checks before it starts: the grids of
+/// [`synthesis_grid_count`] (nlat × nlon doubles each), plus the prepared and one scaled copy
+/// of the degree-`model_lmax` coefficients (C and S).
+pub fn synthesis_memory_bytes(
+    model_lmax: usize,
+    quantities: &[Quantity],
+    nlat: usize,
+    nlon: usize,
+) -> u64 {
+    let coefficient_bytes = 2 * 16 * crate::coeffs::packed_len(model_lmax);
+    (synthesis_grid_count(quantities) * nlat * nlon * 8 + coefficient_bytes) as u64
+}
+
 /// As [`synthesize_on_grid`] with a prebuilt plan (reused across calls), reporting one unit of
 /// progress per transform.
 pub fn synthesize_with_plan(
@@ -242,15 +264,13 @@ pub fn synthesize_with_plan(
     let (nlat, nlon) = plan.grid().shape();
     let qs = &request.quantities;
     let magnetic = qs.iter().any(|q| q.family() == QuantityFamily::Magnetic);
-    let arrays = qs.len() + if magnetic { 3 } else { 1 };
-    // The grids, plus the prepared and one scaled copy of the coefficients (C and S).
-    let coefficient_bytes = 2 * 16 * crate::coeffs::packed_len(model.lmax());
+    let arrays = synthesis_grid_count(qs);
     crate::memory::check_fits(
         &format!(
             "{arrays} grid(s) of {nlat} x {nlon} and two copies of the degree-{} coefficients",
             model.lmax()
         ),
-        (arrays * nlat * nlon * 8 + coefficient_bytes) as u64,
+        synthesis_memory_bytes(model.lmax(), qs, nlat, nlon),
     )?;
     let prepared = prepare(model, request)?;
     let lmax = prepared.coeffs.lmax();

@@ -1,48 +1,80 @@
 //! Memory estimate of a job, printed before it runs and checked against the machine.
 //!
-//! Counts the big arrays only: Gauss grids (8 bytes per node, (L+1)·nlon nodes, nlon ≥ 2L+1),
-//! least-squares normal matrices (8·n² bytes for n = (L+1)² unknowns, twice: matrix and factor)
-//! and coefficient sets. Steps run one at a time except the syntheses of one level, so the peak
-//! is the largest step plus the models kept for later steps.
+//! Each step's figure comes from the estimator the library itself checks before allocating,
+//! so the plan and the step cannot disagree:
+//! - grid: `observe::gridding::gridding_memory_bytes` (node layers, points) plus the analysis
+//!   of the gridded field, `sht::plan::analysis_memory_bytes`;
+//! - fit: `observe::fit::fit_memory_bytes` (three (L+1)²-square matrices, five with GCV);
+//! - analyze: `sht::plan::plan_memory_bytes` and `analysis_memory_bytes` on the smallest grid
+//!   that resolves the degree (the input grid's own size is checked when it is read);
+//! - synthesize: `field::synthesis::synthesis_memory_bytes` on the Gauss grid the step maps.
+//!
+//! Steps run one at a time except the syntheses of one level, so the peak is the largest step
+//! (or the level's syntheses together) plus the models and point sets kept for later steps.
 
 use std::collections::BTreeMap;
 use std::fmt::Write as _;
+use std::path::Path;
 
-use super::config::Config;
-use crate::sht::grid::fft_friendly_length;
-
-/// Bytes of one Gauss grid for band limit `lmax`.
-pub fn gauss_grid_bytes(lmax: usize) -> u64 {
-    ((lmax + 1) * fft_friendly_length(2 * lmax + 1) * 8) as u64
-}
+use super::config::{Config, Input, Step};
+use crate::error::{Error, Result};
+use crate::field::quantity::Quantity;
+use crate::field::synthesis::{longitude_densified, synthesis_memory_bytes};
+use crate::observe::fit::{fit_memory_bytes, Regularization};
+use crate::observe::gridding::gridding_memory_bytes;
+use crate::sht::plan::{analysis_memory_bytes, plan_memory_bytes};
+use crate::sht::GaussGrid;
 
 /// Bytes of one coefficient set (C, S and their sigmas) to `lmax`.
 pub fn coefficient_bytes(lmax: usize) -> u64 {
     (crate::coeffs::packed_len(lmax) * 4 * 8) as u64
 }
 
-/// Bytes of the normal matrix and its Cholesky factor of a fit to `lmax`.
-pub fn normal_matrix_bytes(lmax: usize) -> u64 {
-    let n = ((lmax + 1) * (lmax + 1)) as u64;
-    2 * n * n * 8
+/// Bytes of a point set of `points` points in memory (latitude, longitude, value, sigma).
+pub fn point_set_bytes(points: u64) -> u64 {
+    points * 4 * 8
+}
+
+/// One step's estimate.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct StepMemory {
+    pub step: String,
+    /// What the figure counts, for the plan.
+    pub what: String,
+    pub bytes: u64,
 }
 
 /// Per-step estimates and the resulting peak.
 #[derive(Debug, Clone, Default)]
 pub struct MemoryEstimate {
-    /// (step, what, bytes)
-    pub items: Vec<(String, String, u64)>,
+    pub items: Vec<StepMemory>,
+    /// Steps whose size is only known once their inputs are read (not counted).
+    pub unknown: Vec<(String, String)>,
     pub peak_bytes: u64,
 }
 
 impl MemoryEstimate {
     pub fn describe(&self) -> String {
         let mut s = String::from("memory estimate (largest arrays per step):\n");
-        for (step, what, bytes) in &self.items {
-            let _ = writeln!(s, "  {step:<18} {:>10}  {what}", human_bytes(*bytes));
+        for item in &self.items {
+            let _ = writeln!(
+                s,
+                "  {:<18} {:>10}  {}",
+                item.step,
+                human_bytes(item.bytes),
+                item.what
+            );
+        }
+        for (step, why) in &self.unknown {
+            let _ = writeln!(s, "  {step:<18} {:>10}  {why}", "?");
         }
         let _ = writeln!(s, "  peak about {}", human_bytes(self.peak_bytes));
         s
+    }
+
+    /// The estimate of step `name`, if it has one.
+    pub fn bytes_of(&self, name: &str) -> Option<u64> {
+        self.items.iter().find(|i| i.step == name).map(|i| i.bytes)
     }
 }
 
@@ -60,52 +92,131 @@ pub fn human_bytes(bytes: u64) -> String {
     }
 }
 
-/// Estimates every step of `config` given the model degrees known before the run.
-pub fn estimate(config: &Config, model_lmax: &BTreeMap<String, usize>) -> MemoryEstimate {
-    let mut items = Vec::new();
+/// An upper bound on the number of points in a point file, without parsing it: the number of
+/// lines of a text file, or for a NetCDF file its size over 8 bytes (a point has at least a
+/// 4-byte latitude and longitude).
+pub fn point_count_bound(path: &Path) -> Result<u64> {
+    let is_netcdf = path
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("nc"));
+    if is_netcdf {
+        let meta = std::fs::metadata(path).map_err(|e| Error::io(path, e))?;
+        return Ok(meta.len() / 8);
+    }
+    use std::io::Read as _;
+    let mut file = std::fs::File::open(path).map_err(|e| Error::io(path, e))?;
+    let mut buffer = vec![0u8; 1 << 16];
+    let mut lines = 1u64;
+    loop {
+        let n = file.read(&mut buffer).map_err(|e| Error::io(path, e))?;
+        if n == 0 {
+            return Ok(lines);
+        }
+        lines += buffer[..n].iter().filter(|&&b| b == b'\n').count() as u64;
+    }
+}
+
+/// Shape (nlat, nlon) of the Gauss grid for `lmax`.
+fn gauss_shape(lmax: usize) -> (usize, usize) {
+    (
+        lmax + 1,
+        crate::sht::grid::fft_friendly_length(2 * lmax + 1),
+    )
+}
+
+/// Estimates every step of `config`, given the model degrees known before the run and an upper
+/// bound on the size of each point input (see [`point_count_bound`]).
+pub fn estimate(
+    config: &Config,
+    model_lmax: &BTreeMap<String, usize>,
+    point_counts: &BTreeMap<String, u64>,
+) -> Result<MemoryEstimate> {
+    let mut estimate = MemoryEstimate::default();
     let mut syntheses = 0u64;
     let mut largest = 0u64;
     for (name, step) in &config.steps {
-        let model_l = step.model.as_ref().and_then(|m| model_lmax.get(m)).copied();
-        let (what, bytes) = match step.kind.as_str() {
-            "grid" => {
-                let l = step.lmax.unwrap_or(0);
+        let (what, bytes) = match step {
+            Step::Grid(s) => {
+                let points = point_counts.get(&s.input).copied().unwrap_or(0);
+                let (nlat, nlon) = gauss_shape(s.lmax);
+                let bytes = gridding_memory_bytes(points as usize, s.lmax)
+                    + analysis_memory_bytes(s.lmax, nlon, nlat.div_ceil(2));
                 (
-                    format!("3 Gauss grids to degree {l}"),
-                    3 * gauss_grid_bytes(l),
+                    format!(
+                        "gridding up to {points} points on a {nlat} x {nlon} Gauss grid, and its analysis"
+                    ),
+                    bytes,
                 )
             }
-            "fit" => {
-                let l = step.lmax.unwrap_or(0);
+            Step::Fit(s) => {
+                let regularization = Regularization::parse(s.regularization_spec())?;
+                let unknowns = (s.lmax + 1) * (s.lmax + 1);
                 (
-                    format!("normal matrix and factor, {} unknowns", (l + 1) * (l + 1)),
-                    normal_matrix_bytes(l),
+                    format!(
+                        "normal matrices of {unknowns} unknowns ({})",
+                        regularization.describe()
+                    ),
+                    fit_memory_bytes(s.lmax, &regularization),
                 )
             }
-            "analyse" => {
-                let l = step.lmax.unwrap_or(0);
+            Step::Analyze(s) => {
+                let (nlat, nlon) = gauss_shape(s.lmax);
                 (
-                    "input grid and transform".to_string(),
-                    2 * gauss_grid_bytes(l),
+                    format!(
+                        "analysis to degree {} (at least; the input grid's size is checked when read)",
+                        s.lmax
+                    ),
+                    plan_memory_bytes(s.lmax, nlat, nlon)
+                        + analysis_memory_bytes(s.lmax, nlon, nlat.div_ceil(2)),
                 )
             }
-            "synthesize" => {
-                let l = step.grid_lmax.or(model_l).unwrap_or(0);
-                let n = step.quantities.as_ref().map_or(1, Vec::len) as u64;
-                let b = (n + 1) * gauss_grid_bytes(l);
-                syntheses += b;
-                (format!("{n} maps on a degree-{l} Gauss grid"), b)
+            Step::Synthesize(s) => {
+                let Some(&model_l) = model_lmax.get(&s.model) else {
+                    estimate.unknown.push((
+                        name.clone(),
+                        format!(
+                            "maps of '{}', whose degree is known once it is read",
+                            s.model
+                        ),
+                    ));
+                    continue;
+                };
+                let quantities = s
+                    .quantities
+                    .iter()
+                    .map(|q| q.parse::<Quantity>())
+                    .collect::<Result<Vec<_>>>()?;
+                let grid_l = s.grid_lmax.unwrap_or(model_l);
+                let (grid, _) = longitude_densified(&GaussGrid::new(grid_l), model_l);
+                let (nlat, nlon) = grid.shape();
+                let bytes = synthesis_memory_bytes(model_l, &quantities, nlat, nlon);
+                syntheses += bytes;
+                (
+                    format!(
+                        "{} map(s) of degree {model_l} on a {nlat} x {nlon} grid",
+                        quantities.len()
+                    ),
+                    bytes,
+                )
             }
-            _ => continue,
+            Step::Spectrum(_) | Step::Compare(_) | Step::Filter(_) | Step::Evaluate(_) => continue,
         };
         largest = largest.max(bytes);
-        items.push((name.clone(), what, bytes));
+        estimate.items.push(StepMemory {
+            step: name.clone(),
+            what,
+            bytes,
+        });
     }
     let models: u64 = model_lmax.values().map(|&l| coefficient_bytes(l)).sum();
-    MemoryEstimate {
-        items,
-        peak_bytes: largest.max(syntheses) + models,
-    }
+    let points: u64 = config
+        .inputs
+        .iter()
+        .filter(|(_, i)| matches!(i, Input::Points(_)))
+        .map(|(n, _)| point_set_bytes(point_counts.get(n).copied().unwrap_or(0)))
+        .sum();
+    estimate.peak_bytes = largest.max(syntheses) + models + points;
+    Ok(estimate)
 }
 
 #[cfg(test)]
@@ -114,10 +225,18 @@ mod tests {
 
     #[test]
     fn sizes_follow_the_formulas() {
-        // degree 10: 11 rows × 24 columns (smallest 2,3,5-smooth length ≥ 21) × 8 bytes
-        assert_eq!(gauss_grid_bytes(10), 11 * 24 * 8);
-        // degree 40: 1681 unknowns, 2 matrices of 1681² doubles
-        assert_eq!(normal_matrix_bytes(40), 2 * 1681 * 1681 * 8);
+        // degree 10: 121 packed coefficients × 4 arrays × 8 bytes
+        assert_eq!(coefficient_bytes(10), 66 * 4 * 8);
         assert_eq!(human_bytes(3 * 1024 * 1024), "3.0 MiB");
+        assert_eq!(human_bytes(512), "512 B");
+    }
+
+    #[test]
+    fn point_count_bound_counts_lines() {
+        let dir = tempfile::tempdir().unwrap();
+        let p = dir.path().join("p.csv");
+        std::fs::write(&p, "lat,lon,value\n0,0,1\n1,1,2\n").unwrap();
+        // header + 2 rows + the empty tail: an upper bound on the 2 rows
+        assert_eq!(point_count_bound(&p).unwrap(), 4);
     }
 }

@@ -5,8 +5,9 @@ use std::collections::BTreeMap;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
-use super::config::{Config, InputSpec, StepSpec, OUTPUT_FORMATS};
-use super::{dag, estimate, schema, suggest};
+use super::config::{Config, Input, InputKind, Step, StepKind, OUTPUT_FORMATS};
+use super::step_spec::FitStep;
+use super::{dag, estimate, file_names, schema, suggest};
 use crate::error::{Error, Result};
 
 /// What a named product holds.
@@ -58,7 +59,8 @@ pub struct Job {
 
 impl Job {
     /// Reads and checks the config at `path`. All problems found are reported together, each
-    /// prefixed with its TOML path; nothing is read but the config and the existence of files.
+    /// prefixed with its TOML path. Nothing is read but the config, the existence of files and,
+    /// for the memory estimate, the line count of point files.
     pub fn load(path: &Path) -> Result<Job> {
         let bytes = std::fs::read(path).map_err(|e| Error::io(path, e))?;
         let text = String::from_utf8(bytes.clone())
@@ -85,7 +87,7 @@ impl Job {
         let mut deps = dag::Dependencies::new();
         for (name, input) in &config.inputs {
             check_input(name, input, &base_dir, &mut problems);
-            kinds.insert(name.clone(), input_kind(&input.kind));
+            kinds.insert(name.clone(), input_product(input.kind()));
             deps.insert(name.clone(), Vec::new());
         }
         for (name, step) in &config.steps {
@@ -94,12 +96,16 @@ impl Job {
                     "steps.{name}: an input has the same name; rename one"
                 ));
             }
-            kinds.insert(name.clone(), step_product(&step.kind));
-            deps.insert(name.clone(), step_uses(step));
+            kinds.insert(name.clone(), step_product(step.kind()));
+            deps.insert(
+                name.clone(),
+                step.uses().into_iter().map(String::from).collect(),
+            );
         }
         for (name, step) in &config.steps {
             check_step(name, step, &kinds, &base_dir, &mut problems);
         }
+        check_file_names(&config, &mut problems);
         let levels = match dag::levels(&deps) {
             Ok(l) => l,
             Err(e) => {
@@ -111,7 +117,14 @@ impl Job {
             return Err(problem_list(path, &problems));
         }
         let model_lmax = model_degrees(&config, &levels);
-        let memory = estimate::estimate(&config, &model_lmax);
+        let mut point_counts = BTreeMap::new();
+        for (name, input) in &config.inputs {
+            if let Input::Points(p) = input {
+                let count = estimate::point_count_bound(&base_dir.join(&p.path))?;
+                point_counts.insert(name.clone(), count);
+            }
+        }
+        let memory = estimate::estimate(&config, &model_lmax, &point_counts)?;
         let output_dir = base_dir.join(&config.output.folder);
         Ok(Job {
             config_sha256: sha256_hex(text.as_bytes()),
@@ -131,7 +144,7 @@ impl Job {
         self.config
             .inputs
             .get(name)
-            .map(|i| self.base_dir.join(&i.path))
+            .map(|i| self.base_dir.join(i.path()))
     }
 
     /// Steps in run order (inputs left out).
@@ -161,8 +174,8 @@ impl Job {
             let _ = writeln!(
                 s,
                 "  {name:<18} {:<7} {}",
-                input.kind,
-                self.base_dir.join(&input.path).display()
+                input.kind().name(),
+                self.base_dir.join(input.path()).display()
             );
         }
         let _ = writeln!(
@@ -181,7 +194,7 @@ impl Job {
                 let _ = writeln!(
                     s,
                     "  {n:>2}. {name:<18} {:<10} {}",
-                    step.kind,
+                    step.kind().name(),
                     step_summary(step)
                 );
             }
@@ -213,47 +226,47 @@ pub(crate) fn sha256_hex(bytes: &[u8]) -> String {
         .collect()
 }
 
-fn input_kind(kind: &str) -> ProductKind {
+fn input_product(kind: InputKind) -> ProductKind {
     match kind {
-        "points" => ProductKind::Points,
-        "grid" => ProductKind::Grid,
-        _ => ProductKind::Model,
+        InputKind::Points => ProductKind::Points,
+        InputKind::Grid => ProductKind::Grid,
+        InputKind::Model => ProductKind::Model,
     }
 }
 
-fn step_product(kind: &str) -> ProductKind {
+fn step_product(kind: StepKind) -> ProductKind {
     match kind {
-        "spectrum" => ProductKind::Spectrum,
-        "compare" => ProductKind::Comparison,
-        "synthesize" => ProductKind::Maps,
-        "evaluate" => ProductKind::Residuals,
-        _ => ProductKind::Model,
+        StepKind::Grid | StepKind::Fit | StepKind::Analyze | StepKind::Filter => ProductKind::Model,
+        StepKind::Spectrum => ProductKind::Spectrum,
+        StepKind::Compare => ProductKind::Comparison,
+        StepKind::Synthesize => ProductKind::Maps,
+        StepKind::Evaluate => ProductKind::Residuals,
     }
 }
 
-/// Product names a step uses, in the order written.
-pub fn step_uses(step: &StepSpec) -> Vec<String> {
-    let mut uses: Vec<String> = Vec::new();
-    uses.extend(step.input.iter().cloned());
-    uses.extend(step.model.iter().cloned());
-    uses.extend(step.models.iter().flatten().cloned());
-    uses.extend(step.points.iter().cloned());
-    uses
-}
-
-fn step_summary(step: &StepSpec) -> String {
-    let mut parts = vec![format!("uses {}", step_uses(step).join(", "))];
-    if let Some(l) = step.lmax {
+/// One line of the plan: what the step uses and its main settings.
+fn step_summary(step: &Step) -> String {
+    let mut parts = vec![format!("uses {}", step.uses().join(", "))];
+    if let Some(l) = step.lmax() {
         parts.push(format!("lmax {l}"));
     }
-    if let Some(f) = &step.filter {
-        parts.push(format!("filter {f}"));
-    }
-    if let Some(q) = &step.quantities {
-        parts.push(q.join(", "));
-    }
-    if let Some(r) = &step.regularization {
-        parts.push(format!("regularization {r}"));
+    match step {
+        Step::Fit(s) => parts.push(format!("regularization {}", s.regularization_spec())),
+        Step::Filter(s) => parts.push(format!("filter {}", s.filter)),
+        Step::Synthesize(s) => {
+            parts.push(s.quantities.join(", "));
+            if let Some(f) = &s.filter {
+                parts.push(format!("filter {f}"));
+            }
+            if let Some(h) = s.altitude_km {
+                parts.push(format!("altitude {h} km"));
+            }
+        }
+        Step::Grid(_)
+        | Step::Analyze(_)
+        | Step::Spectrum(_)
+        | Step::Compare(_)
+        | Step::Evaluate(_) => {}
     }
     parts.join("; ")
 }
@@ -287,23 +300,44 @@ fn check_body_and_output(config: &Config, problems: &mut Vec<String>) {
     }
 }
 
-fn check_input(name: &str, input: &InputSpec, base: &Path, problems: &mut Vec<String>) {
-    let path = base.join(&input.path);
+/// Refuses two steps that would write a file of the same name (e.g. a fit `x`, writing
+/// `x_model.nc`, beside a fit `x_model`), and a step file named like the run report.
+fn check_file_names(config: &Config, problems: &mut Vec<String>) {
+    let mut writer: BTreeMap<String, &str> = BTreeMap::new();
+    writer.insert("report.html".into(), "the run report");
+    for (name, step) in &config.steps {
+        for file in file_names::planned_files(name, step, &config.output) {
+            match writer.get(&file) {
+                Some(other) => problems.push(format!(
+                    "steps.{name}: would write {file}, as {other} does; rename the step"
+                )),
+                None => {
+                    writer.insert(file, name);
+                }
+            }
+        }
+    }
+}
+
+fn check_input(name: &str, input: &Input, base: &Path, problems: &mut Vec<String>) {
+    let path = base.join(input.path());
     if !path.is_file() {
         problems.push(format!(
             "inputs.{name}.path: no such file: {}",
             path.display()
         ));
     }
-    check_choice(
-        &format!("inputs.{name}.on_bad_row"),
-        input.on_bad_row.as_deref(),
-        &["error", "skip"],
-        problems,
-    );
+    if let Input::Points(p) = input {
+        check_choice(
+            &format!("inputs.{name}.on_bad_row"),
+            p.on_bad_row.as_deref(),
+            &["error", "skip"],
+            problems,
+        );
+    }
     check_choice(
         &format!("inputs.{name}.quantity"),
-        input.quantity.as_deref(),
+        input.quantity(),
         &["value", "potential"],
         problems,
     );
@@ -323,182 +357,186 @@ fn check_choice(path: &str, given: Option<&str>, known: &[&str], problems: &mut 
     }
 }
 
+/// Checks of one step's settings beyond their types: the products it names exist and are of
+/// the right kind, degrees and numbers lie in range, and specs parse with the parsers the run
+/// uses.
 fn check_step(
     name: &str,
-    step: &StepSpec,
+    step: &Step,
     kinds: &BTreeMap<String, ProductKind>,
     base: &Path,
     problems: &mut Vec<String>,
 ) {
     let at = |key: &str| format!("steps.{name}.{key}");
-    let mut need = |key: &str, value: Option<&String>, want: &[ProductKind]| match value {
-        None => problems.push(format!(
-            "{}: missing; this {} step needs it",
-            at(key),
-            step.kind
-        )),
-        Some(v) => match kinds.get(v) {
-            None => {
-                let known: Vec<&str> = kinds.keys().map(String::as_str).collect();
-                problems.push(format!(
-                    "{}: no input or step is called '{v}'{}",
-                    at(key),
-                    suggest::hint(v, &known)
-                ));
-            }
-            Some(k) if !want.contains(k) => problems.push(format!(
-                "{}: '{v}' is a {}, but a {} is needed",
+    let mut found = Vec::new();
+    let mut need = |key: &str, value: &str, want: ProductKind| match kinds.get(value) {
+        None => {
+            let known: Vec<&str> = kinds.keys().map(String::as_str).collect();
+            found.push(format!(
+                "{}: no input or step is called '{value}'{}",
                 at(key),
-                k.name(),
-                want.iter()
-                    .map(|w| w.name())
-                    .collect::<Vec<_>>()
-                    .join(" or ")
-            )),
-            Some(_) => {}
-        },
+                suggest::hint(value, &known)
+            ));
+        }
+        Some(k) if *k != want => found.push(format!(
+            "{}: '{value}' is a {}, but a {} is needed",
+            at(key),
+            k.name(),
+            want.name()
+        )),
+        Some(_) => {}
     };
     use ProductKind as P;
-    match step.kind.as_str() {
-        "grid" | "fit" => need("input", step.input.as_ref(), &[P::Points]),
-        "analyse" => need("input", step.input.as_ref(), &[P::Grid]),
-        "spectrum" | "filter" | "synthesize" => need("model", step.model.as_ref(), &[P::Model]),
-        "evaluate" => {
-            need("model", step.model.as_ref(), &[P::Model]);
-            need("points", step.points.as_ref(), &[P::Points]);
-        }
-        "compare" => match step.models.as_deref() {
-            Some([a, b]) => {
-                need("models", Some(a), &[P::Model]);
-                need("models", Some(b), &[P::Model]);
+    match step {
+        Step::Grid(s) => {
+            need("input", &s.input, P::Points);
+            check_degree(&at("lmax"), s.lmax, problems);
+            check_choice(&at("method"), s.method.as_deref(), GRID_METHODS, problems);
+            if let Some(v) = s.radius_km {
+                if !(v.is_finite() && v > 0.0) {
+                    problems.push(format!(
+                        "{}: must be a positive number of km, not {v}",
+                        at("radius_km")
+                    ));
+                }
             }
-            _ => problems.push(format!(
-                "{}: expected two model names, e.g. [\"a\", \"b\"]",
-                at("models")
-            )),
-        },
-        _ => {}
-    }
-    let needs_lmax = matches!(step.kind.as_str(), "grid" | "fit" | "analyse");
-    match step.lmax {
-        None if needs_lmax => problems.push(format!(
-            "{}: missing; give the band limit (degree)",
-            at("lmax")
-        )),
-        Some(l) if !(1..=MAX_DEGREE).contains(&l) => {
-            problems.push(format!("{}: {l} is outside 1..={MAX_DEGREE}", at("lmax")))
+            if let Some(g) = &s.gaps {
+                if let Err(e) = super::checks::check_gaps(g) {
+                    problems.push(format!("{}: {e}", at("gaps")));
+                }
+            }
         }
-        _ => {}
-    }
-    if step.kind == "fit" && step.lmax.is_some_and(|l| l > 300) {
-        problems.push(format!(
-            "{}: a least-squares fit to degree {} has {} unknowns; fits go to degree 300 at most (grid the points instead)",
-            at("lmax"),
-            step.lmax.unwrap_or(0),
-            (step.lmax.unwrap_or(0) + 1).pow(2)
-        ));
-    }
-    if let Some(l) = step.grid_lmax {
-        if !(1..=MAX_DEGREE).contains(&l) {
-            problems.push(format!(
-                "{}: {l} is outside 1..={MAX_DEGREE}",
-                at("grid_lmax")
-            ));
+        Step::Fit(s) => {
+            need("input", &s.input, P::Points);
+            check_degree(&at("lmax"), s.lmax, problems);
+            if s.lmax > FitStep::MAX_DEGREE {
+                problems.push(format!(
+                    "{}: a least-squares fit to degree {} has {} unknowns; fits go to degree {} at most (grid the points instead)",
+                    at("lmax"),
+                    s.lmax,
+                    (s.lmax + 1).pow(2),
+                    FitStep::MAX_DEGREE
+                ));
+            }
+            if let Err(e) = super::checks::check_regularization(s.regularization_spec()) {
+                problems.push(format!("{}: {e}", at("regularization")));
+            }
+        }
+        Step::Analyze(s) => {
+            need("input", &s.input, P::Grid);
+            check_degree(&at("lmax"), s.lmax, problems);
+        }
+        Step::Spectrum(s) => {
+            need("model", &s.model, P::Model);
+            check_confidence(&at("confidence"), s.confidence, problems);
+            if let Some([a, b]) = s.fit_range {
+                if a < 1 || b <= a {
+                    problems.push(format!(
+                        "{}: [{a}, {b}] is not a degree range lmin < lmax with lmin ≥ 1",
+                        at("fit_range")
+                    ));
+                }
+            }
+        }
+        Step::Compare(s) => {
+            match s.models.as_slice() {
+                [a, b] => {
+                    need("models", a, P::Model);
+                    need("models", b, P::Model);
+                }
+                _ => problems.push(format!(
+                    "{}: expected two model names, e.g. [\"a\", \"b\"]",
+                    at("models")
+                )),
+            }
+            check_confidence(&at("confidence"), s.confidence, problems);
+        }
+        Step::Filter(s) => {
+            need("model", &s.model, P::Model);
+            check_filter(&at("filter"), &s.filter, base, problems);
+        }
+        Step::Synthesize(s) => {
+            need("model", &s.model, P::Model);
+            if s.quantities.is_empty() {
+                problems.push(format!(
+                    "{}: empty; list the quantities to map, e.g. [\"gravity-anomaly\"]",
+                    at("quantities")
+                ));
+            }
+            for q in &s.quantities {
+                if let Err(e) = super::checks::check_quantity(q) {
+                    problems.push(format!("{}: {e}", at("quantities")));
+                }
+            }
+            if let Some(l) = s.grid_lmax {
+                check_degree(&at("grid_lmax"), l, problems);
+            }
+            check_altitude(&at("altitude_km"), s.altitude_km, problems);
+            if let Some(f) = &s.filter {
+                check_filter(&at("filter"), f, base, problems);
+            }
+        }
+        Step::Evaluate(s) => {
+            need("model", &s.model, P::Model);
+            need("points", &s.points, P::Points);
+            if let Some(q) = &s.quantity {
+                if let Err(e) = super::checks::check_quantity(q) {
+                    problems.push(format!("{}: {e}", at("quantity")));
+                }
+            }
+            check_altitude(&at("altitude_km"), s.altitude_km, problems);
         }
     }
-    check_choice(
-        &at("method"),
-        step.method.as_deref(),
-        GRID_METHODS,
-        problems,
-    );
-    if let Some(g) = &step.gaps {
-        if let Err(e) = super::checks::check_gaps(g) {
-            problems.push(format!("{}: {e}", at("gaps")));
-        }
+    problems.extend(found);
+}
+
+fn check_degree(path: &str, lmax: usize, problems: &mut Vec<String>) {
+    if !(1..=MAX_DEGREE).contains(&lmax) {
+        problems.push(format!("{path}: {lmax} is outside 1..={MAX_DEGREE}"));
     }
-    if let Some(r) = &step.regularization {
-        if let Err(e) = super::checks::check_regularization(r) {
-            problems.push(format!("{}: {e}", at("regularization")));
-        }
-    }
-    if let Some(v) = step.radius_km {
-        if !(v.is_finite() && v > 0.0) {
-            problems.push(format!(
-                "{}: must be a positive number of km, not {v}",
-                at("radius_km")
-            ));
-        }
-    }
-    if let Some(c) = step.confidence {
+}
+
+fn check_confidence(path: &str, confidence: Option<f64>, problems: &mut Vec<String>) {
+    if let Some(c) = confidence {
         if !(c > 0.0 && c < 1.0) {
             problems.push(format!(
-                "{}: must lie strictly between 0 and 1, not {c}",
-                at("confidence")
+                "{path}: must lie strictly between 0 and 1, not {c}"
             ));
-        }
-    }
-    if let Some([a, b]) = step.fit_range {
-        if a < 1 || b <= a {
-            problems.push(format!(
-                "{}: [{a}, {b}] is not a degree range lmin < lmax with lmin ≥ 1",
-                at("fit_range")
-            ));
-        }
-    }
-    if let Some(alt) = step.altitude_m {
-        if !alt.is_finite() {
-            problems.push(format!(
-                "{}: must be a finite number of metres",
-                at("altitude_m")
-            ));
-        }
-    }
-    if step.kind == "synthesize" && step.quantities.as_ref().map_or(true, |q| q.is_empty()) {
-        problems.push(format!(
-            "{}: missing; list the quantities to map, e.g. [\"gravity-anomaly\"]",
-            at("quantities")
-        ));
-    }
-    for q in step.quantities.iter().flatten().chain(step.quantity.iter()) {
-        if let Err(e) = super::checks::check_quantity(q) {
-            problems.push(format!(
-                "{}: {e}",
-                at(if step.quantity.as_ref() == Some(q) {
-                    "quantity"
-                } else {
-                    "quantities"
-                })
-            ));
-        }
-    }
-    if step.kind == "filter" && step.filter.is_none() {
-        problems.push(format!(
-            "{}: missing; give a filter such as \"gauss:300\"",
-            at("filter")
-        ));
-    }
-    if let Some(f) = &step.filter {
-        if let Err(e) = super::checks::check_filter(f, base) {
-            problems.push(format!("{}: {e}", at("filter")));
         }
     }
 }
 
-/// Band limit of each model product: given for grid, fit and analyse steps, inherited by
+fn check_altitude(path: &str, altitude_km: Option<f64>, problems: &mut Vec<String>) {
+    if let Some(h) = altitude_km {
+        if !h.is_finite() {
+            problems.push(format!("{path}: must be a finite number of km, not {h}"));
+        }
+    }
+}
+
+fn check_filter(path: &str, spec: &str, base: &Path, problems: &mut Vec<String>) {
+    if let Err(e) = super::checks::check_filter(spec, base) {
+        problems.push(format!("{path}: {e}"));
+    }
+}
+
+/// Band limit of each model product: given for grid, fit and analyze steps, inherited by
 /// filters. Model inputs are unknown until read (left out).
 fn model_degrees(config: &Config, levels: &[Vec<String>]) -> BTreeMap<String, usize> {
     let mut out = BTreeMap::new();
     for name in levels.iter().flatten() {
-        if let Some(step) = config.steps.get(name) {
-            let l = match step.kind.as_str() {
-                "grid" | "fit" | "analyse" => step.lmax,
-                "filter" => step.model.as_ref().and_then(|m| out.get(m).copied()),
-                _ => None,
-            };
-            if let Some(l) = l {
-                out.insert(name.clone(), l);
-            }
+        let Some(step) = config.steps.get(name) else {
+            continue;
+        };
+        let l = match step {
+            Step::Grid(s) => Some(s.lmax),
+            Step::Fit(s) => Some(s.lmax),
+            Step::Analyze(s) => Some(s.lmax),
+            Step::Filter(s) => out.get(&s.model).copied(),
+            Step::Spectrum(_) | Step::Compare(_) | Step::Synthesize(_) | Step::Evaluate(_) => None,
+        };
+        if let Some(l) = l {
+            out.insert(name.clone(), l);
         }
     }
     out

@@ -6,7 +6,7 @@ use std::time::Instant;
 
 use rayon::prelude::*;
 
-use super::config::InputSpec;
+use super::config::{Input, Step};
 use super::job::Job;
 use super::outputs::{OutputFile, Staging};
 use super::products::{Points, Product};
@@ -123,14 +123,14 @@ fn run_staged(
         let syntheses: Vec<&String> = names
             .iter()
             .copied()
-            .filter(|n| job.config.steps[n.as_str()].kind == "synthesize")
+            .filter(|n| matches!(job.config.steps[n.as_str()], Step::Synthesize(_)))
             .collect();
         let parallel_bytes: u64 = job
             .memory
             .items
             .iter()
-            .filter(|(s, _, _)| syntheses.iter().any(|n| *n == s))
-            .map(|(_, _, b)| *b)
+            .filter(|item| syntheses.iter().any(|n| **n == item.step))
+            .map(|item| item.bytes)
             .sum();
         let parallel = syntheses.len() > 1
             && crate::memory::check_fits("parallel syntheses", parallel_bytes).is_ok();
@@ -145,7 +145,7 @@ fn run_staged(
             let t = Instant::now();
             let step = &job.config.steps[name.as_str()];
             let outcome = run_step(name, step, &env).map_err(|e| {
-                crate::Error::invalid(format!("step '{name}' ({}): {e}", step.kind))
+                crate::Error::invalid(format!("step '{name}' ({}): {e}", step.kind().name()))
             })?;
             Ok((name.clone(), outcome, t.elapsed().as_secs_f64()))
         };
@@ -161,7 +161,10 @@ fn run_staged(
             if parallel && syntheses.contains(n) {
                 continue;
             }
-            progress.note(&format!("{n} ({})", job.config.steps[n.as_str()].kind));
+            progress.note(&format!(
+                "{n} ({})",
+                job.config.steps[n.as_str()].kind().name()
+            ));
             results.push(run_one(n)?);
         }
         // records, report blocks and the summary follow the level's name order, whatever ran
@@ -187,7 +190,7 @@ fn run_staged(
             }
             rows.push(StepRow {
                 name: name.clone(),
-                kind: job.config.steps[name.as_str()].kind.clone(),
+                kind: job.config.steps[name.as_str()].kind().name().to_string(),
                 seconds,
                 numbers: outcome.numbers,
             });
@@ -209,10 +212,10 @@ fn run_staged(
     Ok((rows, start.elapsed().as_secs_f64()))
 }
 
-fn load_input(job: &Job, name: &str, input: &InputSpec) -> Result<(Product, Vec<Block>)> {
+fn load_input(job: &Job, name: &str, input: &Input) -> Result<(Product, Vec<Block>)> {
     let path = job.input_path(name).unwrap_or_default();
-    match input.kind.as_str() {
-        "points" => {
+    match input {
+        Input::Points(input) => {
             let mut columns = ColumnNames::default();
             if let Some(c) = &input.columns {
                 for (slot, given) in [
@@ -278,7 +281,7 @@ fn load_input(job: &Job, name: &str, input: &InputSpec) -> Result<(Product, Vec<
                 blocks,
             ))
         }
-        "grid" => {
+        Input::Grid(input) => {
             let g = read_grid(
                 &path,
                 &GridReadOptions {
@@ -301,7 +304,7 @@ fn load_input(job: &Job, name: &str, input: &InputSpec) -> Result<(Product, Vec<
             }];
             Ok((Product::Grid(Box::new(g)), blocks))
         }
-        _ => {
+        Input::Model(_) => {
             let m = read_model(&path)?;
             let blocks = vec![Block::Paragraph(format!(
                 "Model '{name}' ({}): degree {}, {} normalisation, units {}",

@@ -1,152 +1,95 @@
-//! Which keys each table of a config accepts, and the check that finds unknown ones.
+//! The key check of a config: every unknown key or kind, with its TOML path and the nearest
+//! valid name, and every missing required key — all reported together, before the config is
+//! read into its types.
 //!
-//! serde's `deny_unknown_fields` stops at the first unknown key and suggests nothing; this walk
-//! reports every unknown key with its TOML path and the nearest valid key, e.g.
-//! `steps.fit.regularisation: unknown key; did you mean 'regularization'?`. Step and input
-//! tables accept the keys of their `kind` only, so a key that belongs to another kind of step is
-//! reported too.
+//! serde's `deny_unknown_fields` stops at the first unknown key, suggests nothing and does not
+//! work with the internally tagged step and input enums, so this walk does the job. The keys a
+//! table accepts are the fields of the struct it is read into (`field_names.rs`), and a step or
+//! input accepts the keys of its own `kind` only, so a key of another kind is reported too, e.g.
+//! `steps.fit.regularisation: unknown key; did you mean 'regularization'?`.
 
+use serde::de::DeserializeOwned;
+
+use super::config::{BodySection, Config, JobSection, OutputSection};
+use super::field_names::field_names;
+use super::input_spec::{ColumnMap, Input, InputKind};
+use super::step_spec::{Step, StepKind};
 use super::suggest;
 
-/// Top-level tables.
-pub const TOP_KEYS: &[&str] = &["job", "body", "output", "inputs", "steps"];
-pub const JOB_KEYS: &[&str] = &["title", "description"];
-pub const BODY_KEYS: &[&str] = &["name", "radius_m", "gm_m3_s2"];
-pub const OUTPUT_KEYS: &[&str] = &["folder", "formats", "float32", "lon_convention"];
-pub const COLUMN_KEYS: &[&str] = &["lat", "lon", "value", "sigma"];
+/// Keys that kugel once spelled otherwise, with a note on what changed beside the name. The
+/// nearest-key hint already points to the new name; the note says what else to change.
+const RENAMED_KEYS: &[(&str, &str)] = &[(
+    "altitude_m",
+    "altitudes are given in km: divide the value by 1000",
+)];
 
-/// Input kinds and the keys each accepts.
-pub const INPUT_KINDS: &[(&str, &[&str])] = &[
-    (
-        "points",
-        &["kind", "path", "columns", "on_bad_row", "quantity", "units"],
-    ),
-    ("grid", &["kind", "path", "variable", "quantity", "units"]),
-    ("model", &["kind", "path"]),
-];
-
-/// Step kinds and the keys each accepts.
-pub const STEP_KINDS: &[(&str, &[&str])] = &[
-    (
-        "grid",
-        &[
-            "kind",
-            "input",
-            "lmax",
-            "method",
-            "radius_km",
-            "neighbours",
-            "gaps",
-        ],
-    ),
-    ("fit", &["kind", "input", "lmax", "regularization"]),
-    ("analyse", &["kind", "input", "lmax"]),
-    ("spectrum", &["kind", "model", "confidence", "fit_range"]),
-    (
-        "compare",
-        &[
-            "kind",
-            "models",
-            "confidence",
-            "cross_quantity",
-            "from_degree",
-        ],
-    ),
-    ("filter", &["kind", "model", "filter"]),
-    (
-        "synthesize",
-        &[
-            "kind",
-            "model",
-            "quantities",
-            "altitude_m",
-            "filter",
-            "grid_lmax",
-        ],
-    ),
-    (
-        "evaluate",
-        &["kind", "model", "points", "quantity", "altitude_m"],
-    ),
-];
-
-fn names(kinds: &[(&'static str, &'static [&'static str])]) -> Vec<&'static str> {
-    kinds.iter().map(|(k, _)| *k).collect()
-}
-
-/// Names of the step kinds, in the order of [`STEP_KINDS`].
-pub fn step_kind_names() -> Vec<&'static str> {
-    names(STEP_KINDS)
-}
-
-/// Names of the input kinds.
-pub fn input_kind_names() -> Vec<&'static str> {
-    names(INPUT_KINDS)
-}
-
-/// Keys accepted by a step of `kind`, or `None` for an unknown kind.
-pub fn step_keys(kind: &str) -> Option<&'static [&'static str]> {
-    STEP_KINDS
-        .iter()
-        .find(|(k, _)| *k == kind)
-        .map(|(_, keys)| *keys)
-}
-
-fn input_keys(kind: &str) -> Option<&'static [&'static str]> {
-    INPUT_KINDS
-        .iter()
-        .find(|(k, _)| *k == kind)
-        .map(|(_, keys)| *keys)
-}
-
-/// Walks a parsed config and returns one message per unknown key or kind, each starting with
-/// its TOML path. An empty list means every key is known.
+/// Walks a parsed config and returns one message per unknown key or kind and per missing
+/// required key, each starting with its TOML path. An empty list means the config can be read.
 pub fn check_keys(root: &toml::Value) -> Vec<String> {
     let mut problems = Vec::new();
     let Some(top) = root.as_table() else {
         return vec!["the config is not a TOML table".into()];
     };
-    check_table(top, "", TOP_KEYS, &mut problems);
+    check_table(top, "", field_names::<Config>(), &mut problems);
     for (section, keys) in [
-        ("job", JOB_KEYS),
-        ("body", BODY_KEYS),
-        ("output", OUTPUT_KEYS),
+        ("job", field_names::<JobSection>()),
+        ("body", field_names::<BodySection>()),
+        ("output", field_names::<OutputSection>()),
     ] {
         if let Some(t) = top.get(section).and_then(|v| v.as_table()) {
             check_table(t, section, keys, &mut problems);
         }
     }
-    let input_kinds = input_kind_names();
-    if let Some(inputs) = top.get("inputs").and_then(|v| v.as_table()) {
-        for (name, value) in inputs {
-            let path = format!("inputs.{name}");
-            let Some(t) = value.as_table() else {
-                problems.push(format!("{path}: expected a table such as [{path}]"));
-                continue;
-            };
-            match kind_of(t, &path, &input_kinds, &mut problems).and_then(input_keys) {
-                Some(keys) => check_table(t, &path, keys, &mut problems),
-                None => continue,
-            }
-            if let Some(c) = t.get("columns").and_then(|v| v.as_table()) {
-                check_table(c, &format!("{path}.columns"), COLUMN_KEYS, &mut problems);
-            }
+    for (name, value) in named_tables(top, "inputs", &mut problems) {
+        let path = format!("inputs.{name}");
+        let Some(kind) = kind_of(value, &path, &InputKind::names(), &mut problems) else {
+            continue;
+        };
+        let kind = InputKind::from_name(kind).expect("kind_of returns known names");
+        if check_table(value, &path, &kind.keys(), &mut problems) {
+            check_required::<Input>(value, &path, kind.name(), &mut problems);
+        }
+        if let Some(c) = value.get("columns").and_then(|v| v.as_table()) {
+            check_table(
+                c,
+                &format!("{path}.columns"),
+                field_names::<ColumnMap>(),
+                &mut problems,
+            );
         }
     }
-    let step_kinds = step_kind_names();
-    if let Some(steps) = top.get("steps").and_then(|v| v.as_table()) {
-        for (name, value) in steps {
-            let path = format!("steps.{name}");
-            let Some(t) = value.as_table() else {
-                problems.push(format!("{path}: expected a table such as [{path}]"));
-                continue;
-            };
-            if let Some(keys) = kind_of(t, &path, &step_kinds, &mut problems).and_then(step_keys) {
-                check_table(t, &path, keys, &mut problems);
-            }
+    for (name, value) in named_tables(top, "steps", &mut problems) {
+        let path = format!("steps.{name}");
+        let Some(kind) = kind_of(value, &path, &StepKind::names(), &mut problems) else {
+            continue;
+        };
+        let kind = StepKind::from_name(kind).expect("kind_of returns known names");
+        if check_table(value, &path, &kind.keys(), &mut problems) {
+            check_required::<Step>(value, &path, kind.name(), &mut problems);
         }
     }
     problems
+}
+
+/// The tables under `[section.NAME]`, reporting entries that are not tables.
+fn named_tables<'t>(
+    top: &'t toml::Table,
+    section: &str,
+    problems: &mut Vec<String>,
+) -> Vec<(&'t String, &'t toml::Table)> {
+    let Some(tables) = top.get(section).and_then(|v| v.as_table()) else {
+        return Vec::new();
+    };
+    let mut out = Vec::new();
+    for (name, value) in tables {
+        match value.as_table() {
+            Some(t) => out.push((name, t)),
+            None => problems.push(format!(
+                "{section}.{name}: expected a table such as [{section}.{name}]"
+            )),
+        }
+    }
+    out
 }
 
 /// The `kind` of an input or step table, reporting a missing or unknown kind.
@@ -182,16 +125,58 @@ fn kind_of<'t>(
     }
 }
 
-fn check_table(t: &toml::Table, path: &str, known: &[&str], problems: &mut Vec<String>) {
+/// Reports every key of `t` not in `known`; true when all are known.
+fn check_table(t: &toml::Table, path: &str, known: &[&str], problems: &mut Vec<String>) -> bool {
+    let before = problems.len();
     for key in t.keys() {
-        if !known.contains(&key.as_str()) {
-            let full = if path.is_empty() {
-                key.clone()
-            } else {
-                format!("{path}.{key}")
-            };
-            problems.push(format!("{full}: unknown key{}", suggest::hint(key, known)));
+        if known.contains(&key.as_str()) {
+            continue;
         }
+        let full = if path.is_empty() {
+            key.clone()
+        } else {
+            format!("{path}.{key}")
+        };
+        let note = RENAMED_KEYS
+            .iter()
+            .find(|(old, _)| old == key)
+            .map(|(_, note)| format!(" ({note})"))
+            .unwrap_or_default();
+        problems.push(format!(
+            "{full}: unknown key{}{note}",
+            suggest::hint(key, known)
+        ));
+    }
+    problems.len() == before
+}
+
+/// Reads the table as a `T` and reports the required keys it lacks, each with its path. Other
+/// read errors (wrong types) are left to the typed read of the whole file, whose messages
+/// carry line numbers.
+fn check_required<T: DeserializeOwned>(
+    t: &toml::Table,
+    path: &str,
+    kind: &str,
+    problems: &mut Vec<String>,
+) {
+    let table = if path.starts_with("inputs.") {
+        "input"
+    } else {
+        "step"
+    };
+    let Err(e) = toml::Value::Table(t.clone()).try_into::<T>() else {
+        return;
+    };
+    // serde's derive words a missing field as "missing field `NAME`"
+    let message = e.to_string();
+    if let Some(field) = message
+        .split_once("missing field `")
+        .and_then(|(_, rest)| rest.split_once('`'))
+        .map(|(field, _)| field)
+    {
+        problems.push(format!(
+            "{path}.{field}: missing; this {kind} {table} needs it"
+        ));
     }
 }
 
@@ -205,7 +190,9 @@ mod tests {
 
     #[test]
     fn unknown_step_key_names_path_and_suggestion() {
-        let p = problems("[steps.fit]\nkind = \"fit\"\nregularisation = \"gcv\"\n");
+        let p = problems(
+            "[steps.fit]\nkind = \"fit\"\ninput = \"a\"\nlmax = 3\nregularisation = \"gcv\"\n",
+        );
         assert_eq!(
             p,
             vec!["steps.fit.regularisation: unknown key; did you mean 'regularization'?"]
@@ -215,7 +202,7 @@ mod tests {
     #[test]
     fn key_of_another_step_kind_is_rejected() {
         // radius_km belongs to grid steps, not fits
-        let p = problems("[steps.f]\nkind = \"fit\"\nradius_km = 100.0\n");
+        let p = problems("[steps.f]\nkind = \"fit\"\ninput = \"a\"\nlmax = 3\nradius_km = 100.0\n");
         assert_eq!(p.len(), 1);
         assert!(p[0].starts_with("steps.f.radius_km: unknown key"), "{p:?}");
     }
@@ -247,30 +234,25 @@ mod tests {
     }
 
     #[test]
-    fn every_listed_key_is_a_field_of_the_typed_config() {
-        // a key listed here but missing from config.rs would be rejected by serde later
-        let fields: Vec<&str> = STEP_KINDS
-            .iter()
-            .flat_map(|(_, k)| k.iter().copied())
-            .collect();
-        for key in fields {
-            let value = match key {
-                "kind" => "kind = \"fit\"".to_string(),
-                "models" | "quantities" => format!("{key} = [\"a\", \"b\"]"),
-                "fit_range" => "fit_range = [2, 10]".into(),
-                "lmax" | "neighbours" | "grid_lmax" | "from_degree" => format!("{key} = 3"),
-                "cross_quantity" => format!("{key} = true"),
-                "radius_km" | "altitude_m" | "confidence" => format!("{key} = 1.0"),
-                _ => format!("{key} = \"x\""),
-            };
-            let extra = if key == "kind" {
-                String::new()
-            } else {
-                "kind = \"fit\"\n".into()
-            };
-            let text = format!("{extra}{value}\n");
-            let r: Result<super::super::config::StepSpec, _> = toml::from_str(&text);
-            assert!(r.is_ok(), "{key}: {r:?}");
-        }
+    fn missing_required_keys_are_all_reported() {
+        let p = problems("[steps.a]\nkind = \"fit\"\nlmax = 3\n[steps.b]\nkind = \"filter\"\nfilter = \"gauss:100\"\n");
+        assert_eq!(
+            p,
+            vec![
+                "steps.a.input: missing; this fit step needs it",
+                "steps.b.model: missing; this filter step needs it"
+            ]
+        );
+    }
+
+    #[test]
+    fn old_altitude_key_points_to_km() {
+        let p = problems(
+            "[steps.e]\nkind = \"evaluate\"\nmodel = \"m\"\npoints = \"p\"\naltitude_m = 5000.0\n",
+        );
+        assert_eq!(
+            p,
+            vec!["steps.e.altitude_m: unknown key; did you mean 'altitude_km'? (altitudes are given in km: divide the value by 1000)"]
+        );
     }
 }

@@ -80,12 +80,9 @@ impl TransformPlan {
         }
         // Refuse before planning anything: a plan is only useful if one field and one
         // coefficient set of its shape fit in memory.
-        let (nlat, nlon) = (grid.nlat() as f64, grid.nlon as f64);
-        let l1 = lmax as f64 + 1.0;
-        let estimate = nlat * nlon * 8.0 + l1 * (l1 + 1.0) * 8.0 + nlon * 48.0;
         memory::check_fits(
             &format!("a transform to degree {lmax} on a {} x {} grid (one field and one coefficient set)", grid.nlat(), grid.nlon),
-            estimate.min(u64::MAX as f64) as u64,
+            plan_memory_bytes(lmax, grid.nlat(), grid.nlon),
         )?;
         let mut planner = RealFftPlanner::<f64>::new();
         let symmetric = is_symmetric(grid);
@@ -143,25 +140,16 @@ impl TransformPlan {
     /// Bytes a synthesis needs beyond its input (output grid, converted input, scratch).
     pub fn synthesis_bytes(&self, outputs: usize) -> u64 {
         let (nlat, nlon) = self.grid.shape();
-        let threads = rayon::current_num_threads() as u64;
-        (outputs * nlat * nlon * 8) as u64
-            + (2 * packed_len(self.lmax) * 8) as u64
-            + threads * (OrderScratch::bytes(self.lmax) + (nlon as u64) * 48)
+        synthesis_memory_bytes(self.lmax, nlat, nlon, outputs)
     }
 
     /// Bytes an analysis needs beyond its input (coefficients, ring spectra, scratch).
     pub fn analysis_bytes(&self) -> u64 {
-        let threads = rayon::current_num_threads() as u64;
-        (2 * packed_len(self.lmax) * 8) as u64
-            + self.analysis_chunk_lanes() as u64 * 2 * (self.lmax as u64 + 1) * 16
-            + threads * (OrderScratch::bytes(self.lmax) + (self.grid.nlon as u64) * 48)
+        analysis_memory_bytes(self.lmax, self.grid.nlon, self.lanes.len())
     }
 
     fn analysis_chunk_lanes(&self) -> usize {
-        let per_lane = 2 * (self.lmax + 1) * 16;
-        let w = 16; // a multiple of every path's lane count
-        let lanes = (ANALYSIS_CHUNK_BYTES / per_lane).max(w) / w * w;
-        lanes.min(self.lanes.len().div_ceil(w) * w)
+        analysis_chunk_lanes(self.lmax, self.lanes.len())
     }
 
     /// Analyses a field (nlat × nlon, rows north to south) into `geodesy` coefficients.
@@ -512,4 +500,41 @@ impl RingScratch {
             ],
         }
     }
+}
+
+/// Bytes [`TransformPlan::new`] checks before planning: one field of nlat × nlon doubles, one
+/// coefficient set to `lmax` and the FFT buffers of one ring.
+pub fn plan_memory_bytes(lmax: usize, nlat: usize, nlon: usize) -> u64 {
+    let (nlat, nlon) = (nlat as f64, nlon as f64);
+    let l1 = lmax as f64 + 1.0;
+    let estimate = nlat * nlon * 8.0 + l1 * (l1 + 1.0) * 8.0 + nlon * 48.0;
+    estimate.min(u64::MAX as f64) as u64
+}
+
+/// Bytes a synthesis to `lmax` on an nlat × nlon grid needs beyond its input, for `outputs`
+/// grids ([`TransformPlan::synthesis_bytes`] of such a plan).
+pub fn synthesis_memory_bytes(lmax: usize, nlat: usize, nlon: usize, outputs: usize) -> u64 {
+    let threads = rayon::current_num_threads() as u64;
+    (outputs * nlat * nlon * 8) as u64
+        + (2 * packed_len(lmax) * 8) as u64
+        + threads * (OrderScratch::bytes(lmax) + (nlon as u64) * 48)
+}
+
+/// Bytes an analysis to `lmax` needs beyond its input, for a grid of `nlon` longitudes whose
+/// rings form `lanes` lanes (nlat, or ⌈nlat/2⌉ for a grid symmetric about the equator)
+/// ([`TransformPlan::analysis_bytes`] of such a plan).
+pub fn analysis_memory_bytes(lmax: usize, nlon: usize, lanes: usize) -> u64 {
+    let threads = rayon::current_num_threads() as u64;
+    (2 * packed_len(lmax) * 8) as u64
+        + analysis_chunk_lanes(lmax, lanes) as u64 * 2 * (lmax as u64 + 1) * 16
+        + threads * (OrderScratch::bytes(lmax) + (nlon as u64) * 48)
+}
+
+/// Lanes whose ring spectra an analysis holds at once: as many as fit in
+/// `ANALYSIS_CHUNK_BYTES`, a multiple of 16, no more than the grid has.
+fn analysis_chunk_lanes(lmax: usize, lanes: usize) -> usize {
+    let per_lane = 2 * (lmax + 1) * 16;
+    let w = 16; // a multiple of every path's lane count
+    let chunk = (ANALYSIS_CHUNK_BYTES / per_lane).max(w) / w * w;
+    chunk.min(lanes.div_ceil(w) * w)
 }

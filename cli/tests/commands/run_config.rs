@@ -49,3 +49,28 @@ fn dry_run_and_exit_code_from_the_binary() {
     assert!(String::from_utf8_lossy(&bad.stderr)
         .contains("steps.f.kind: unknown kind 'fti'; did you mean 'fit'?"));
 }
+
+#[test]
+fn dry_run_prints_plan_and_estimate() {
+    let tmp = tempfile::tempdir().unwrap();
+    write_config(
+        tmp.path(),
+        "[steps.f]\nkind = \"fit\"\ninput = \"pts\"\nlmax = 4\n",
+    );
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_kugel"))
+        .args(["run", "--dry-run"])
+        .arg(tmp.path().join("job.toml"))
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    // a fit without `regularization` is unregularized, as on the command line
+    assert!(stdout.contains("regularization none"), "{stdout}");
+    assert!(stdout.contains("memory estimate"), "{stdout}");
+    assert!(
+        stdout.contains("normal matrices of 25 unknowns"),
+        "{stdout}"
+    );
+    assert!(stdout.contains("peak about"), "{stdout}");
+    assert!(!tmp.path().join("out").exists(), "a dry run writes nothing");
+}

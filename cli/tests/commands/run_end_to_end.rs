@@ -84,8 +84,7 @@ fn reduced_demo_runs_and_outputs_reopen() {
     assert_eq!(spectrum.columns[0].values.len(), 13);
     read_degree_table(&out.join("surveys.csv")).unwrap();
     // residual table, pictures and the report exist
-    let residuals =
-        kugel::io::csv_table::read_csv_table(&out.join("residuals_residuals.csv")).unwrap();
+    let residuals = kugel::io::csv_table::read_csv_table(&out.join("residuals.csv")).unwrap();
     assert_eq!(residuals.rows.len(), 1500);
     for f in [
         "maps_gravity_anomaly.png",

@@ -12,8 +12,9 @@ use crate::field::synthesis::{
 use crate::io::csv_table::write_csv_table;
 use crate::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use crate::io::provenance::Provenance;
-use crate::pipeline::config::StepSpec;
+use crate::pipeline::file_names::StepFiles;
 use crate::pipeline::products::Product;
+use crate::pipeline::step_spec::{EvaluateStep, SynthesizeStep};
 use crate::report::html::Block;
 use crate::report::maps::{render_map_png, render_points_png, MapStyle};
 use crate::sht::GaussGrid;
@@ -36,15 +37,15 @@ fn quantities(names: &[String]) -> Result<Vec<Quantity>> {
     names.iter().map(|q| q.parse::<Quantity>()).collect()
 }
 
-pub fn synthesize(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
-    let model = env.model(step.model.as_ref())?;
-    let qs = quantities(step.quantities.as_deref().unwrap_or_default())?;
+pub fn synthesize(name: &str, step: &SynthesizeStep, env: &StepEnv) -> Result<StepOutcome> {
+    let model = env.model(&step.model)?;
+    let qs = quantities(&step.quantities)?;
     let chain = step
         .filter
         .as_deref()
         .map(|f| FilterChain::parse_relative_to(f, &env.job.base_dir))
         .transpose()?;
-    let altitude_m = step.altitude_m.unwrap_or(0.0);
+    let altitude_m = step.altitude_km.unwrap_or(0.0) * 1e3;
     let surface = if altitude_m == 0.0 {
         TargetSurface::ReferenceSphere
     } else {
@@ -93,7 +94,7 @@ pub fn synthesize(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutc
             lon0_deg: grid.lon0_rad.to_degrees(),
         };
         let png = render_map_png(data, &style);
-        let png_name = format!("{name}_{}.png", q.variable_name());
+        let png_name = StepFiles(name).map_png(&q.variable_name());
         if env.job.config.output.wants("png") {
             crate::io::atomic::write_bytes_atomic(&env.staging_dir.join(&png_name), &png)?;
             out.files.push((png_name, format!("map of {}", q.name())));
@@ -128,7 +129,7 @@ pub fn synthesize(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutc
         model.reference_radius_m.to_string(),
     ));
     let prov = env.provenance_for(Some(model.lmax()), filter_text);
-    let nc = format!("{name}.nc");
+    let nc = StepFiles(name).main("nc");
     if env.job.config.output.wants("netcdf") {
         write_grid(
             &env.staging_dir.join(&nc),
@@ -142,16 +143,16 @@ pub fn synthesize(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutc
     Ok(out)
 }
 
-pub fn evaluate(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
-    let model = env.model(step.model.as_ref())?;
-    let points = env.points(step.points.as_ref())?;
+pub fn evaluate(name: &str, step: &EvaluateStep, env: &StepEnv) -> Result<StepOutcome> {
+    let model = env.model(&step.model)?;
+    let points = env.points(&step.points)?;
     let default_q = if points.quantity == "potential" {
         "potential"
     } else {
         "value"
     };
     let q: Quantity = step.quantity.as_deref().unwrap_or(default_q).parse()?;
-    let radius = model.reference_radius_m + step.altitude_m.unwrap_or(0.0);
+    let radius = model.reference_radius_m + step.altitude_km.unwrap_or(0.0) * 1e3;
     let sites: Vec<GeocentricPoint> = points
         .set
         .lat_deg
@@ -187,7 +188,7 @@ pub fn evaluate(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcom
                 ]
             })
             .collect();
-        let file = format!("{name}_residuals.csv");
+        let file = StepFiles(name).residuals("csv");
         write_csv_table(
             &env.staging_dir.join(&file),
             &["lat_deg", "lon_deg", "observed", "model", "residual"],
@@ -214,7 +215,7 @@ pub fn evaluate(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcom
     };
     let png = render_points_png(&points.set.lat_deg, &points.set.lon_deg, &residual, &style);
     if env.job.config.output.wants("png") {
-        let file = format!("{name}_residuals.png");
+        let file = StepFiles(name).residuals("png");
         crate::io::atomic::write_bytes_atomic(&env.staging_dir.join(&file), &png)?;
         out.files.push((file, "residual map".into()));
     }

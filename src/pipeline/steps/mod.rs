@@ -9,7 +9,7 @@ mod spectra;
 use std::collections::BTreeMap;
 use std::path::Path;
 
-use super::config::StepSpec;
+use super::config::Step;
 use super::job::Job;
 use super::products::{Points, Product};
 use crate::error::{Error, Result};
@@ -44,14 +44,12 @@ impl StepEnv<'_> {
             ))
         })
     }
-    fn model(&self, name: Option<&String>) -> Result<&crate::coeffs::Coefficients> {
-        let name = name.ok_or_else(|| Error::invalid("a model is required"))?;
+    fn model(&self, name: &str) -> Result<&crate::coeffs::Coefficients> {
         self.product(name)?
             .as_model()
             .ok_or_else(|| Error::invalid(format!("'{name}' is not a model")))
     }
-    fn points(&self, name: Option<&String>) -> Result<&Points> {
-        let name = name.ok_or_else(|| Error::invalid("a point set is required"))?;
+    fn points(&self, name: &str) -> Result<&Points> {
         self.product(name)?
             .as_points()
             .ok_or_else(|| Error::invalid(format!("'{name}' is not a point set")))
@@ -80,18 +78,15 @@ pub struct StepOutcome {
 }
 
 /// Runs one step.
-pub fn run_step(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
-    match step.kind.as_str() {
-        "grid" => observe::grid(name, step, env),
-        "fit" => observe::fit(name, step, env),
-        "analyse" => models::analyse(name, step, env),
-        "filter" => models::filter(name, step, env),
-        "spectrum" => spectra::spectrum(name, step, env),
-        "compare" => spectra::compare(name, step, env),
-        "synthesize" => field::synthesize(name, step, env),
-        "evaluate" => field::evaluate(name, step, env),
-        other => Err(Error::invalid(format!(
-            "steps.{name}.kind: unknown kind '{other}'"
-        ))),
+pub fn run_step(name: &str, step: &Step, env: &StepEnv) -> Result<StepOutcome> {
+    match step {
+        Step::Grid(s) => observe::grid(name, s, env),
+        Step::Fit(s) => observe::fit(name, s, env),
+        Step::Analyze(s) => models::analyze(name, s, env),
+        Step::Filter(s) => models::filter(name, s, env),
+        Step::Spectrum(s) => spectra::spectrum(name, s, env),
+        Step::Compare(s) => spectra::compare(name, s, env),
+        Step::Synthesize(s) => field::synthesize(name, s, env),
+        Step::Evaluate(s) => field::evaluate(name, s, env),
     }
 }

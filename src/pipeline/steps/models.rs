@@ -1,25 +1,23 @@
-//! analyse and filter steps: grids to coefficients (`sht`), degree-domain filters
+//! analyze and filter steps: grids to coefficients (`sht`), degree-domain filters
 //! (`spectral::filter`).
 
 use super::{ReportPart, StepEnv, StepOutcome};
 use crate::error::{Error, Result};
 use crate::io::model::write_model;
-use crate::pipeline::config::StepSpec;
+use crate::pipeline::file_names::StepFiles;
 use crate::pipeline::products::Product;
+use crate::pipeline::step_spec::{AnalyzeStep, FilterStep};
 use crate::report::html::Block;
 use crate::sht::TransformPlan;
 use crate::spectral::filter::FilterChain;
 
-pub fn analyse(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
-    let input = step
-        .input
-        .as_ref()
-        .ok_or_else(|| Error::invalid("analyse needs an input"))?;
+pub fn analyze(name: &str, step: &AnalyzeStep, env: &StepEnv) -> Result<StepOutcome> {
+    let input = &step.input;
     let grid = env
         .product(input)?
         .as_grid()
         .ok_or_else(|| Error::invalid(format!("'{input}' is not a grid")))?;
-    let lmax = step.lmax.unwrap_or(0);
+    let lmax = step.lmax;
     grid.require_complete()?;
     grid.check_degree(lmax)?;
     let plan = TransformPlan::new(lmax, &grid.grid)?;
@@ -31,7 +29,7 @@ pub fn analyse(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome
         format!("{name}: analysis of {input} to degree {lmax}"),
     );
     let mut out = StepOutcome::default();
-    let file = format!("{name}_model.nc");
+    let file = StepFiles(name).model_nc();
     write_model(
         &env.staging_dir.join(&file),
         &model,
@@ -53,13 +51,12 @@ pub fn analyse(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome
     Ok(out)
 }
 
-pub fn filter(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
-    let mut model = env.model(step.model.as_ref())?.clone();
-    let spec = step.filter.as_deref().unwrap_or_default();
-    let chain = FilterChain::parse_relative_to(spec, &env.job.base_dir)?;
+pub fn filter(name: &str, step: &FilterStep, env: &StepEnv) -> Result<StepOutcome> {
+    let mut model = env.model(&step.model)?.clone();
+    let chain = FilterChain::parse_relative_to(&step.filter, &env.job.base_dir)?;
     chain.apply(&mut model)?;
     let mut out = StepOutcome::default();
-    let file = format!("{name}_model.nc");
+    let file = StepFiles(name).model_nc();
     let prov = env.provenance_for(Some(model.lmax()), Some(chain.describe()));
     write_model(&env.staging_dir.join(&file), &model, &prov)?;
     out.files.push((

@@ -9,8 +9,9 @@ use crate::observe::fit::{fit as lsq_fit, FitOptions, Regularization};
 use crate::observe::gaps::GapPolicy;
 use crate::observe::gridding::{grid_points, GriddingMethod, GriddingOptions};
 use crate::observe::points::PointSet;
-use crate::pipeline::config::StepSpec;
+use crate::pipeline::file_names::StepFiles;
 use crate::pipeline::products::{Points, Product};
+use crate::pipeline::step_spec::{FitStep, GridStep};
 use crate::report::html::Block;
 use crate::report::maps::{render_map_png, MapStyle};
 use crate::sht::TransformPlan;
@@ -51,9 +52,9 @@ fn stamp(model: &mut Coefficients, points: &Points, env: &StepEnv, name: &str, h
         .insert("title".into(), format!("{name}: {how}"));
 }
 
-pub fn grid(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
-    let points = env.points(step.input.as_ref())?;
-    let lmax = step.lmax.unwrap_or(0);
+pub fn grid(name: &str, step: &GridStep, env: &StepEnv) -> Result<StepOutcome> {
+    let points = env.points(&step.input)?;
+    let lmax = step.lmax;
     let (set, scale) = model_units_points(points, env)?;
     let method = match step.method.as_deref() {
         Some("nearest") => GriddingMethod::Nearest {
@@ -90,7 +91,7 @@ pub fn grid(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
 
     let mut out = StepOutcome::default();
     let prov = env.provenance_for(Some(lmax), None);
-    let model_file = format!("{name}_model.nc");
+    let model_file = StepFiles(name).model_nc();
     write_model(&env.staging_dir.join(&model_file), &model, &prov)?;
     out.files.push((
         model_file,
@@ -120,7 +121,7 @@ pub fn grid(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
         None,
         gridded.nearest_km.clone(),
     );
-    let grid_file = format!("{name}_gridded.nc");
+    let grid_file = StepFiles(name).gridded_nc();
     write_grid(
         &env.staging_dir.join(&grid_file),
         &file,
@@ -139,7 +140,7 @@ pub fn grid(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
         lon0_deg: gridded.grid.lon0_rad.to_degrees(),
     };
     let png = render_map_png(&gridded.nearest_km, &style);
-    let png_name = format!("{name}_coverage.png");
+    let png_name = StepFiles(name).coverage_png();
     if env.job.config.output.wants("png") {
         crate::io::atomic::write_bytes_atomic(&env.staging_dir.join(&png_name), &png)?;
         out.files.push((png_name, "coverage map".into()));
@@ -167,11 +168,11 @@ fn default_radius_km(env: &StepEnv, lmax: usize) -> f64 {
     std::f64::consts::PI * env.job.config.body.radius_m / 1000.0 / lmax.max(1) as f64
 }
 
-pub fn fit(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
-    let points = env.points(step.input.as_ref())?;
-    let lmax = step.lmax.unwrap_or(0);
+pub fn fit(name: &str, step: &FitStep, env: &StepEnv) -> Result<StepOutcome> {
+    let points = env.points(&step.input)?;
+    let lmax = step.lmax;
     let (set, scale) = model_units_points(points, env)?;
-    let regularization = Regularization::parse(step.regularization.as_deref().unwrap_or("gcv"))?;
+    let regularization = Regularization::parse(step.regularization_spec())?;
     let options = FitOptions {
         regularization,
         body_radius_m: env.job.config.body.radius_m,
@@ -201,7 +202,7 @@ pub fn fit(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
         "kugel_fit_chi2_per_dof".into(),
         format!("{}", result.chi2_per_dof),
     ));
-    let model_file = format!("{name}_model.nc");
+    let model_file = StepFiles(name).model_nc();
     write_model(&env.staging_dir.join(&model_file), &model, &prov)?;
     out.files.push((
         model_file,
@@ -236,10 +237,7 @@ pub fn fit(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
     ];
     out.report.push((
         ReportPart::Models,
-        Block::Paragraph(format!(
-            "Fit '{name}' of '{}':",
-            step.input.as_deref().unwrap_or("")
-        )),
+        Block::Paragraph(format!("Fit '{name}' of '{}':", step.input)),
     ));
     out.report.push((
         ReportPart::Models,

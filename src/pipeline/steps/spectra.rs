@@ -4,8 +4,9 @@
 use super::{ReportPart, StepEnv, StepOutcome};
 use crate::error::Result;
 use crate::io::degree_table::{write_degree_table_csv, write_degree_table_netcdf};
-use crate::pipeline::config::StepSpec;
+use crate::pipeline::file_names::StepFiles;
 use crate::pipeline::products::Product;
+use crate::pipeline::step_spec::{CompareStep, SpectrumStep};
 use crate::report::html::Block;
 use crate::report::plots::{comparison_svg, spectrum_svg};
 use crate::spectral::{CompareOptions, Comparison, SpectralTable, Spectrum, SpectrumOptions};
@@ -21,7 +22,7 @@ fn write_table(
     let degree_table = table.to_degree_table();
     let cfg = &env.job.config.output;
     if cfg.wants("netcdf") {
-        let file = format!("{name}.nc");
+        let file = StepFiles(name).main("nc");
         write_degree_table_netcdf(
             &env.staging_dir.join(&file),
             &degree_table,
@@ -30,7 +31,7 @@ fn write_table(
         out.files.push((file, what.to_string()));
     }
     if cfg.wants("csv") {
-        let file = format!("{name}.csv");
+        let file = StepFiles(name).main("csv");
         write_degree_table_csv(&env.staging_dir.join(&file), &degree_table)?;
         out.files.push((file, format!("{what} (CSV)")));
     }
@@ -39,15 +40,15 @@ fn write_table(
 
 fn write_svg(name: &str, svg: &str, env: &StepEnv, out: &mut StepOutcome) -> Result<()> {
     if env.job.config.output.wants("svg") {
-        let file = format!("{name}.svg");
+        let file = StepFiles(name).main("svg");
         crate::io::atomic::write_bytes_atomic(&env.staging_dir.join(&file), svg.as_bytes())?;
         out.files.push((file, "plot".into()));
     }
     Ok(())
 }
 
-pub fn spectrum(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
-    let model = env.model(step.model.as_ref())?;
+pub fn spectrum(name: &str, step: &SpectrumStep, env: &StepEnv) -> Result<StepOutcome> {
+    let model = env.model(&step.model)?;
     let options = SpectrumOptions {
         confidence: step.confidence.unwrap_or(0.95),
         fit_range: step.fit_range.map(|[a, b]| (a, b)),
@@ -63,13 +64,7 @@ pub fn spectrum(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcom
         &mut out,
         "degree-variance spectrum",
     )?;
-    let svg = spectrum_svg(
-        &spectrum,
-        &format!(
-            "{name}: spectrum of {}",
-            step.model.as_deref().unwrap_or("")
-        ),
-    );
+    let svg = spectrum_svg(&spectrum, &format!("{name}: spectrum of {}", step.model));
     write_svg(name, &svg, env, &mut out)?;
     out.report.push((
         ReportPart::Spectra,
@@ -88,12 +83,14 @@ pub fn spectrum(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcom
     Ok(out)
 }
 
-pub fn compare(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
-    let names = step.models.clone().unwrap_or_default();
-    let (mut a, mut b) = (
-        env.model(names.first())?.clone(),
-        env.model(names.get(1))?.clone(),
-    );
+pub fn compare(name: &str, step: &CompareStep, env: &StepEnv) -> Result<StepOutcome> {
+    let names = &step.models;
+    let [first, second] = names.as_slice() else {
+        return Err(crate::error::Error::invalid(
+            "models: expected two model names",
+        ));
+    };
+    let (mut a, mut b) = (env.model(first)?.clone(), env.model(second)?.clone());
     if let Some(l0) = step.from_degree {
         for m in [&mut a, &mut b] {
             m.scale_by_degree(|l| if l < l0 { 0.0 } else { 1.0 });

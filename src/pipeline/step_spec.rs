@@ -1,0 +1,185 @@
+//! The steps of a job, one settings struct per kind with exactly the keys that kind accepts.
+//! The key check (`schema.rs`) reads each kind's keys from these structs, so a key is added or
+//! renamed here and nowhere else.
+
+use serde::Deserialize;
+
+use super::kinds::config_kinds;
+
+config_kinds! {
+    /// A named step, `[steps.NAME]` with `kind = "…"`.
+    pub enum Step / StepKind {
+        /// Scattered points gridded onto a Gauss grid and analysed to coefficients.
+        Grid = "grid" => GridStep,
+        /// Points fitted to coefficients by least squares.
+        Fit = "fit" => FitStep,
+        /// A grid analysed to coefficients.
+        Analyze = "analyze" => AnalyzeStep,
+        /// Degree-variance spectrum of a model.
+        Spectrum = "spectrum" => SpectrumStep,
+        /// Two models compared degree by degree.
+        Compare = "compare" => CompareStep,
+        /// A model filtered in the degree domain.
+        Filter = "filter" => FilterStep,
+        /// Quantities of a model mapped on a Gauss grid.
+        Synthesize = "synthesize" => SynthesizeStep,
+        /// A model evaluated at the observation points (residuals observed − model).
+        Evaluate = "evaluate" => EvaluateStep,
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+pub struct GridStep {
+    /// The point set to grid.
+    pub input: String,
+    /// Band limit of the Gauss grid and of the model.
+    pub lmax: usize,
+    /// "kernel" (default) or "nearest".
+    pub method: Option<String>,
+    /// Kernel method: averaging cap radius, km (default πR/L).
+    pub radius_km: Option<f64>,
+    /// Nearest method: number of neighbours (default 8).
+    pub neighbours: Option<usize>,
+    /// How empty cells are filled: "nearest" (default), "mean" or "iterative".
+    pub gaps: Option<String>,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+pub struct FitStep {
+    /// The point set to fit.
+    pub input: String,
+    /// Band limit of the model (at most [`FitStep::MAX_DEGREE`]).
+    pub lmax: usize,
+    /// "none" (default), "damping:λ", "kaula:A,p", "kaula:A,p:gcv" or "gcv", as in
+    /// `kugel fit --regularization`.
+    pub regularization: Option<String>,
+}
+
+impl FitStep {
+    /// Highest degree of a least-squares fit; beyond it the (L+1)² unknowns make the normal
+    /// matrix too large, and gridding is the tool.
+    pub const MAX_DEGREE: usize = 300;
+
+    /// The regularization written, or the default `none`.
+    pub fn regularization_spec(&self) -> &str {
+        self.regularization.as_deref().unwrap_or("none")
+    }
+}
+
+#[derive(Debug, Clone, Deserialize)]
+pub struct AnalyzeStep {
+    /// The grid to analyse.
+    pub input: String,
+    /// Band limit of the model.
+    pub lmax: usize,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+pub struct SpectrumStep {
+    /// The model whose spectrum is computed.
+    pub model: String,
+    /// Confidence level of the intervals (default 0.95).
+    pub confidence: Option<f64>,
+    /// Degree range [lmin, lmax] of the power-law fit.
+    pub fit_range: Option<[usize; 2]>,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+pub struct CompareStep {
+    /// The two models, first against second.
+    pub models: Vec<String>,
+    /// Confidence level of the intervals (default 0.95).
+    pub confidence: Option<f64>,
+    /// The models are different quantities (e.g. gravity and topography, for admittance);
+    /// compared as given instead of refused for differing units.
+    pub cross_quantity: Option<bool>,
+    /// Leave degrees below this out (set to zero in both copies); e.g. 2 for disturbing
+    /// potentials, whose degrees 0 and 1 vanish by definition but are estimated as noise.
+    pub from_degree: Option<usize>,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+pub struct FilterStep {
+    /// The model to filter.
+    pub model: String,
+    /// Filter spec such as "gauss:300" (several joined by '+').
+    pub filter: String,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+pub struct SynthesizeStep {
+    /// The model to map.
+    pub model: String,
+    /// Quantities to map, e.g. ["gravity-anomaly", "geoid"].
+    pub quantities: Vec<String>,
+    /// Height above the reference sphere, km (default 0).
+    pub altitude_km: Option<f64>,
+    /// Filter spec applied before mapping, such as "gauss:300".
+    pub filter: Option<String>,
+    /// Band limit of the output Gauss grid (default: the model's).
+    pub grid_lmax: Option<usize>,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+pub struct EvaluateStep {
+    /// The model to evaluate.
+    pub model: String,
+    /// The point set at which to evaluate (residuals are observed − model).
+    pub points: String,
+    /// The quantity the points observed (default "potential" for potential inputs, else
+    /// "value").
+    pub quantity: Option<String>,
+    /// Height of the points above the reference sphere, km (default 0).
+    pub altitude_km: Option<f64>,
+}
+
+impl Step {
+    /// Product names the step uses, in the order written.
+    pub fn uses(&self) -> Vec<&str> {
+        match self {
+            Step::Grid(s) => vec![s.input.as_str()],
+            Step::Fit(s) => vec![s.input.as_str()],
+            Step::Analyze(s) => vec![s.input.as_str()],
+            Step::Spectrum(s) => vec![s.model.as_str()],
+            Step::Compare(s) => s.models.iter().map(String::as_str).collect(),
+            Step::Filter(s) => vec![s.model.as_str()],
+            Step::Synthesize(s) => vec![s.model.as_str()],
+            Step::Evaluate(s) => vec![s.model.as_str(), s.points.as_str()],
+        }
+    }
+
+    /// The band limit the step's settings give, if any.
+    pub fn lmax(&self) -> Option<usize> {
+        match self {
+            Step::Grid(s) => Some(s.lmax),
+            Step::Fit(s) => Some(s.lmax),
+            Step::Analyze(s) => Some(s.lmax),
+            Step::Spectrum(_)
+            | Step::Compare(_)
+            | Step::Filter(_)
+            | Step::Synthesize(_)
+            | Step::Evaluate(_) => None,
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn every_kind_lists_its_keys() {
+        // the keys come from the structs: spot-check a few and that no kind is left empty
+        assert_eq!(
+            StepKind::Fit.keys(),
+            ["kind", "input", "lmax", "regularization"]
+        );
+        assert!(StepKind::Synthesize.keys().contains(&"altitude_km"));
+        assert!(!StepKind::Synthesize.keys().contains(&"altitude_m"));
+        for k in StepKind::ALL {
+            assert!(k.keys().len() >= 2, "{k:?}");
+            assert_eq!(StepKind::from_name(k.name()), Some(*k));
+        }
+        assert_eq!(StepKind::from_name("analyse"), None);
+    }
+}
