@@ -1,6 +1,6 @@
 //! The `kugel` command line over the `kugel` library: one module per subcommand
 //! ([`commands`]), argument groups they share ([`args`]), per-degree table outputs ([`tables`]),
-//! the benchmark cases ([`bench`]), the invented demo data set ([`demo`]), terminal progress
+//! the benchmark cases ([`bench`](mod@bench)), the invented demo data set ([`demo`]), terminal progress
 //! bars ([`progress_bar`]) and exit codes ([`exit_code`]). No science lives here: every number
 //! comes from the library.
 

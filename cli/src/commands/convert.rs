@@ -16,7 +16,7 @@ use kugel::io::provenance::Provenance;
 pub struct Args {
     /// Input model: NetCDF (any extension, recognised by content) or a text table.
     pub input: PathBuf,
-    /// Output model: NetCDF-4 for .nc, a text table (l m C S [sigmas]) otherwise.
+    /// Output model: NetCDF-4 for .nc, a text table otherwise (columns l m C S, then the sigmas when known).
     pub output: PathBuf,
     /// Normalisation of the output: geodesy, schmidt, orthonormal or unnormalized
     /// (default: that of the input).

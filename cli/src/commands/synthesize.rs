@@ -32,7 +32,7 @@ pub struct Args {
     /// Radius of the sphere to compute on, km (instead of --altitude-km).
     #[arg(long, value_name = "R")]
     pub radius_km: Option<f64>,
-    /// Also write a quick-look PNG map per quantity beside the output (MAP_<quantity>.png).
+    /// Also write a quick-look PNG map per quantity beside the output (MAP_QUANTITY.png).
     #[arg(long)]
     pub png: bool,
     /// Store the data variables as 32-bit floats.
