@@ -10,7 +10,7 @@ use crate::field::synthesis::synthesize_on_grid_with_progress;
 use crate::field::{cautions, Quantity, SynthesisRequest, TargetSurface};
 use crate::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use crate::io::provenance::Provenance;
-use crate::report::maps::{render_map_png, MapStyle};
+use crate::report::raster::maps::{render_map_png, MapStyle};
 use crate::sht::{GaussGrid, Grid};
 
 #[derive(Debug, clap::Args)]

@@ -15,7 +15,7 @@ use crate::io::provenance::Provenance;
 use crate::pipeline::config::StepSpec;
 use crate::pipeline::products::Product;
 use crate::report::html::Block;
-use crate::report::maps::{render_map_png, render_points_png, MapStyle};
+use crate::report::raster::maps::{render_map_png, render_points_png, MapStyle};
 use crate::sht::GaussGrid;
 use crate::spectral::filter::FilterChain;
 

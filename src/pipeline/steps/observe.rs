@@ -12,7 +12,7 @@ use crate::observe::points::PointSet;
 use crate::pipeline::config::StepSpec;
 use crate::pipeline::products::{Points, Product};
 use crate::report::html::Block;
-use crate::report::maps::{render_map_png, MapStyle};
+use crate::report::raster::maps::{render_map_png, MapStyle};
 use crate::sht::TransformPlan;
 
 /// Points in the units the model is fitted in: a disturbing potential T (m² s⁻²) becomes the
