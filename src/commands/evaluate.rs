@@ -10,7 +10,9 @@ use super::field_options::{self, FieldOptions};
 use super::CommandContext;
 use crate::error::Error;
 use crate::field::{evaluate_at_points, Ellipsoid, GeocentricPoint, Quantity, SynthesisRequest};
+use crate::io::csv_sidecar::{write_sidecar, CsvSidecar};
 use crate::io::csv_table::{csv_text, read_csv_table, CsvTable};
+use crate::io::provenance::Provenance;
 
 #[derive(Debug, clap::Args)]
 pub struct Args {
@@ -72,19 +74,23 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     bar.finish_and_clear();
 
     let (headers, rows) = output_table(&table, &request.quantities, &columns)?;
-    let mut text = String::new();
+    // the CSV starts with its header row; units, cautions and provenance go to the sidecar
+    let mut sidecar = CsvSidecar::with_provenance(&Provenance::from_command_line(
+        ctx.command_line.clone(),
+    ));
     for q in &request.quantities {
+        let name = &headers[table.headers.len() + sidecar.columns.len()];
+        let units = q.units().unwrap_or_else(|| model.units.as_str());
+        sidecar.column(name, units, q.long_name());
         if let Some(c) = crate::field::cautions::caution_for(*q) {
-            text.push_str(&format!("# caution ({q}): {c}\n"));
+            sidecar.cautions.push(format!("{q}: {c}"));
         }
     }
-    text.push_str(&format!(
-        "# {}; command: {}\n",
-        crate::io::provenance::source_attribute(),
-        ctx.command_line
-    ));
-    text.push_str(&csv_text(&headers, &rows));
-    crate::io::atomic::write_bytes_atomic(&args.output, text.as_bytes())
+    if headers.last().map(String::as_str) == Some("residual") {
+        sidecar.column("residual", &model.units, "value minus model value");
+    }
+    crate::io::atomic::write_bytes_atomic(&args.output, csv_text(&headers, &rows).as_bytes())
+        .and_then(|()| write_sidecar(&args.output, &sidecar))
         .with_context(|| format!("writing {}", args.output.display()))?;
     field_options::print_cautions(&request.quantities);
     if !ctx.quiet {

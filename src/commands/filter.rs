@@ -328,7 +328,7 @@ impl WeightTable {
         if is_netcdf_path(path) {
             write_degree_table_netcdf(path, &self.table, provenance)
         } else {
-            write_degree_table_csv(path, &self.table)
+            write_degree_table_csv(path, &self.table, provenance)
         }
     }
 }

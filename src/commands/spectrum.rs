@@ -8,7 +8,9 @@ use anyhow::Context;
 use super::CommandContext;
 use crate::error::Error;
 use crate::io::atomic::{refuse_overwrite_of_input, write_bytes_atomic};
-use crate::io::degree_table::{write_degree_table_csv, write_degree_table_netcdf};
+use crate::io::degree_table::{
+    degree_table_csv_text, write_degree_table_csv, write_degree_table_netcdf,
+};
 use crate::io::model_file::read_model;
 use crate::io::provenance::Provenance;
 use crate::report::plots::spectrum_svg;
@@ -93,13 +95,13 @@ impl TableOutputs<'_> {
             write_degree_table_netcdf(p, &degree_table, provenance)?;
         }
         if let Some(p) = self.csv {
-            write_degree_table_csv(p, &degree_table)?;
+            write_degree_table_csv(p, &degree_table, provenance)?;
         }
         if let Some(p) = self.plot {
             write_bytes_atomic(p, svg().as_bytes())?;
         }
         if self.is_empty() {
-            print!("{}", csv_text(table));
+            print!("{}", degree_table_csv_text(&degree_table));
         }
         Ok(())
     }
@@ -118,27 +120,6 @@ impl TableOutputs<'_> {
     }
 }
 
-/// The table as CSV text for standard output (same columns and number format as the file).
-fn csv_text(table: &SpectralTable) -> String {
-    use crate::io::degree_table::csv_number;
-    let mut out = table
-        .columns
-        .iter()
-        .map(|c| c.name.as_str())
-        .collect::<Vec<_>>()
-        .join(",");
-    out.push('\n');
-    for i in 0..table.columns[0].values.len() {
-        let row: Vec<String> = table
-            .columns
-            .iter()
-            .map(|c| csv_number(c.values[i]))
-            .collect();
-        out.push_str(&row.join(","));
-        out.push('\n');
-    }
-    out
-}
 
 /// File name for titles and labels.
 pub(crate) fn display_name(path: &Path) -> String {

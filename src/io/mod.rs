@@ -2,6 +2,7 @@
 //! atomic writes. Reads and writes; computes nothing.
 
 pub mod atomic;
+pub mod csv_sidecar;
 pub mod csv_table;
 pub mod degree_table;
 pub mod grid_file;

@@ -9,6 +9,7 @@ use crate::field::quantity::Quantity;
 use crate::field::synthesis::{
     evaluate_at_points, synthesize_on_grid, GeocentricPoint, SynthesisRequest, TargetSurface,
 };
+use crate::io::csv_sidecar::{write_sidecar, CsvSidecar};
 use crate::io::csv_table::write_csv_table;
 use crate::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use crate::io::provenance::Provenance;
@@ -188,11 +189,21 @@ pub fn evaluate(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcom
             })
             .collect();
         let file = format!("{name}_residuals.csv");
+        let path = env.staging_dir.join(&file);
         write_csv_table(
-            &env.staging_dir.join(&file),
+            &path,
             &["lat_deg", "lon_deg", "observed", "model", "residual"],
             &rows,
         )?;
+        let mut sidecar = CsvSidecar::with_provenance(&env.provenance_for(Some(model.lmax()), None));
+        sidecar
+            .column("lat_deg", "degree_north", "latitude")
+            .column("lon_deg", "degree_east", "longitude")
+            .column("observed", &units, &format!("observed {}", q.name()))
+            .column("model", &units, &format!("model {}", q.name()))
+            .column("residual", &units, "observed minus model");
+        write_sidecar(&path, &sidecar)?;
+        out.files.push((format!("{file}.json"), "units and provenance of the CSV".into()));
         out.files.push((
             file,
             format!(
