@@ -75,9 +75,8 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
 
     let (headers, rows) = output_table(&table, &request.quantities, &columns)?;
     // the CSV starts with its header row; units, cautions and provenance go to the sidecar
-    let mut sidecar = CsvSidecar::with_provenance(&Provenance::from_command_line(
-        ctx.command_line.clone(),
-    ));
+    let mut sidecar =
+        CsvSidecar::with_provenance(&Provenance::from_command_line(ctx.command_line.clone()));
     for q in &request.quantities {
         let name = &headers[table.headers.len() + sidecar.columns.len()];
         let units = q.units().unwrap_or_else(|| model.units.as_str());

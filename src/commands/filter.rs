@@ -69,7 +69,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     if let Some(w) = &args.weights {
         refuse_overwrite_of_input(w, &[&args.model, &args.output])?;
     }
-    let chain = FilterChain::from_specs(&args.filters)?;
+    let chain = crate::io::filter_spectra::filter_chain_from_specs(&args.filters)?;
     let continuation = continuation_request(args)?;
     if chain.is_empty() && continuation.is_none() {
         return Err(Error::invalid(

@@ -120,7 +120,6 @@ impl TableOutputs<'_> {
     }
 }
 
-
 /// File name for titles and labels.
 pub(crate) fn display_name(path: &Path) -> String {
     path.file_name()

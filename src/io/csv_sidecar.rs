@@ -112,9 +112,7 @@ pub fn read_sidecar(csv_path: &Path) -> Result<Option<CsvSidecar>> {
     serde_json::from_str(&text).map(Some).map_err(|e| {
         Error::format(
             &path,
-            format!(
-                "not a CSV sidecar (expected a JSON object with `columns`, `attributes`): {e}"
-            ),
+            format!("not a CSV sidecar (expected a JSON object with `columns`, `attributes`): {e}"),
         )
     })
 }
@@ -147,6 +145,9 @@ mod tests {
         let csv = dir.path().join("t.csv");
         std::fs::write(sidecar_path(&csv), "{ not json").unwrap();
         let err = read_sidecar(&csv).unwrap_err().to_string();
-        assert!(err.contains("t.csv.json") && err.contains("sidecar"), "{err}");
+        assert!(
+            err.contains("t.csv.json") && err.contains("sidecar"),
+            "{err}"
+        );
     }
 }

@@ -5,6 +5,7 @@ pub mod atomic;
 pub mod csv_sidecar;
 pub mod csv_table;
 pub mod degree_table;
+pub mod filter_spectra;
 pub mod grid_file;
 pub mod grid_layout;
 pub mod grid_read;

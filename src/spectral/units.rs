@@ -32,8 +32,13 @@ fn symbol_powers(units: &str) -> Option<Vec<(String, i32)>> {
                 .find(|c: char| c == '-' || c.is_ascii_digit())
                 .unwrap_or(word.len());
             let (symbol, power) = word.split_at(split);
-            let symbol_ok = !symbol.is_empty() && symbol.chars().all(|c| c.is_alphabetic() || c == '_');
-            let power = if power.is_empty() { Some(1) } else { power.parse::<i32>().ok() };
+            let symbol_ok =
+                !symbol.is_empty() && symbol.chars().all(|c| c.is_alphabetic() || c == '_');
+            let power = if power.is_empty() {
+                Some(1)
+            } else {
+                power.parse::<i32>().ok()
+            };
             match (symbol_ok, power) {
                 (true, Some(p)) => Some((symbol.to_string(), p)),
                 _ => None,

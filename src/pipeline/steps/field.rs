@@ -11,6 +11,7 @@ use crate::field::synthesis::{
 };
 use crate::io::csv_sidecar::{write_sidecar, CsvSidecar};
 use crate::io::csv_table::write_csv_table;
+use crate::io::filter_spectra::parse_filter_chain;
 use crate::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use crate::io::provenance::Provenance;
 use crate::pipeline::config::StepSpec;
@@ -18,7 +19,6 @@ use crate::pipeline::products::Product;
 use crate::report::html::Block;
 use crate::report::raster::maps::{render_map_png, render_points_png, MapStyle};
 use crate::sht::GaussGrid;
-use crate::spectral::filter::FilterChain;
 
 /// Grid-writing options from the config's `[output]`.
 pub(super) fn write_options<'a>(env: &StepEnv, provenance: &'a Provenance) -> GridWriteOptions<'a> {
@@ -43,7 +43,7 @@ pub fn synthesize(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutc
     let chain = step
         .filter
         .as_deref()
-        .map(|f| FilterChain::parse_relative_to(f, &env.job.base_dir))
+        .map(|f| parse_filter_chain(f, Some(&env.job.base_dir)))
         .transpose()?;
     let altitude_m = step.altitude_m.unwrap_or(0.0);
     let surface = if altitude_m == 0.0 {
@@ -195,7 +195,8 @@ pub fn evaluate(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcom
             &["lat_deg", "lon_deg", "observed", "model", "residual"],
             &rows,
         )?;
-        let mut sidecar = CsvSidecar::with_provenance(&env.provenance_for(Some(model.lmax()), None));
+        let mut sidecar =
+            CsvSidecar::with_provenance(&env.provenance_for(Some(model.lmax()), None));
         sidecar
             .column("lat_deg", "degree_north", "latitude")
             .column("lon_deg", "degree_east", "longitude")
@@ -203,7 +204,10 @@ pub fn evaluate(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcom
             .column("model", &units, &format!("model {}", q.name()))
             .column("residual", &units, "observed minus model");
         write_sidecar(&path, &sidecar)?;
-        out.files.push((format!("{file}.json"), "units and provenance of the CSV".into()));
+        out.files.push((
+            format!("{file}.json"),
+            "units and provenance of the CSV".into(),
+        ));
         out.files.push((
             file,
             format!(

@@ -3,12 +3,12 @@
 
 use super::{ReportPart, StepEnv, StepOutcome};
 use crate::error::{Error, Result};
+use crate::io::filter_spectra::parse_filter_chain;
 use crate::io::model_file::write_model;
 use crate::pipeline::config::StepSpec;
 use crate::pipeline::products::Product;
 use crate::report::html::Block;
 use crate::sht::TransformPlan;
-use crate::spectral::filter::FilterChain;
 
 pub fn analyse(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
     let input = step
@@ -56,7 +56,7 @@ pub fn analyse(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome
 pub fn filter(name: &str, step: &StepSpec, env: &StepEnv) -> Result<StepOutcome> {
     let mut model = env.model(step.model.as_ref())?.clone();
     let spec = step.filter.as_deref().unwrap_or_default();
-    let chain = FilterChain::parse_relative_to(spec, &env.job.base_dir)?;
+    let chain = parse_filter_chain(spec, Some(&env.job.base_dir))?;
     chain.apply(&mut model)?;
     let mut out = StepOutcome::default();
     let file = format!("{name}_model.nc");

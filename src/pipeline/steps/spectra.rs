@@ -36,7 +36,10 @@ fn write_table(
             &degree_table,
             &env.provenance_for(Some(lmax), None),
         )?;
-        out.files.push((format!("{file}.json"), "units and provenance of the CSV".into()));
+        out.files.push((
+            format!("{file}.json"),
+            "units and provenance of the CSV".into(),
+        ));
         out.files.push((file, format!("{what} (CSV)")));
     }
     Ok(())

@@ -108,12 +108,10 @@ impl Axis {
         let step = nice_step((self.max - self.min) / 5.0);
         multiples_inside(self.min, self.max, step)
             .into_iter()
-            .map(|v| {
-                Tick {
-                    value: v,
-                    major: true,
-                    label: Some(Markup::plain(&format_linear(v, step))),
-                }
+            .map(|v| Tick {
+                value: v,
+                major: true,
+                label: Some(Markup::plain(&format_linear(v, step))),
             })
             .collect()
     }

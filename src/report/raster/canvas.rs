@@ -67,7 +67,11 @@ impl Canvas {
         let a = coverage.clamp(0.0, 1.0);
         let old = self.get(x, y);
         let mix = |o: u8, n: u8| (f32::from(o) * (1.0 - a) + f32::from(n) * a).round() as u8;
-        self.set(x, y, [mix(old[0], c[0]), mix(old[1], c[1]), mix(old[2], c[2])]);
+        self.set(
+            x,
+            y,
+            [mix(old[0], c[0]), mix(old[1], c[1]), mix(old[2], c[2])],
+        );
     }
 
     /// Draws `text` at `size_px` with the top of its line box at (x, y).

@@ -114,8 +114,14 @@ mod tests {
         let baseline = ascent_px(size);
         let g_bottom = *inked_rows("g", size).iter().max().unwrap() as f32;
         let a_bottom = *inked_rows("a", size).iter().max().unwrap() as f32;
-        assert!(g_bottom > baseline + 0.15 * size, "g ends at {g_bottom}, baseline {baseline}");
-        assert!(a_bottom <= baseline + 1.0, "a ends at {a_bottom}, baseline {baseline}");
+        assert!(
+            g_bottom > baseline + 0.15 * size,
+            "g ends at {g_bottom}, baseline {baseline}"
+        );
+        assert!(
+            a_bottom <= baseline + 1.0,
+            "a ends at {a_bottom}, baseline {baseline}"
+        );
         // and the x-height letters start well below the line top, the capitals near it
         let a_top = *inked_rows("a", size).iter().min().unwrap() as f32;
         let h_top = *inked_rows("H", size).iter().min().unwrap() as f32;
@@ -128,7 +134,10 @@ mod tests {
         let two_bottom = *inked_rows("²", size).iter().max().unwrap() as f32;
         let baseline = ascent_px(size);
         // common practice: a superscript's foot is raised well above the baseline
-        assert!(two_bottom < baseline - 0.25 * size, "² ends at {two_bottom}");
+        assert!(
+            two_bottom < baseline - 0.25 * size,
+            "² ends at {two_bottom}"
+        );
     }
 
     #[test]
@@ -136,7 +145,10 @@ mod tests {
         for ch in "χ²σ°±⁻¹²³μ−·–gravity mGal m² s⁻²".chars() {
             assert!(has_glyph(ch), "no glyph for {ch:?}");
         }
-        assert!(!has_glyph('\u{e000}'), "private-use code point must be missing");
+        assert!(
+            !has_glyph('\u{e000}'),
+            "private-use code point must be missing"
+        );
     }
 
     #[test]
