@@ -221,7 +221,7 @@ fn admittance_is_the_reference_per_unit_of_the_compared_model() {
 #[test]
 fn admittance_carries_the_quotient_of_the_two_models_units() {
     // Units of a regression coefficient A on B are units(A)/units(B) (common practice); for
-    // gravity in mGal against topography in m that is `mGal m-1` in the UDUNITS-2 spelling of
+    // gravity in mGal against topography in m that is `mGal m-1` in the units-string spelling of
     // the CF conventions. A's units count for the reference, B's for the compared model.
     let lmax = 20;
     let mut gravity = random_model(lmax, 11, variance);

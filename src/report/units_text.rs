@@ -6,7 +6,7 @@ use super::plots::axis::superscript_digits;
 /// `units` with every integer exponent that follows a unit symbol (`s-2`, `m^2`, `m**2`)
 /// written as superscripts, and `-` as a superscript minus; other text unchanged.
 ///
-/// Convention: UDUNITS-2 grammar, where a power is a symbol followed directly by an integer,
+/// Convention: the grammar of CF units strings, where a power is a symbol followed directly by an integer,
 /// optionally after `^` or `**` (common practice for CF units strings).
 pub fn units_for_display(units: &str) -> String {
     units
@@ -57,7 +57,7 @@ mod tests {
 
     #[test]
     fn exponents_become_superscripts() {
-        // CF units strings (UDUNITS-2 grammar, common practice) and their usual typeset forms
+        // CF units strings (common practice) and their usual typeset forms
         assert_eq!(units_for_display("m2 s-2"), "m² s⁻²");
         assert_eq!(units_for_display("mGal m-1"), "mGal m⁻¹");
         assert_eq!(units_for_display("nT^2"), "nT²");

@@ -1,11 +1,11 @@
 //! Small helpers shared by spectra and comparisons: units of squares, products and quotients
 //! of quantities (CF units strings) and the half-wavelength belonging to a degree.
 //!
-//! Units strings follow the UDUNITS-2 grammar that the CF conventions adopt (common practice):
+//! Units strings follow the grammar of CF units strings (common practice):
 //! a product is symbols separated by spaces, a power is a symbol followed by an integer
 //! (`s-2`), `1` is dimensionless.
 
-/// UDUNITS string for the square of `units`: "1" stays "1", a single symbol gets "^2",
+/// CF units string for the square of `units`: "1" stays "1", a single symbol gets "^2",
 /// anything compound is parenthesised first.
 pub fn squared_units(units: &str) -> String {
     let u = units.trim();
@@ -130,7 +130,7 @@ mod tests {
 
     #[test]
     fn units_of_quotients_and_products() {
-        // UDUNITS-2 / CF units grammar (common practice): powers as trailing integers
+        // CF units-string grammar (common practice): powers as trailing integers
         assert_eq!(quotient_units("mGal", "m"), "mGal m-1");
         assert_eq!(quotient_units("mGal", "mGal"), "1");
         assert_eq!(quotient_units("m2 s-2", "m"), "m s-2");
