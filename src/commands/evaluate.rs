@@ -79,7 +79,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         CsvSidecar::with_provenance(&Provenance::from_command_line(ctx.command_line.clone()));
     for q in &request.quantities {
         let name = &headers[table.headers.len() + sidecar.columns.len()];
-        let units = q.units().unwrap_or_else(|| model.units.as_str());
+        let units = q.units().unwrap_or(model.units.as_str());
         sidecar.column(name, units, q.long_name());
         if let Some(c) = crate::field::cautions::caution_for(*q) {
             sidecar.cautions.push(format!("{q}: {c}"));

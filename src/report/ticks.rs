@@ -2,7 +2,7 @@
 
 /// About `count` "nice" tick values (multiples of [`nice_step`]) inside [lo, hi].
 pub fn nice_ticks(lo: f64, hi: f64, count: usize) -> Vec<f64> {
-    if !(hi > lo) || !lo.is_finite() || !hi.is_finite() {
+    if !lo.is_finite() || !hi.is_finite() || hi <= lo {
         return vec![lo];
     }
     multiples_inside(lo, hi, nice_step((hi - lo) / count.max(1) as f64))
