@@ -6,8 +6,8 @@ use std::path::Path;
 
 use crate::field::quantity::Quantity;
 use crate::io::filter_spectra::parse_filter_chain;
+use crate::observe::fit::Regularization;
 use crate::observe::gaps::GapPolicy;
-use crate::observe::lsq::Regularization;
 
 pub fn check_quantity(q: &str) -> Result<(), String> {
     q.parse::<Quantity>().map(|_| ()).map_err(|e| e.to_string())

@@ -12,7 +12,7 @@ use crate::field::synthesis::{
 use crate::io::csv_sidecar::{write_sidecar, CsvSidecar};
 use crate::io::csv_table::write_csv_table;
 use crate::io::filter_spectra::parse_filter_chain;
-use crate::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention};
+use crate::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use crate::io::provenance::Provenance;
 use crate::pipeline::config::StepSpec;
 use crate::pipeline::products::Product;

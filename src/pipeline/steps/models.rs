@@ -4,7 +4,7 @@
 use super::{ReportPart, StepEnv, StepOutcome};
 use crate::error::{Error, Result};
 use crate::io::filter_spectra::parse_filter_chain;
-use crate::io::model_file::write_model;
+use crate::io::model::write_model;
 use crate::pipeline::config::StepSpec;
 use crate::pipeline::products::Product;
 use crate::report::html::Block;
