@@ -121,7 +121,7 @@ pub struct Coefficients {
     pub reference_radius_m: f64,
     /// Gravitational parameter GM for potential models, m³ s⁻².
     pub gm_m3_s2: Option<f64>,
-    /// Units of the coefficients (UDUNITS string; "1" for dimensionless potential coefficients).
+    /// Units of the coefficients (CF units string; "1" for dimensionless potential coefficients).
     pub units: String,
     /// Free-form metadata carried through files (title, provenance, quantity, ...).
     pub attributes: BTreeMap<String, String>,

@@ -4,7 +4,9 @@
 use std::path::Path;
 
 use kugel::io::atomic::{refuse_overwrite_of_input, write_bytes_atomic};
-use kugel::io::degree_table::{write_degree_table_csv, write_degree_table_netcdf};
+use kugel::io::degree_table::{
+    degree_table_csv_text, write_degree_table_csv, write_degree_table_netcdf,
+};
 use kugel::io::provenance::Provenance;
 use kugel::spectral::SpectralTable;
 
@@ -46,13 +48,13 @@ impl TableOutputs<'_> {
             write_degree_table_netcdf(p, &degree_table, provenance)?;
         }
         if let Some(p) = self.csv {
-            write_degree_table_csv(p, &degree_table)?;
+            write_degree_table_csv(p, &degree_table, provenance)?;
         }
         if let Some(p) = self.plot {
             write_bytes_atomic(p, svg().as_bytes())?;
         }
         if self.is_empty() {
-            print!("{}", csv_text(table));
+            print!("{}", degree_table_csv_text(&degree_table));
         }
         Ok(())
     }
@@ -69,28 +71,6 @@ impl TableOutputs<'_> {
             }
         }
     }
-}
-
-/// The table as CSV text for standard output (same columns and number format as the file).
-fn csv_text(table: &SpectralTable) -> String {
-    use kugel::io::degree_table::csv_number;
-    let mut out = table
-        .columns
-        .iter()
-        .map(|c| c.name.as_str())
-        .collect::<Vec<_>>()
-        .join(",");
-    out.push('\n');
-    for i in 0..table.columns[0].values.len() {
-        let row: Vec<String> = table
-            .columns
-            .iter()
-            .map(|c| csv_number(c.values[i]))
-            .collect();
-        out.push_str(&row.join(","));
-        out.push('\n');
-    }
-    out
 }
 
 /// File name for titles and labels.

@@ -1,13 +1,16 @@
 //! Per-degree tables (spectra, comparisons, filter weights): NetCDF-4 with dimension
 //! `degree`, plus a CSV twin for spreadsheets whose first column is `degree`.
 //!
-//! The CSV carries the units in a leading comment line `# units: name=units; ...`, so reading it
-//! back restores them; empty cells are missing values (NaN in memory).
+//! The CSV starts with its header row; the units, descriptions and provenance go into the
+//! sidecar `NAME.csv.json` ([`super::csv_sidecar`]), so reading the CSV back restores the
+//! units. Empty cells are missing values (NaN in memory). CSV files of earlier versions, which
+//! carried the units in a leading comment line `# units: name=units; ...`, are still read.
 
 use std::path::Path;
 
 use netcdf_writer::{NcFileBuilder, NC_FILL_DOUBLE};
 
+use super::csv_sidecar::{read_sidecar, write_sidecar, CsvSidecar};
 use super::netcdf_common as nc;
 use super::provenance::Provenance;
 use crate::error::{Error, Result};
@@ -25,7 +28,7 @@ pub struct DegreeColumn {
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct DegreeTable {
     pub columns: Vec<DegreeColumn>,
-    /// Global attributes (NetCDF) / ignored in CSV.
+    /// Global attributes (NetCDF; in the CSV sidecar, not read back from it).
     pub attributes: Vec<(String, String)>,
 }
 
@@ -116,17 +119,11 @@ pub fn csv_number(x: f64) -> String {
     }
 }
 
-/// Writes the table as CSV (units in a leading comment line), atomically.
-pub fn write_degree_table_csv(path: &Path, table: &DegreeTable) -> Result<()> {
-    table.validate()?;
-    let units: Vec<String> = table
-        .columns
-        .iter()
-        .map(|c| format!("{}={}", c.name, c.units.replace(';', ",")))
-        .collect();
-    let mut text = format!("# units: {}\n", units.join("; "));
+/// The table as CSV text: the header row (column names), then one row per degree, numbers as
+/// [`csv_number`]. This is the one CSV form of a degree table, for files and standard output.
+pub fn degree_table_csv_text(table: &DegreeTable) -> String {
     let headers: Vec<&str> = table.columns.iter().map(|c| c.name.as_str()).collect();
-    let rows: Vec<Vec<String>> = (0..table.columns[0].values.len())
+    let rows: Vec<Vec<String>> = (0..table.columns.first().map_or(0, |c| c.values.len()))
         .map(|i| {
             table
                 .columns
@@ -135,8 +132,24 @@ pub fn write_degree_table_csv(path: &Path, table: &DegreeTable) -> Result<()> {
                 .collect()
         })
         .collect();
-    text.push_str(&super::csv_table::csv_text(&headers, &rows));
-    super::atomic::write_bytes_atomic(path, text.as_bytes())
+    super::csv_table::csv_text(&headers, &rows)
+}
+
+/// Writes the table as CSV and its sidecar `NAME.csv.json` (units, descriptions, the table's
+/// attributes and `provenance`), each atomically.
+pub fn write_degree_table_csv(
+    path: &Path,
+    table: &DegreeTable,
+    provenance: &Provenance,
+) -> Result<()> {
+    table.validate()?;
+    let mut sidecar = CsvSidecar::with_provenance(provenance);
+    for col in &table.columns {
+        sidecar.column(&col.name, &col.units, &col.long_name);
+    }
+    sidecar.attributes.extend(table.attributes.iter().cloned());
+    super::atomic::write_bytes_atomic(path, degree_table_csv_text(table).as_bytes())?;
+    write_sidecar(path, &sidecar)
 }
 
 /// Reads a degree table from NetCDF (recognised by signature) or CSV.
@@ -190,17 +203,29 @@ fn read_netcdf(path: &Path) -> Result<DegreeTable> {
 
 fn read_csv(path: &Path) -> Result<DegreeTable> {
     let table = super::csv_table::read_csv_table(path)?;
+    let sidecar = read_sidecar(path)?;
+    // files of earlier versions: units in a leading comment line
     let text = std::fs::read_to_string(path).map_err(|e| Error::io(path, e))?;
     let units_line = text
         .lines()
         .find_map(|l| l.trim().strip_prefix("# units:"))
         .unwrap_or("");
     let unit_of = |name: &str| {
+        if let Some(c) = sidecar.as_ref().and_then(|s| s.find(name)) {
+            return c.units.clone();
+        }
         units_line
             .split(';')
             .filter_map(|p| p.split_once('='))
             .find(|(n, _)| n.trim() == name)
             .map(|(_, u)| u.trim().to_string())
+            .unwrap_or_default()
+    };
+    let long_name_of = |name: &str| {
+        sidecar
+            .as_ref()
+            .and_then(|s| s.find(name))
+            .map(|c| c.long_name.clone())
             .unwrap_or_default()
     };
     if table.headers.first().map(|h| h.as_str()) != Some("degree") {
@@ -225,7 +250,7 @@ fn read_csv(path: &Path) -> Result<DegreeTable> {
         columns.push(DegreeColumn {
             name: name.clone(),
             units: unit_of(name),
-            long_name: String::new(),
+            long_name: long_name_of(name),
             values,
         });
     }

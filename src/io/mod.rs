@@ -8,8 +8,10 @@
 //!   attributes and atomic writes.
 
 pub mod atomic;
+pub mod csv_sidecar;
 pub mod csv_table;
 pub mod degree_table;
+pub mod filter_spectra;
 pub mod grid;
 pub mod model;
 pub mod netcdf_common;

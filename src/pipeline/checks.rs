@@ -5,9 +5,9 @@
 use std::path::Path;
 
 use crate::field::quantity::Quantity;
+use crate::io::filter_spectra::parse_filter_chain;
 use crate::observe::fit::Regularization;
 use crate::observe::gaps::GapPolicy;
-use crate::spectral::filter::FilterChain;
 
 pub fn check_quantity(q: &str) -> Result<(), String> {
     q.parse::<Quantity>().map(|_| ()).map_err(|e| e.to_string())
@@ -15,7 +15,7 @@ pub fn check_quantity(q: &str) -> Result<(), String> {
 
 /// Filter specs may name spectrum files (Wiener filters), relative to the config's folder.
 pub fn check_filter(spec: &str, base: &Path) -> Result<(), String> {
-    FilterChain::parse_relative_to(spec, base)
+    parse_filter_chain(spec, Some(base))
         .map(|_| ())
         .map_err(|e| e.to_string())
 }

@@ -247,7 +247,7 @@ fn load_input(job: &Job, name: &str, input: &Input) -> Result<(Product, Vec<Bloc
                     "1".into()
                 }
             });
-            let style = crate::report::maps::MapStyle {
+            let style = crate::report::raster::maps::MapStyle {
                 title: format!("{name}: observations"),
                 units: units.clone(),
                 degree_range: format!(
@@ -259,7 +259,7 @@ fn load_input(job: &Job, name: &str, input: &Input) -> Result<(Product, Vec<Bloc
                 ),
                 ..Default::default()
             };
-            let png = crate::report::maps::render_points_png(
+            let png = crate::report::raster::maps::render_points_png(
                 &set.lat_deg,
                 &set.lon_deg,
                 &set.value,
@@ -290,14 +290,14 @@ fn load_input(job: &Job, name: &str, input: &Input) -> Result<(Product, Vec<Bloc
                 },
             )?;
             let (nlat, nlon) = g.grid.shape();
-            let style = crate::report::maps::MapStyle {
+            let style = crate::report::raster::maps::MapStyle {
                 title: format!("{name}: {}", g.variable),
                 units: g.units.clone(),
                 degree_range: format!("input grid {nlat} x {nlon}"),
                 lat_deg: Some(g.grid.latitudes_deg()),
                 lon0_deg: g.grid.lon0_rad.to_degrees(),
             };
-            let png = crate::report::maps::render_map_png(&g.field, &style);
+            let png = crate::report::raster::maps::render_map_png(&g.field, &style);
             let blocks = vec![Block::Png {
                 bytes: png,
                 caption: format!("{name}: input grid {} ({})", path.display(), g.units),

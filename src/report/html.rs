@@ -3,6 +3,8 @@
 
 use std::fmt::Write as _;
 
+use super::markup::escape;
+
 /// A piece of a report section.
 #[derive(Debug, Clone)]
 pub enum Block {
@@ -187,22 +189,6 @@ figure{margin:1.2em 0}figure img,figure svg{max-width:100%;height:auto;border:1p
 figcaption{font-size:.9em;color:#555;margin-top:.3em}\
 .caution{border-left:6px solid #c0392b;background:#fdecea;padding:.8em 1em;margin:1em 0}\
 pre{background:#f0f2f4;padding:.8em;overflow-x:auto;font-size:.85em}";
-
-/// Escapes text for HTML element content and attribute values.
-pub fn escape(s: &str) -> String {
-    let mut out = String::with_capacity(s.len());
-    for c in s.chars() {
-        match c {
-            '&' => out.push_str("&amp;"),
-            '<' => out.push_str("&lt;"),
-            '>' => out.push_str("&gt;"),
-            '"' => out.push_str("&quot;"),
-            '\'' => out.push_str("&#39;"),
-            _ => out.push(c),
-        }
-    }
-    out
-}
 
 /// Standard base64 with padding (RFC 4648 §4).
 pub fn base64(bytes: &[u8]) -> String {

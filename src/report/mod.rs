@@ -1,10 +1,9 @@
 //! Quick-look pictures and the run report: PNG maps, SVG spectrum plots, HTML. Computes no
 //! science.
 
-pub mod canvas;
-pub mod colormap;
-pub mod font;
 pub mod html;
-pub mod maps;
+pub mod markup;
 pub mod plots;
+pub mod raster;
 pub mod ticks;
+pub mod units_text;

@@ -26,7 +26,7 @@ use super::degree_power::{
 use super::spectrum::{check_confidence, trim_number};
 use super::stats::{f_quantile, student_t_quantile};
 use super::table::SpectralTable;
-use super::units::{half_wavelength_km, squared_units};
+use super::units::{half_wavelength_km, product_units, quotient_units, squared_units};
 use crate::coeffs::Coefficients;
 use crate::error::Result;
 
@@ -53,7 +53,10 @@ impl Default for CompareOptions {
 pub struct Comparison {
     pub lmax: usize,
     pub reference_radius_m: f64,
+    /// Units of the reference model A's coefficients.
     pub units: String,
+    /// Units of the compared model B's coefficients (differ from `units` only when forced).
+    pub other_units: String,
     pub confidence: f64,
     /// Names used in plots and summaries (set by the caller; default "A" and "B").
     pub reference_label: String,
@@ -161,6 +164,7 @@ impl Comparison {
             lmax,
             reference_radius_m: radius,
             units: pair.reference.units.clone(),
+            other_units: pair.other.units.clone(),
             confidence: c,
             reference_label: "A".into(),
             other_label: "B".into(),
@@ -186,6 +190,7 @@ impl Comparison {
     /// All per-degree quantities as named columns with units, first `degree`.
     pub fn to_table(&self) -> SpectralTable {
         let sq = squared_units(&self.units);
+        let other_sq = squared_units(&self.other_units);
         let pct = format!("{}%", trim_number(self.confidence * 100.0));
         let mut t = SpectralTable::with_degrees(self.lmax);
         t.push(
@@ -199,13 +204,13 @@ impl Comparison {
         );
         t.push(
             "compared_degree_variance",
-            &sq,
+            &other_sq,
             &format!("degree variance of the compared model {}", self.other_label),
             self.other_power.clone(),
         );
         t.push(
             "cross_power",
-            &sq,
+            &product_units(&self.units, &self.other_units),
             "cross power: sum over m of (C_A C_B + S_A S_B)",
             self.cross_power.clone(),
         );
@@ -218,25 +223,25 @@ impl Comparison {
         t.push("correlation_threshold", "1", &format!("two-sided {pct} significance threshold of the degree correlation (Student t, 2l dof)"), self.correlation_threshold.clone());
         t.push(
             "admittance",
-            "1",
+            &quotient_units(&self.units, &self.other_units),
             "admittance S_AB / S_B (reference regressed on the compared model, in reference units per compared unit)",
             self.admittance.clone(),
         );
         t.push(
             "power_ratio",
-            "1",
+            &quotient_units(&other_sq, &sq),
             "power ratio S_B / S_A",
             self.power_ratio.clone(),
         );
         t.push(
             "power_ratio_lower",
-            "1",
+            &quotient_units(&other_sq, &sq),
             &format!("lower end of the {pct} interval of the power ratio (F with 2l+1, 2l+1 dof)"),
             self.power_ratio_lower.clone(),
         );
         t.push(
             "power_ratio_upper",
-            "1",
+            &quotient_units(&other_sq, &sq),
             &format!("upper end of the {pct} interval of the power ratio (F with 2l+1, 2l+1 dof)"),
             self.power_ratio_upper.clone(),
         );
@@ -265,6 +270,9 @@ impl Comparison {
         t.attribute("compared_model", &self.other_label);
         t.number_attribute("reference_radius_m", self.reference_radius_m);
         t.attribute("coefficient_units", &self.units);
+        if self.other_units.trim() != self.units.trim() {
+            t.attribute("compared_coefficient_units", &self.other_units);
+        }
         t.attribute(
             "agreement_degree",
             self.agreement_degree

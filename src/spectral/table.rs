@@ -1,7 +1,7 @@
 //! A degree-indexed table of named columns, independent of any file format; `io::degree_table`
 //! writes it as NetCDF (dimension `degree`) or CSV. The first column is always `degree`.
 
-/// One per-degree quantity with its units (UDUNITS) and a human description.
+/// One per-degree quantity with its units (CF units string) and a human description.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SpectralColumn {
     pub name: String,

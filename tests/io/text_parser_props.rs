@@ -12,7 +12,7 @@ fn table_like_line() -> impl Strategy<Value = String> {
     prop_oneof![
         "[ -~]{0,40}",
         (0u32..12, 0u32..12, any::<f64>(), any::<f64>()).prop_map(|(l, m, c, s)| format!("{l} {m} {c:e} {s:e}")),
-        (0u32..8, 0u32..8, -1e3f64..1e3).prop_map(|(l, m, c)| format!("gfc,{l},{m},{c},0,1e-9,1e-9")),
+        (0u32..8, 0u32..8, -1e3f64..1e3).prop_map(|(l, m, c)| format!("coef,{l},{m},{c},0,1e-9,1e-9")),
         "(normalization|lmax|units|reference_radius_m|gm_m3_s2|condon_shortley_phase) = [ -~]{0,12}",
         Just("99999999999999999999 0 1 0".to_string()),
         Just("100001 0 1 0".to_string()),

@@ -215,3 +215,32 @@ fn admittance_is_the_reference_per_unit_of_the_compared_model() {
         );
     }
 }
+
+#[test]
+fn admittance_carries_the_quotient_of_the_two_models_units() {
+    // Units of a regression coefficient A on B are units(A)/units(B) (common practice); for
+    // gravity in mGal against topography in m that is `mGal m-1` in the units-string spelling of
+    // the CF conventions. A's units count for the reference, B's for the compared model.
+    let lmax = 20;
+    let mut gravity = random_model(lmax, 11, variance);
+    gravity.units = "mGal".into();
+    let mut topography = random_model(lmax, 12, variance);
+    topography.units = "m".into();
+    let forced = CompareOptions {
+        force: true,
+        ..CompareOptions::default()
+    };
+    let cmp = Comparison::compute(&gravity, &topography, &forced).unwrap();
+    let table = cmp.to_table();
+    let units = |name: &str| table.column(name).unwrap().units.clone();
+    assert_eq!(units("admittance"), "mGal m-1");
+    assert_eq!(units("reference_degree_variance"), "mGal^2");
+    assert_eq!(units("compared_degree_variance"), "m^2");
+    assert_eq!(units("cross_power"), "mGal m");
+    assert_eq!(units("power_ratio"), "m2 mGal-2");
+    assert_eq!(units("correlation"), "1");
+    // equal units: the admittance is dimensionless
+    let same = Comparison::compute(&gravity, &gravity, &CompareOptions::default()).unwrap();
+    assert_eq!(same.to_table().column("admittance").unwrap().units, "1");
+    assert_eq!(same.to_table().column("power_ratio").unwrap().units, "1");
+}

@@ -59,7 +59,7 @@ fn every_order_of_a_chain_gives_the_same_result() {
     assert_eq!(perms.len(), 720);
     for p in &perms {
         let ordered: Vec<String> = p.iter().map(|&i| specs[i].clone()).collect();
-        let chain = FilterChain::from_specs(&ordered).unwrap();
+        let chain = kugel::io::filter_spectra::filter_chain_from_specs(&ordered).unwrap();
         let mut out = input.clone();
         chain.apply(&mut out).unwrap();
         match &reference {
@@ -85,7 +85,7 @@ fn every_order_of_a_chain_gives_the_same_result() {
     let r = reference.unwrap();
     assert_eq!(r.c(0, 0), 0.0);
     assert_eq!(r.c(120, 7), 0.0);
-    let chain = FilterChain::from_specs(&specs).unwrap();
+    let chain = kugel::io::filter_spectra::filter_chain_from_specs(&specs).unwrap();
     let w = chain.weights(120, 6_371_000.0).unwrap();
     assert!(w[30] > 0.0 && w[30] < 1.0);
     assert!(

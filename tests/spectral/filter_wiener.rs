@@ -1,9 +1,11 @@
-//! The Wiener filter reads the spectrum files kugel writes (CSV with a units comment, and the
-//! NetCDF twin) and gives W_l = S_l/(S_l + N_l) (Wiener 1949).
+//! The Wiener filter takes the spectrum files kugel writes (CSV with its sidecar, and the
+//! NetCDF twin), read through `io::filter_spectra`, and gives W_l = S_l/(S_l + N_l)
+//! (Wiener 1949).
 
 use kugel::io::degree_table::{
     write_degree_table_csv, write_degree_table_netcdf, DegreeColumn, DegreeTable,
 };
+use kugel::io::filter_spectra::parse_filter_chain;
 use kugel::io::provenance::Provenance;
 use kugel::spectral::filter::FilterChain;
 
@@ -41,11 +43,14 @@ fn reads_spectra_written_as_csv_and_netcdf() {
         .collect();
     let s_csv = dir.path().join("signal.csv");
     let n_nc = dir.path().join("noise.nc");
-    write_degree_table_csv(&s_csv, &spectrum(signal.clone())).unwrap();
+    write_degree_table_csv(&s_csv, &spectrum(signal.clone()), &Provenance::default()).unwrap();
     write_degree_table_netcdf(&n_nc, &spectrum(noise.clone()), &Provenance::default()).unwrap();
 
-    let chain =
-        FilterChain::parse(&format!("wiener:{},{}", s_csv.display(), n_nc.display())).unwrap();
+    let spec = format!("wiener:{},{}", s_csv.display(), n_nc.display());
+    let chain = parse_filter_chain(&spec, None).unwrap();
+    // the filter code itself reads no files: without a reader the spec is refused
+    let refused = FilterChain::parse(&spec).unwrap_err().to_string();
+    assert!(refused.contains("signal.csv"), "{refused}");
     let w = chain.weights(60, 6_371_000.0).unwrap();
     for l in 0..=60 {
         let expect = signal[l] / (signal[l] + noise[l]);

@@ -2,6 +2,7 @@
 //! One test binary per area; each module below was a test file of its own.
 
 mod compare;
+mod csv_outputs;
 mod filter_chain_order;
 mod filter_continuation;
 mod filter_gauss_weights;

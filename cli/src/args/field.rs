@@ -54,7 +54,7 @@ impl FieldOptions {
             None
         } else {
             Some(
-                FilterChain::from_specs(&self.filter)
+                kugel::io::filter_spectra::filter_chain_from_specs(&self.filter)
                     .map_err(|e| Error::invalid(format!("--filter: {e}")))?,
             )
         };

@@ -18,7 +18,7 @@ pub struct PointInputArgs {
     /// Radius of the body the points lie on, km (mean Earth radius by default).
     #[arg(long, value_name = "KM", default_value_t = 6371.0)]
     pub body_radius_km: f64,
-    /// Units of the observed values (UDUNITS string written to the output).
+    /// Units of the observed values (CF units string written to the output).
     #[arg(long, default_value = "1")]
     pub units: String,
 }

@@ -11,7 +11,9 @@ use crate::args::field::{self as field_options, FieldOptions};
 use crate::progress_bar::TerminalProgress;
 use kugel::error::Error;
 use kugel::field::{evaluate_at_points, Ellipsoid, GeocentricPoint, Quantity, SynthesisRequest};
+use kugel::io::csv_sidecar::{write_sidecar, CsvSidecar};
 use kugel::io::csv_table::{csv_text, read_csv_table, CsvTable};
+use kugel::io::provenance::Provenance;
 use kugel::progress::Progress;
 
 #[derive(Debug, clap::Args)]
@@ -75,19 +77,22 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     progress.finish();
 
     let (headers, rows) = output_table(&table, &request.quantities, &columns)?;
-    let mut text = String::new();
+    // the CSV starts with its header row; units, cautions and provenance go to the sidecar
+    let mut sidecar =
+        CsvSidecar::with_provenance(&Provenance::from_command_line(ctx.command_line.clone()));
     for q in &request.quantities {
+        let name = &headers[table.headers.len() + sidecar.columns.len()];
+        let units = q.units().unwrap_or(model.units.as_str());
+        sidecar.column(name, units, q.long_name());
         if let Some(c) = kugel::field::cautions::caution_for(*q) {
-            text.push_str(&format!("# caution ({q}): {c}\n"));
+            sidecar.cautions.push(format!("{q}: {c}"));
         }
     }
-    text.push_str(&format!(
-        "# {}; command: {}\n",
-        kugel::io::provenance::source_attribute(),
-        ctx.command_line
-    ));
-    text.push_str(&csv_text(&headers, &rows));
-    kugel::io::atomic::write_bytes_atomic(&args.output, text.as_bytes())
+    if headers.last().map(String::as_str) == Some("residual") {
+        sidecar.column("residual", &model.units, "value minus model value");
+    }
+    kugel::io::atomic::write_bytes_atomic(&args.output, csv_text(&headers, &rows).as_bytes())
+        .and_then(|()| write_sidecar(&args.output, &sidecar))
         .with_context(|| format!("writing {}", args.output.display()))?;
     field_options::print_cautions(&request.quantities);
     if !ctx.quiet {

@@ -69,7 +69,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     if let Some(w) = &args.weights {
         refuse_overwrite_of_input(w, &[&args.model, &args.output])?;
     }
-    let chain = FilterChain::from_specs(&args.filters)?;
+    let chain = kugel::io::filter_spectra::filter_chain_from_specs(&args.filters)?;
     let continuation = continuation_request(args)?;
     if chain.is_empty() && continuation.is_none() {
         return Err(Error::invalid(
@@ -328,7 +328,7 @@ impl WeightTable {
         if is_netcdf_path(path) {
             write_degree_table_netcdf(path, &self.table, provenance)
         } else {
-            write_degree_table_csv(path, &self.table)
+            write_degree_table_csv(path, &self.table, provenance)
         }
     }
 }

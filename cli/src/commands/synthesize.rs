@@ -12,7 +12,7 @@ use kugel::field::{cautions, Quantity, SynthesisRequest, TargetSurface};
 use kugel::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use kugel::io::provenance::Provenance;
 use kugel::progress::Progress;
-use kugel::report::maps::{render_map_png, MapStyle};
+use kugel::report::raster::maps::{render_map_png, MapStyle};
 use kugel::sht::{GaussGrid, Grid};
 
 #[derive(Debug, clap::Args)]

@@ -47,8 +47,22 @@ fn evaluate_keeps_columns_and_adds_quantities() {
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let stderr = String::from_utf8_lossy(&o.stderr);
     assert!(stderr.contains("not for navigation"), "{stderr}");
+    // the caution travels in the CSV's sidecar; the CSV starts with its header row
+    let sidecar = kugel::io::csv_sidecar::read_sidecar(&out).unwrap().unwrap();
+    assert!(
+        sidecar
+            .cautions
+            .iter()
+            .any(|c| c.starts_with("declination:")),
+        "{:?}",
+        sidecar.cautions
+    );
+    assert_eq!(sidecar.find("z").unwrap().units, "nT");
     let text = std::fs::read_to_string(&out).unwrap();
-    assert!(text.contains("# caution (declination)"), "{text}");
+    assert!(
+        text.starts_with("station,lat,lon,altitude_km,z,declination\n"),
+        "{text}"
+    );
     let table = kugel::io::csv_table::read_csv_table(&out).unwrap();
     assert_eq!(
         table.headers,

@@ -22,7 +22,7 @@ use crate::sht::{Grid, GridKind};
 pub struct GridVariable {
     pub name: String,
     pub long_name: String,
-    /// UDUNITS string (e.g. "m", "mGal", "nT", "1").
+    /// CF units string (e.g. "m", "mGal", "nT", "1").
     pub units: String,
     pub standard_name: Option<String>,
     /// lat × lon, in the order of `GridFile::lat_deg` and `GridFile::lon_deg`; NaN = masked.

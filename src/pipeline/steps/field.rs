@@ -9,16 +9,17 @@ use crate::field::quantity::Quantity;
 use crate::field::synthesis::{
     evaluate_at_points, synthesize_on_grid, GeocentricPoint, SynthesisRequest, TargetSurface,
 };
+use crate::io::csv_sidecar::{write_sidecar, CsvSidecar};
 use crate::io::csv_table::write_csv_table;
+use crate::io::filter_spectra::parse_filter_chain;
 use crate::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use crate::io::provenance::Provenance;
 use crate::pipeline::file_names::StepFiles;
 use crate::pipeline::products::Product;
 use crate::pipeline::step_spec::{EvaluateStep, SynthesizeStep};
 use crate::report::html::Block;
-use crate::report::maps::{render_map_png, render_points_png, MapStyle};
+use crate::report::raster::maps::{render_map_png, render_points_png, MapStyle};
 use crate::sht::GaussGrid;
-use crate::spectral::filter::FilterChain;
 
 /// Grid-writing options from the config's `[output]`.
 pub(super) fn write_options<'a>(env: &StepEnv, provenance: &'a Provenance) -> GridWriteOptions<'a> {
@@ -43,7 +44,7 @@ pub fn synthesize(name: &str, step: &SynthesizeStep, env: &StepEnv) -> Result<St
     let chain = step
         .filter
         .as_deref()
-        .map(|f| FilterChain::parse_relative_to(f, &env.job.base_dir))
+        .map(|f| parse_filter_chain(f, Some(&env.job.base_dir)))
         .transpose()?;
     let altitude_m = step.altitude_km.unwrap_or(0.0) * 1e3;
     let surface = if altitude_m == 0.0 {
@@ -189,11 +190,25 @@ pub fn evaluate(name: &str, step: &EvaluateStep, env: &StepEnv) -> Result<StepOu
             })
             .collect();
         let file = StepFiles(name).residuals("csv");
+        let path = env.staging_dir.join(&file);
         write_csv_table(
-            &env.staging_dir.join(&file),
+            &path,
             &["lat_deg", "lon_deg", "observed", "model", "residual"],
             &rows,
         )?;
+        let mut sidecar =
+            CsvSidecar::with_provenance(&env.provenance_for(Some(model.lmax()), None));
+        sidecar
+            .column("lat_deg", "degree_north", "latitude")
+            .column("lon_deg", "degree_east", "longitude")
+            .column("observed", &units, &format!("observed {}", q.name()))
+            .column("model", &units, &format!("model {}", q.name()))
+            .column("residual", &units, "observed minus model");
+        write_sidecar(&path, &sidecar)?;
+        out.files.push((
+            format!("{file}.json"),
+            "units and provenance of the CSV".into(),
+        ));
         out.files.push((
             file,
             format!(

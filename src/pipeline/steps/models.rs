@@ -3,13 +3,13 @@
 
 use super::{ReportPart, StepEnv, StepOutcome};
 use crate::error::{Error, Result};
+use crate::io::filter_spectra::parse_filter_chain;
 use crate::io::model::write_model;
 use crate::pipeline::file_names::StepFiles;
 use crate::pipeline::products::Product;
 use crate::pipeline::step_spec::{AnalyzeStep, FilterStep};
 use crate::report::html::Block;
 use crate::sht::TransformPlan;
-use crate::spectral::filter::FilterChain;
 
 pub fn analyze(name: &str, step: &AnalyzeStep, env: &StepEnv) -> Result<StepOutcome> {
     let input = &step.input;
@@ -53,7 +53,7 @@ pub fn analyze(name: &str, step: &AnalyzeStep, env: &StepEnv) -> Result<StepOutc
 
 pub fn filter(name: &str, step: &FilterStep, env: &StepEnv) -> Result<StepOutcome> {
     let mut model = env.model(&step.model)?.clone();
-    let chain = FilterChain::parse_relative_to(&step.filter, &env.job.base_dir)?;
+    let chain = parse_filter_chain(&step.filter, Some(&env.job.base_dir))?;
     chain.apply(&mut model)?;
     let mut out = StepOutcome::default();
     let file = StepFiles(name).model_nc();

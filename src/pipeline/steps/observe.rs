@@ -13,7 +13,7 @@ use crate::pipeline::file_names::StepFiles;
 use crate::pipeline::products::{Points, Product};
 use crate::pipeline::step_spec::{FitStep, GridStep};
 use crate::report::html::Block;
-use crate::report::maps::{render_map_png, MapStyle};
+use crate::report::raster::maps::{render_map_png, MapStyle};
 use crate::sht::TransformPlan;
 
 /// Points in the units the model is fitted in: a disturbing potential T (m² s⁻²) becomes the

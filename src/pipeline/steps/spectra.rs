@@ -32,7 +32,15 @@ fn write_table(
     }
     if cfg.wants("csv") {
         let file = StepFiles(name).main("csv");
-        write_degree_table_csv(&env.staging_dir.join(&file), &degree_table)?;
+        write_degree_table_csv(
+            &env.staging_dir.join(&file),
+            &degree_table,
+            &env.provenance_for(Some(lmax), None),
+        )?;
+        out.files.push((
+            format!("{file}.json"),
+            "units and provenance of the CSV".into(),
+        ));
         out.files.push((file, format!("{what} (CSV)")));
     }
     Ok(())

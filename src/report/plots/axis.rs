@@ -2,6 +2,7 @@
 //! (powers of ten written as 10 with a superscript exponent in SVG text, no fonts needed).
 
 use super::svg::Markup;
+use crate::report::ticks::{multiples_inside, nice_step};
 
 /// Scale of an axis.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -105,31 +106,15 @@ impl Axis {
 
     fn linear_ticks(&self) -> Vec<Tick> {
         let step = nice_step((self.max - self.min) / 5.0);
-        let first = (self.min / step).ceil() as i64;
-        let last = (self.max / step).floor() as i64;
-        (first..=last)
-            .map(|i| {
-                let v = i as f64 * step;
-                Tick {
-                    value: v,
-                    major: true,
-                    label: Some(Markup::plain(&format_linear(v, step))),
-                }
+        multiples_inside(self.min, self.max, step)
+            .into_iter()
+            .map(|v| Tick {
+                value: v,
+                major: true,
+                label: Some(Markup::plain(&format_linear(v, step))),
             })
             .collect()
     }
-}
-
-/// Smallest 1, 2 or 5 × 10^k not below `raw`.
-pub fn nice_step(raw: f64) -> f64 {
-    let e = raw.log10().floor();
-    let base = 10f64.powf(e);
-    for m in [1.0, 2.0, 5.0, 10.0] {
-        if m * base >= raw * (1.0 - 1e-12) {
-            return m * base;
-        }
-    }
-    10.0 * base
 }
 
 fn format_linear(v: f64, step: f64) -> String {
@@ -244,7 +229,6 @@ mod tests {
             .filter_map(|t| t.label.map(|m| m.0))
             .collect();
         assert_eq!(labels, ["−1.0", "−0.5", "0.0", "0.5", "1.0"]);
-        assert_eq!(nice_step(0.37), 0.5);
         assert_eq!(
             one_two_five_values(30.0, 700.0),
             vec![50.0, 100.0, 200.0, 500.0]

@@ -4,21 +4,7 @@
 
 use std::fmt::Write;
 
-/// Escapes text for XML content and attribute values.
-pub fn escape(text: &str) -> String {
-    let mut out = String::with_capacity(text.len());
-    for ch in text.chars() {
-        match ch {
-            '&' => out.push_str("&amp;"),
-            '<' => out.push_str("&lt;"),
-            '>' => out.push_str("&gt;"),
-            '"' => out.push_str("&quot;"),
-            '\'' => out.push_str("&apos;"),
-            c => out.push(c),
-        }
-    }
-    out
-}
+use crate::report::markup::escape;
 
 /// Text already made of escaped text and `<tspan>` markup (e.g. a superscript exponent).
 #[derive(Debug, Clone, PartialEq)]
@@ -266,8 +252,7 @@ mod tests {
     use super::*;
 
     #[test]
-    fn escapes_markup_characters() {
-        assert_eq!(escape("a<b & \"c\""), "a&lt;b &amp; &quot;c&quot;");
+    fn numbers_are_short_and_round() {
         assert_eq!(fmt(1.005), "1");
         assert_eq!(fmt(-0.001), "0");
         assert_eq!(fmt(12.5), "12.5");

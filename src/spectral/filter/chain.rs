@@ -7,7 +7,7 @@ use super::butterworth::Butterworth;
 use super::gauss::GaussFilter;
 use super::spec;
 use super::taper::{Bandpass, Highpass, Lowpass};
-use super::wiener::WienerFilter;
+use super::wiener::{no_spectrum_files, SpectrumReader, WienerFilter};
 use crate::coeffs::Coefficients;
 use crate::error::{Error, Result};
 
@@ -109,26 +109,36 @@ pub struct FilterChain {
 }
 
 impl FilterChain {
-    /// Parses one spec such as `gauss:300` or a chain `gauss:300+lowpass:40-50`.
+    /// Parses one spec such as `gauss:300` or a chain `gauss:300+lowpass:40-50` that names no
+    /// spectrum files (`wiener` needs [`FilterChain::parse_with`]; for files the caller is
+    /// `io::filter_spectra::parse_filter_chain`).
     pub fn parse(spec: &str) -> Result<FilterChain> {
+        Self::parse_with(spec, None, &no_spectrum_files)
+    }
+
+    /// Parses a spec or chain; the spectra named by `wiener` specs come from `read`, relative
+    /// paths resolved against `base` (the folder of a config file) when given.
+    pub fn parse_with(
+        spec: &str,
+        base: Option<&Path>,
+        read: SpectrumReader,
+    ) -> Result<FilterChain> {
         Ok(FilterChain {
-            filters: spec::parse_chain(spec, None)?,
+            filters: spec::parse_chain(spec, base, read)?,
         })
     }
 
-    /// Like [`FilterChain::parse`], resolving relative spectrum paths against `base` (the
-    /// folder of a config file).
-    pub fn parse_relative_to(spec: &str, base: &Path) -> Result<FilterChain> {
-        Ok(FilterChain {
-            filters: spec::parse_chain(spec, Some(base))?,
-        })
-    }
-
-    /// Several specs (each may itself be a `+` chain), as given by repeated `--filter`.
+    /// Several specs (each may itself be a `+` chain), as given by repeated `--filter`, naming
+    /// no spectrum files.
     pub fn from_specs(specs: &[String]) -> Result<FilterChain> {
+        Self::from_specs_with(specs, &no_spectrum_files)
+    }
+
+    /// Several specs with the spectra of `wiener` specs from `read`.
+    pub fn from_specs_with(specs: &[String], read: SpectrumReader) -> Result<FilterChain> {
         let mut filters = Vec::new();
         for s in specs {
-            filters.extend(spec::parse_chain(s, None)?);
+            filters.extend(spec::parse_chain(s, None, read)?);
         }
         Ok(FilterChain { filters })
     }

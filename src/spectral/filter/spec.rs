@@ -19,20 +19,21 @@ use super::butterworth::Butterworth;
 use super::chain::Filter;
 use super::gauss::GaussFilter;
 use super::taper::{Bandpass, Highpass, Lowpass};
-use super::wiener::{NoiseSource, WienerFilter};
+use super::wiener::{no_spectrum_files, NoiseSource, SpectrumReader, WienerFilter};
 use crate::error::{Error, Result};
 
 /// The kinds accepted, for error messages.
 pub const KINDS: &str = "gauss, lowpass, highpass, bandpass, butterworth, wiener";
 
-/// Parses one filter spec (no `+`). Relative spectrum paths are taken as given (relative to
-/// the working directory); use [`parse_one_relative_to`] to resolve them against a config.
+/// Parses one filter spec (no `+`) that names no spectrum files (a `wiener` spec is refused:
+/// parse those with [`parse_one_with`] and a reader of spectra).
 pub fn parse_one(spec: &str) -> Result<Filter> {
-    parse_one_relative_to(spec, None)
+    parse_one_with(spec, None, &no_spectrum_files)
 }
 
-/// Parses one filter spec, resolving relative file paths against `base` when given.
-pub fn parse_one_relative_to(spec: &str, base: Option<&Path>) -> Result<Filter> {
+/// Parses one filter spec; the spectra a `wiener` spec names are obtained from `read`, with
+/// relative paths resolved against `base` when given.
+pub fn parse_one_with(spec: &str, base: Option<&Path>, read: SpectrumReader) -> Result<Filter> {
     let spec = spec.trim();
     let (kind, args) = spec.split_once(':').ok_or_else(|| {
         Error::invalid(format!(
@@ -91,7 +92,7 @@ pub fn parse_one_relative_to(spec: &str, base: Option<&Path>) -> Result<Filter> 
                 }
                 None => NoiseSource::File(resolve(noise, base)),
             };
-            WienerFilter::load(&resolve(signal, base), noise)
+            WienerFilter::load(&resolve(signal, base), noise, read)
                 .map(Filter::Wiener)
                 .map_err(|e| Error::invalid(format!("filter '{spec}': {e}")))
         }
@@ -101,8 +102,8 @@ pub fn parse_one_relative_to(spec: &str, base: Option<&Path>) -> Result<Filter> 
     }
 }
 
-/// Splits `spec` on `+` and parses each part.
-pub fn parse_chain(spec: &str, base: Option<&Path>) -> Result<Vec<Filter>> {
+/// Splits `spec` on `+` and parses each part (spectra from `read`, see [`parse_one_with`]).
+pub fn parse_chain(spec: &str, base: Option<&Path>, read: SpectrumReader) -> Result<Vec<Filter>> {
     if spec.trim().is_empty() {
         return Ok(Vec::new());
     }
@@ -113,7 +114,7 @@ pub fn parse_chain(spec: &str, base: Option<&Path>) -> Result<Vec<Filter>> {
                     "filter chain '{spec}': empty part between '+' signs"
                 )))
             } else {
-                parse_one_relative_to(part, base)
+                parse_one_with(part, base, read)
             }
         })
         .collect()
@@ -191,7 +192,7 @@ mod tests {
             let msg = parse_one(spec).unwrap_err().to_string();
             assert!(msg.contains(want), "{spec}: {msg}");
         }
-        let msg = parse_chain("gauss:300++lowpass:3-4", None)
+        let msg = parse_chain("gauss:300++lowpass:3-4", None, &no_spectrum_files)
             .unwrap_err()
             .to_string();
         assert!(msg.contains("empty part"), "{msg}");

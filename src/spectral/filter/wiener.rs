@@ -8,16 +8,28 @@
 //!   W_l = S_l / (S_l + N_l),   and W_l = 0 where S_l = N_l = 0.
 //!
 //! S_l is the spectrum of the signal alone; passing the spectrum of the noisy observations
-//! instead gives (S+N)/(S+2N), a milder filter. Spectra are read from the files `kugel
-//! spectrum` writes (CSV with a first column `degree` and a column `degree_variance`, `#`
-//! comment lines allowed, or the NetCDF twin), one row per degree. A constant noise level
-//! (`noise=1e-18`) is the degree variance N_l at every degree.
+//! instead gives (S+N)/(S+2N), a milder filter. The spectra are named by path in the spec and
+//! handed in as numbers by a [`SpectrumReader`] (for files,
+//! `io::filter_spectra::read_degree_variance_spectrum` reads what `kugel spectrum` writes), so
+//! this module reads no files. A constant noise level (`noise=1e-18`) is the degree variance
+//! N_l at every degree.
 
 use std::path::{Path, PathBuf};
 
 use crate::error::{Error, Result};
-use crate::io::csv_table::read_csv_table;
-use crate::io::degree_table::read_degree_table;
+
+/// Gives the degree-variance spectrum S_l (index = degree, every degree from 0) named by a
+/// path in a `wiener` spec; errors name the path.
+pub type SpectrumReader<'a> = &'a dyn Fn(&Path) -> Result<Vec<f64>>;
+
+/// A [`SpectrumReader`] for parsers that must not touch files: refuses every spectrum.
+pub fn no_spectrum_files(path: &Path) -> Result<Vec<f64>> {
+    Err(Error::invalid(format!(
+        "spectrum {}: this parser is given no spectra; parse wiener filters through \
+         io::filter_spectra, which reads the files",
+        path.display()
+    )))
+}
 
 /// The noise part of a Wiener filter.
 #[derive(Debug, Clone, PartialEq)]
@@ -40,12 +52,13 @@ pub struct WienerFilter {
 }
 
 impl WienerFilter {
-    /// Reads the signal spectrum (and the noise spectrum when given as a file).
-    pub fn load(signal_path: &Path, noise: NoiseSource) -> Result<Self> {
-        let signal = read_spectrum_file(signal_path)?;
+    /// The filter of the signal spectrum at `signal_path` and the noise, the spectra given by
+    /// `read`. Spectrum values must be finite and ≥ 0.
+    pub fn load(signal_path: &Path, noise: NoiseSource, read: SpectrumReader) -> Result<Self> {
+        let signal = checked(signal_path, read(signal_path)?)?;
         let noise = match noise {
             NoiseSource::File(p) => NoiseLevel::Spectrum {
-                degree_variance: read_spectrum_file(&p)?,
+                degree_variance: checked(&p, read(&p)?)?,
                 path: p,
             },
             NoiseSource::Constant(v) => {
@@ -115,6 +128,24 @@ impl WienerFilter {
     }
 }
 
+/// `values` when every one is a finite degree variance ≥ 0 (whoever supplied them).
+fn checked(path: &Path, values: Vec<f64>) -> Result<Vec<f64>> {
+    if let Some((l, v)) = values
+        .iter()
+        .enumerate()
+        .find(|(_, v)| !(v.is_finite() && **v >= 0.0))
+    {
+        return Err(Error::format(
+            path,
+            format!("degree {l}: degree_variance {v} is not a finite number ≥ 0"),
+        ));
+    }
+    if values.is_empty() {
+        return Err(Error::format(path, "the spectrum has no degrees"));
+    }
+    Ok(values)
+}
+
 /// Where the noise spectrum comes from, before it is read.
 #[derive(Debug, Clone, PartialEq)]
 pub enum NoiseSource {
@@ -122,116 +153,53 @@ pub enum NoiseSource {
     Constant(f64),
 }
 
-/// Reads a degree-variance spectrum (the CSV or NetCDF that `kugel spectrum` writes, through
-/// `io::degree_table`): returns S_l indexed by degree 0..=max degree.
-///
-/// Every degree from 0 to the largest one present must appear exactly once (a spectrum with
-/// gaps cannot define a filter); values must be finite and ≥ 0. Errors name the file and the
-/// degree (CSV: also the line).
-pub fn read_spectrum_file(path: &Path) -> Result<Vec<f64>> {
-    let table = read_degree_table(path)?;
-    let degrees = &table.columns[0].values;
-    let variances = &table
-        .column("degree_variance")
-        .ok_or_else(|| {
-            let names: Vec<&str> = table.columns.iter().map(|c| c.name.as_str()).collect();
-            Error::format(
-                path,
-                format!(
-                    "no column 'degree_variance' (columns are: {})",
-                    names.join(", ")
-                ),
-            )
-        })?
-        .values;
-    // CSV rows keep their file lines for the messages; NetCDF rows are named by degree only
-    let lines = read_csv_table(path).ok().map(|t| t.line_numbers);
-    let row_err = |row: usize, message: String| match lines.as_ref().and_then(|l| l.get(row)) {
-        Some(&line) => Error::Line {
-            path: path.to_path_buf(),
-            line,
-            message,
-        },
-        None => Error::format(path, message),
-    };
-    let mut values: Vec<Option<f64>> = Vec::new();
-    for (row, (&d, &v)) in degrees.iter().zip(variances).enumerate() {
-        let degree = d as usize;
-        if !(v.is_finite() && v >= 0.0) {
-            return Err(row_err(
-                row,
-                format!("degree {degree}: degree_variance {v} is not a finite number ≥ 0"),
-            ));
-        }
-        if values.len() <= degree {
-            values.resize(degree + 1, None);
-        }
-        if values[degree].replace(v).is_some() {
-            return Err(row_err(row, format!("degree {degree} appears twice")));
-        }
-    }
-    if values.is_empty() {
-        return Err(Error::format(path, "no spectrum rows after the header"));
-    }
-    values
-        .iter()
-        .enumerate()
-        .map(|(l, v)| {
-            v.ok_or_else(|| {
-                Error::format(
-                    path,
-                    format!("degree {l} is missing (spectra must list every degree)"),
-                )
-            })
-        })
-        .collect()
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
 
-    fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
-        let p = dir.join(name);
-        std::fs::write(&p, text).unwrap();
-        p
+    /// Spectra held in memory, by file name.
+    fn from_memory(path: &Path) -> Result<Vec<f64>> {
+        match path.to_str() {
+            Some("s") => Ok(vec![0.0, 3.0, 1.0]),
+            Some("n") => Ok(vec![0.0, 1.0, 3.0]),
+            Some("bad") => Ok(vec![1.0, f64::NAN]),
+            _ => Err(Error::invalid(format!("no spectrum {}", path.display()))),
+        }
     }
 
     #[test]
     fn weights_are_signal_over_total() {
-        let dir = tempfile::tempdir().unwrap();
-        let s = write(
-            dir.path(),
-            "s.csv",
-            "# spectrum\ndegree,degree_amplitude,degree_variance\n0,0,0\n1,1,3\n2,1,1\n",
-        );
-        let n = write(
-            dir.path(),
-            "n.csv",
-            "degree,degree_variance\n2,3\n1,1\n0,0\n",
-        );
-        let f = WienerFilter::load(&s, NoiseSource::File(n)).unwrap();
+        // W_l = S_l/(S_l + N_l) (Wiener 1949), 0 where both vanish
+        let s = Path::new("s");
+        let f = WienerFilter::load(s, NoiseSource::File("n".into()), &from_memory).unwrap();
         assert_eq!(f.weights(2).unwrap(), vec![0.0, 0.75, 0.25]);
-        let c = WienerFilter::load(&s, NoiseSource::Constant(1.0)).unwrap();
+        let c = WienerFilter::load(s, NoiseSource::Constant(1.0), &from_memory).unwrap();
         assert_eq!(c.weights(2).unwrap(), vec![0.0, 0.75, 0.5]);
         let msg = f.weights(3).unwrap_err().to_string();
-        assert!(msg.contains("s.csv") && msg.contains("degree 2"), "{msg}");
+        assert!(msg.contains('s') && msg.contains("degree 2"), "{msg}");
+        assert_eq!(f.spec(), "wiener:s,n");
     }
 
     #[test]
-    fn bad_spectrum_files_name_file_and_line() {
-        let dir = tempfile::tempdir().unwrap();
-        let p = write(dir.path(), "a.csv", "degree,power\n0,1\n");
-        let msg = read_spectrum_file(&p).unwrap_err().to_string();
+    fn bad_spectra_and_levels_are_named() {
+        let msg = WienerFilter::load(Path::new("bad"), NoiseSource::Constant(1.0), &from_memory)
+            .unwrap_err()
+            .to_string();
+        assert!(msg.contains("bad") && msg.contains("degree 1"), "{msg}");
+        let msg = WienerFilter::load(Path::new("s"), NoiseSource::Constant(-1.0), &from_memory)
+            .unwrap_err()
+            .to_string();
+        assert!(msg.contains("≥ 0"), "{msg}");
+        let msg = WienerFilter::load(
+            Path::new("x.csv"),
+            NoiseSource::Constant(1.0),
+            &no_spectrum_files,
+        )
+        .unwrap_err()
+        .to_string();
         assert!(
-            msg.contains("a.csv") && msg.contains("no column 'degree_variance'"),
+            msg.contains("x.csv") && msg.contains("io::filter_spectra"),
             "{msg}"
         );
-        let p = write(dir.path(), "b.csv", "degree,degree_variance\n0,1\n1,-2\n");
-        let msg = read_spectrum_file(&p).unwrap_err().to_string();
-        assert!(msg.contains("b.csv, line 3") && msg.contains("-2"), "{msg}");
-        let p = write(dir.path(), "c.csv", "degree,degree_variance\n0,1\n2,1\n");
-        let msg = read_spectrum_file(&p).unwrap_err().to_string();
-        assert!(msg.contains("degree 1 is missing"), "{msg}");
     }
 }

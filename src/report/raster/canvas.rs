@@ -1,7 +1,7 @@
 //! An RGB raster with the few drawing operations the quick-look pictures need, and PNG
 //! encoding (`png` crate).
 
-use super::font::{glyph, text_width, GLYPH_H, GLYPH_W};
+use super::font;
 
 pub type Rgb = [u8; 3];
 
@@ -57,30 +57,40 @@ impl Canvas {
         self.fill_rect(x + w - 1, y, 1, h, c);
     }
 
-    /// Draws `text` with its top-left corner at (x, y), each font pixel `scale` pixels wide.
-    pub fn text(&mut self, x: usize, y: usize, text: &str, scale: usize, c: Rgb) {
-        for (i, ch) in text.chars().enumerate() {
-            let rows = glyph(ch);
-            let x0 = x + i * (GLYPH_W + 1) * scale;
-            for (r, bits) in rows.iter().enumerate() {
-                for col in 0..GLYPH_W {
-                    if bits & (1 << (GLYPH_W - 1 - col)) != 0 {
-                        self.fill_rect(x0 + col * scale, y + r * scale, scale, scale, c);
-                    }
-                }
-            }
+    /// Mixes `c` into the pixel at (x, y) with weight `coverage` ∈ [0, 1] (linear in the 8-bit
+    /// values; anti-aliased text edges). Pixels outside the canvas are ignored.
+    pub fn blend(&mut self, x: i64, y: i64, c: Rgb, coverage: f32) {
+        if x < 0 || y < 0 || x as usize >= self.width || y as usize >= self.height {
+            return;
         }
+        let (x, y) = (x as usize, y as usize);
+        let a = coverage.clamp(0.0, 1.0);
+        let old = self.get(x, y);
+        let mix = |o: u8, n: u8| (f32::from(o) * (1.0 - a) + f32::from(n) * a).round() as u8;
+        self.set(
+            x,
+            y,
+            [mix(old[0], c[0]), mix(old[1], c[1]), mix(old[2], c[2])],
+        );
+    }
+
+    /// Draws `text` at `size_px` with the top of its line box at (x, y).
+    pub fn text(&mut self, x: f32, y: f32, text: &str, size_px: f32, c: Rgb) {
+        font::rasterise(text, x, y, size_px, |px, py, coverage| {
+            self.blend(px, py, c, coverage)
+        });
     }
 
     /// Draws `text` centred horizontally on `cx`.
-    pub fn text_centred(&mut self, cx: usize, y: usize, text: &str, scale: usize, c: Rgb) {
-        let w = text_width(text) * scale;
-        self.text(cx.saturating_sub(w / 2), y, text, scale, c);
+    pub fn text_centred(&mut self, cx: f32, y: f32, text: &str, size_px: f32, c: Rgb) {
+        let w = font::text_width_px(text, size_px);
+        self.text(cx - w / 2.0, y, text, size_px, c);
     }
 
-    /// Height in pixels of one line of text at `scale`.
-    pub fn line_height(scale: usize) -> usize {
-        GLYPH_H * scale
+    /// Draws `text` ending at `right_x`.
+    pub fn text_right(&mut self, right_x: f32, y: f32, text: &str, size_px: f32, c: Rgb) {
+        let w = font::text_width_px(text, size_px);
+        self.text(right_x - w, y, text, size_px, c);
     }
 
     /// Encodes the canvas as an 8-bit RGB PNG.

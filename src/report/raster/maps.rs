@@ -3,9 +3,11 @@
 
 use ndarray::Array2;
 
-use super::canvas::{Canvas, Rgb, BLACK, GREY, WHITE};
+use super::canvas::{Canvas, Rgb, BLACK, WHITE};
 use super::colormap::viridis;
-use super::ticks::{format_tick, nice_ticks};
+use super::font::{line_height_px, text_width_px};
+use crate::report::ticks::{format_tick, nice_ticks};
+use crate::report::units_text::units_for_display;
 
 /// How a map is labelled and where its rows and columns lie.
 #[derive(Debug, Clone, Default)]
@@ -22,10 +24,15 @@ pub struct MapStyle {
 
 const MAP_W: usize = 720;
 const MAP_H: usize = 360;
-const LEFT: usize = 44;
-const RIGHT: usize = 20;
-const TOP: usize = 52;
-const BOTTOM: usize = 86;
+const LEFT: usize = 48;
+const RIGHT: usize = 24;
+const TOP: usize = 58;
+const BOTTOM: usize = 90;
+/// Text sizes: line-box heights in pixels (see `font`).
+const TITLE_PX: f32 = 24.0;
+const SUBTITLE_PX: f32 = 16.0;
+const LABEL_PX: f32 = 14.0;
+const UNITS_PX: f32 = 17.0;
 const MASKED: Rgb = [200, 200, 200];
 
 /// Renders `field` (lat × lon, rows north to south; NaN = masked) as a PNG.
@@ -86,37 +93,67 @@ pub fn render_points_png(
 }
 
 fn frame_with_title(style: &MapStyle) -> Canvas {
-    let mut canvas = Canvas::new(LEFT + MAP_W + RIGHT, TOP + MAP_H + BOTTOM, WHITE);
-    // the largest text size at which the title fits the map's width
-    let scale = (1..=3)
-        .rev()
-        .find(|s| super::font::text_width(&style.title) * s <= MAP_W)
-        .unwrap_or(1);
+    let width = LEFT + MAP_W + RIGHT;
+    let mut canvas = Canvas::new(width, TOP + MAP_H + BOTTOM, WHITE);
+    let usable = (width - 16) as f32;
     canvas.text_centred(
-        LEFT + MAP_W / 2,
-        8 + (3 - scale) * 4,
+        width as f32 / 2.0,
+        8.0,
         &style.title,
-        scale,
+        fitting_size(&style.title, TITLE_PX, usable),
         BLACK,
     );
-    let max_chars = (LEFT + MAP_W + RIGHT) / (super::font::GLYPH_W + 1);
-    let sub: String = style.degree_range.chars().take(max_chars).collect();
-    canvas.text_centred((LEFT + MAP_W + RIGHT) / 2, 36, &sub, 1, BLACK);
+    canvas.text_centred(
+        width as f32 / 2.0,
+        36.0,
+        &style.degree_range,
+        fitting_size(&style.degree_range, SUBTITLE_PX, usable),
+        BLACK,
+    );
     canvas
+}
+
+/// `preferred_px`, or the smaller size at which `text` fits `width_px` (not below 8 px, where
+/// text stops being legible; longer text is then clipped by the canvas edge).
+fn fitting_size(text: &str, preferred_px: f32, width_px: f32) -> f32 {
+    let w = text_width_px(text, preferred_px);
+    if w <= width_px {
+        preferred_px
+    } else {
+        (preferred_px * width_px / w).max(8.0)
+    }
+}
+
+/// Latitude label: 30°N, 0°, 60°S.
+fn latitude_label(lat: i32) -> String {
+    match lat.signum() {
+        1 => format!("{lat}°N"),
+        -1 => format!("{}°S", -lat),
+        _ => "0°".to_string(),
+    }
+}
+
+/// Longitude label: 60°E, 0°, 120°W.
+fn longitude_label(lon: i32) -> String {
+    match lon.signum() {
+        1 => format!("{lon}°E"),
+        -1 => format!("{}°W", -lon),
+        _ => "0°".to_string(),
+    }
 }
 
 fn finish(mut canvas: Canvas, lo: f64, hi: f64, style: &MapStyle) -> Vec<u8> {
     canvas.frame(LEFT - 1, TOP - 1, MAP_W + 2, MAP_H + 2, BLACK);
+    let label_h = line_height_px(LABEL_PX);
     // graticule labels every 30° of latitude and 60° of longitude
     for lat in [-60i32, -30, 0, 30, 60] {
         let y = TOP + ((90 - lat) as f64 / 180.0 * MAP_H as f64) as usize;
         canvas.fill_rect(LEFT - 5, y, 4, 1, BLACK);
-        let label = format!("{lat}");
-        canvas.text(
-            LEFT - 8 - super::font::text_width(&label),
-            y.saturating_sub(3),
-            &label,
-            1,
+        canvas.text_right(
+            (LEFT - 7) as f32,
+            y as f32 - label_h / 2.0,
+            &latitude_label(lat),
+            LABEL_PX,
             BLACK,
         );
         for px in (0..MAP_W).step_by(4) {
@@ -126,7 +163,13 @@ fn finish(mut canvas: Canvas, lo: f64, hi: f64, style: &MapStyle) -> Vec<u8> {
     for lon in [-120i32, -60, 0, 60, 120] {
         let x = LEFT + ((lon + 180) as f64 / 360.0 * MAP_W as f64) as usize;
         canvas.fill_rect(x, TOP + MAP_H + 1, 1, 4, BLACK);
-        canvas.text_centred(x, TOP + MAP_H + 7, &format!("{lon}"), 1, BLACK);
+        canvas.text_centred(
+            x as f32,
+            (TOP + MAP_H + 5) as f32,
+            &longitude_label(lon),
+            LABEL_PX,
+            BLACK,
+        );
         for py in (0..MAP_H).step_by(4) {
             blend_grid(&mut canvas, x, TOP + py);
         }
@@ -147,30 +190,45 @@ fn blend_grid(canvas: &mut Canvas, x: usize, y: usize) {
 }
 
 fn colour_bar(canvas: &mut Canvas, lo: f64, hi: f64, units: &str) {
-    let (bx, by, bw, bh) = (LEFT + MAP_W / 2 - 250, TOP + MAP_H + 24, 500, 16);
+    let (bx, by, bw, bh) = (LEFT + MAP_W / 2 - 250, TOP + MAP_H + 26, 500, 16);
     for i in 0..bw {
         let t = i as f64 / (bw - 1) as f64;
         let c = viridis(t).unwrap_or(MASKED);
         canvas.fill_rect(bx + i, by, 1, bh, c);
     }
     canvas.frame(bx - 1, by - 1, bw + 2, bh + 2, BLACK);
+    let label_top = (by + bh + 5) as f32;
     if hi > lo {
         for t in nice_ticks(lo, hi, 6) {
             let x = bx + ((t - lo) / (hi - lo) * (bw - 1) as f64).round() as usize;
             canvas.fill_rect(x, by + bh + 1, 1, 4, BLACK);
-            canvas.text_centred(x, by + bh + 7, &format_tick(t), 1, BLACK);
+            canvas.text_centred(x as f32, label_top, &tick_label(t), LABEL_PX, BLACK);
         }
     } else {
         canvas.text_centred(
-            bx + bw / 2,
-            by + bh + 7,
-            &format!("constant {}", format_tick(lo)),
-            1,
+            (bx + bw / 2) as f32,
+            label_top,
+            &format!("constant {}", tick_label(lo)),
+            LABEL_PX,
             BLACK,
         );
     }
-    canvas.text(bx + bw + 12, by + 4, units, 1, BLACK);
-    let _ = GREY;
+    // units to the right of the bar, vertically centred on it, typeset (m² s⁻²)
+    let units = &units_for_display(units);
+    let room = (canvas.width - (bx + bw + 10) - 4) as f32;
+    let size = fitting_size(units, UNITS_PX, room);
+    canvas.text(
+        (bx + bw + 10) as f32,
+        by as f32 + bh as f32 / 2.0 - line_height_px(size) / 2.0,
+        units,
+        size,
+        BLACK,
+    );
+}
+
+/// A tick label with a true minus sign (U+2212), which the font draws as wide as a plus.
+fn tick_label(v: f64) -> String {
+    format_tick(v).replace('-', "−")
 }
 
 fn scaled_colour(v: f64, lo: f64, hi: f64) -> Option<Rgb> {
