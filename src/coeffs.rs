@@ -3,7 +3,7 @@
 //! reference radius, GM, units), conversion between normalisations, truncation and
 //! degree-wise arithmetic.
 //!
-//! Real expansion (CONVENTIONS.md §2):
+//! Real expansion (docs/conventions.md §2):
 //!   f(θ, λ) = Σ_l Σ_{m=0..l} Y_lm(cos θ) (C_lm cos mλ + S_lm sin mλ),
 //! where Y_lm = N_lm · P_lm (times (−1)^m when the Condon–Shortley phase is on) and P_lm is
 //! Ferrers' function without the phase. S_l0 is always 0.
@@ -14,7 +14,7 @@ use std::str::FromStr;
 
 use crate::error::{Error, Result};
 
-/// Normalisation of the associated Legendre functions (CONVENTIONS.md §2).
+/// Normalisation of the associated Legendre functions (docs/conventions.md §2).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize, serde::Deserialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Normalization {
@@ -439,7 +439,7 @@ mod tests {
 
     #[test]
     fn schmidt_factor_is_one_over_sqrt_2l_plus_1() {
-        // CONVENTIONS.md §2: schmidt = geodesy / sqrt(2l+1)
+        // docs/conventions.md §2: schmidt = geodesy / sqrt(2l+1)
         let g = sample(8);
         let s = g.converted(Normalization::Schmidt, false).unwrap();
         for l in 0..=8 {

@@ -1,5 +1,5 @@
 //! Per-degree factors k_l that turn potential coefficients into each quantity
-//! (CONVENTIONS.md §6; Heiskanen & Moritz 1967, ch. 2; Hofmann-Wellenhof & Moritz 2005).
+//! (docs/conventions.md §6; Heiskanen & Moritz 1967, ch. 2; Hofmann-Wellenhof & Moritz 2005).
 //!
 //! With s = R/r and the continuation factor c_l from `spectral::continuation::radial_factors`
 //! (= s^{l+1}; regularised when stated for downward continuation):

@@ -7,7 +7,7 @@
 //!   normal gravity and geodetic ↔ geocentric coordinates.
 //! - [`normal_field`]: removal of an ellipsoid's normal potential from a model.
 //! - [`degree_factors`]: the per-degree factors k_l that turn potential coefficients into each
-//!   quantity (CONVENTIONS.md §6).
+//!   quantity (docs/conventions.md §6).
 //! - [`magnetic`]: field components, declination and inclination from B_r, B_θ, B_λ.
 //! - [`synthesis`]: the whole chain on a grid or at points.
 //! - [`cautions`]: the safety texts printed with declination and geoid output.

@@ -110,7 +110,7 @@ impl Quantity {
         }
     }
 
-    /// CF units string for files (CONVENTIONS.md §6). `value` takes the model's own units, so
+    /// CF units string for files (docs/conventions.md §6). `value` takes the model's own units, so
     /// this returns `None` for it.
     pub fn units(self) -> Option<&'static str> {
         use Quantity::*;

@@ -1,9 +1,9 @@
-//! Comparison of two models degree by degree (CONVENTIONS.md §5). The first model is the
+//! Comparison of two models degree by degree (docs/conventions.md §5). The first model is the
 //! reference A, the second the compared model B; both are made comparable first
 //! ([`super::comparable::make_comparable`]).
 //!
 //! - Cross power S^{AB}_l = Σ_m (C^A C^B + S^A S^B); degree correlation
-//!   r_l = S^{AB}/√(S^A S^B); admittance Z_l = S^{AB}/S^B (A regressed on B, CONVENTIONS.md §5
+//!   r_l = S^{AB}/√(S^A S^B); admittance Z_l = S^{AB}/S^B (A regressed on B, docs/conventions.md §5
 //!   with f = A, g = B: e.g. gravity per metre of topography for `compare GRAVITY TOPOGRAPHY`).
 //! - Correlation significance: under the null hypothesis of unrelated isotropic Gaussian
 //!   fields the 2l+1 coefficient pairs (zero mean, no mean removed) make r_l distributed as one

@@ -2,7 +2,7 @@
 //!
 //! A field harmonic outside the sphere R (a potential, or any field treated as one) has degree-l
 //! part proportional to (R/r)^{l+1} (Heiskanen & Moritz 1967, *Physical Geodesy*,
-//! ch. 1; CONVENTIONS.md §6). Continuation multiplies the coefficients by
+//! ch. 1; docs/conventions.md §6). Continuation multiplies the coefficients by
 //!
 //!   k_l = (R/r)^{l+1}.
 //!

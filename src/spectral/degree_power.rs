@@ -1,4 +1,4 @@
-//! Per-degree sums of squares and products of coefficients (CONVENTIONS.md §5), the building
+//! Per-degree sums of squares and products of coefficients (docs/conventions.md §5), the building
 //! blocks of every spectrum. Inputs must already be in `geodesy` normalisation without the
 //! Condon–Shortley phase (the phase does not change squares, but products need both sets in
 //! one convention).

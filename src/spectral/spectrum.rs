@@ -1,4 +1,4 @@
-//! The spectrum of one model: degree variance and everything derived from it (CONVENTIONS.md §5).
+//! The spectrum of one model: degree variance and everything derived from it (docs/conventions.md §5).
 //!
 //! - Degree variance S_l = Σ_m (C̄_lm² + S̄_lm²) in `geodesy` (4π) normalisation, so that
 //!   Σ_l S_l is the mean square of the field over the sphere (Parseval; common practice).

@@ -1,4 +1,4 @@
-//! Single harmonics under each gravity quantity against the CONVENTIONS.md §6 factors and a
+//! Single harmonics under each gravity quantity against the docs/conventions.md §6 factors and a
 //! closed-form Legendre function; finite-difference consistency of the radial derivatives;
 //! exact continuation; normal-field removal against the ellipsoid's own J_2n series.
 
@@ -35,7 +35,7 @@ fn eval(model: &Coefficients, q: Quantity, p: GeocentricPoint) -> f64 {
 
 #[test]
 fn single_harmonic_under_each_quantity() {
-    // CONVENTIONS.md §6 (Heiskanen & Moritz 1967, ch. 2): k_l for l = 3 with s = R/r.
+    // docs/conventions.md §6 (Heiskanen & Moritz 1967, ch. 2): k_l for l = 3 with s = R/r.
     // 1e-12 relative: a handful of roundings.
     let model = single_harmonic();
     for alt in [0.0, 250e3, 20_000e3] {
@@ -212,7 +212,7 @@ fn normal_field_removal_with_different_radius_and_gm() {
 #[test]
 fn filter_is_applied_before_the_quantity_factors() {
     // A degree-8 harmonic added to C̄_32 is removed by a low-pass that ends at degree 6, so
-    // the geoid equals that of C̄_32 alone (the factors of CONVENTIONS.md §6 as above).
+    // the geoid equals that of C̄_32 alone (the factors of docs/conventions.md §6 as above).
     let mut model = single_harmonic().resized(10);
     model.set(8, 5, 1e-6, -2e-6);
     let chain = kugel::spectral::filter::FilterChain::parse("lowpass:4-6").unwrap();

@@ -258,7 +258,7 @@ def main():
         check_model_file(model)
         schmidt = os.path.join(tmp, "model_schmidt.nc")
         run(kugel, "convert", model, schmidt, "--normalization", "schmidt")
-        # geodesy -> Schmidt multiplies by sqrt(2l+1) (CONVENTIONS.md section 2)
+        # geodesy -> Schmidt multiplies by sqrt(2l+1) (docs/conventions.md section 2)
         check_model_file(schmidt, lambda l, m: math.sqrt(2 * l + 1), "schmidt")
 
         regular = os.path.join(tmp, "regular.nc")

@@ -59,7 +59,7 @@ fn model_netcdf_round_trip_is_exact() {
     assert_eq!(back.gm_m3_s2, Some(3.986004418e14));
     assert_eq!(back.units, "nT");
     assert_eq!(back.attributes["title"], "synthetic field");
-    // the file is NetCDF-4 with the attributes of CONVENTIONS.md §8
+    // the file is NetCDF-4 with the attributes of docs/conventions.md §8
     let f = NcFile::open(&p).unwrap();
     assert!(matches!(f.format(), netcdf_reader::NcFormat::Nc4));
     let g = f.global_attributes().unwrap();

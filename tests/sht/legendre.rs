@@ -64,7 +64,7 @@ fn factorial(n: usize) -> f64 {
     (1..=n).map(|k| k as f64).product()
 }
 
-/// N_lm of CONVENTIONS.md §2 for each normalisation.
+/// N_lm of docs/conventions.md §2 for each normalisation.
 fn norm_factor(norm: Normalization, l: usize, m: usize) -> f64 {
     let d = if m == 0 { 1.0 } else { 2.0 };
     let r = factorial(l - m) / factorial(l + m);
@@ -78,7 +78,7 @@ fn norm_factor(norm: Normalization, l: usize, m: usize) -> f64 {
 
 #[test]
 fn associated_functions_l_le_4_every_normalisation_and_phase() {
-    // closed forms above × N_lm (CONVENTIONS.md §2) × (−1)^m with the phase; 1e-13 relative
+    // closed forms above × N_lm (docs/conventions.md §2) × (−1)^m with the phase; 1e-13 relative
     for &norm in &Normalization::ALL {
         for cs in [false, true] {
             for l in 0..=4 {
@@ -123,7 +123,7 @@ fn derivatives_match_finite_differences_and_pole_limits() {
 
 #[test]
 fn orthogonality_by_gauss_legendre_every_normalisation() {
-    // ∫∫ [N P_lm cos mλ]² dΩ per CONVENTIONS.md §2; Gauss–Legendre with 40 nodes is exact for
+    // ∫∫ [N P_lm cos mλ]² dΩ per docs/conventions.md §2; Gauss–Legendre with 40 nodes is exact for
     // the degree-≤ 2·30 integrands; cross terms (l ≠ l') vanish. 1e-12 relative.
     let lmax = 30;
     let (x, w) = nodes_and_weights(40);
@@ -159,7 +159,7 @@ fn orthogonality_by_gauss_legendre_every_normalisation() {
                             }
                         };
                         // orthonormal: complex-Y_lm normalisation; the real form with
-                        // sqrt(2) for m > 0 integrates to 1 as well (CONVENTIONS.md §2)
+                        // sqrt(2) for m > 0 integrates to 1 as well (docs/conventions.md §2)
                         assert!(
                             (full - expect).abs() < 1e-12 * expect.max(1.0),
                             "{norm} l={l} l2={l2} m={m}: {full}"

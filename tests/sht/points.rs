@@ -59,7 +59,7 @@ fn pole_gradient_is_the_meridian_limit() {
 
 #[test]
 fn other_normalisations_synthesise_the_same_field() {
-    // the field is invariant under conversion (CONVENTIONS.md §2): 1e-12 of the scale
+    // the field is invariant under conversion (docs/conventions.md §2): 1e-12 of the scale
     let lmax = 20;
     let plan = TransformPlan::new(lmax, &GaussGrid::new(lmax)).unwrap();
     let c = sample(lmax, 9);

@@ -1,7 +1,7 @@
 //! Round trips and fast-vs-reference agreement of the transforms.
 //! Source of the property: Gauss–Legendre quadrature with L + 1 nodes integrates polynomials
 //! of degree ≤ 2L + 1 exactly, so analysis inverts synthesis for band-limited fields
-//! (common practice; CONVENTIONS.md §4).
+//! (common practice; docs/conventions.md §4).
 
 use kugel::coeffs::Coefficients;
 use kugel::sht::grid::{Grid, GridKind};

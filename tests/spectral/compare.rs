@@ -195,7 +195,7 @@ fn difference_power_of_two_noisy_surveys_matches_their_error_degree_variance() {
 
 #[test]
 fn admittance_is_the_reference_per_unit_of_the_compared_model() {
-    // CONVENTIONS.md §5: Z_l = S^{fg}/S^g. If A = k·B + C with C independent of B, then
+    // docs/conventions.md §5: Z_l = S^{fg}/S^g. If A = k·B + C with C independent of B, then
     // S^{AB} = k S^B + S^{CB} and Z_l → k (regression of A on B; common practice in
     // gravity/topography admittance; from memory: Wieczorek 2015, Treatise on Geophysics 10.05).
     let lmax = 120;

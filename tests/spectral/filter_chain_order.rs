@@ -1,5 +1,5 @@
 //! Filters chain: applying every permutation of a chain gives the same coefficients
-//! (the combined weight is a product, CONVENTIONS.md §7), and sigmas are scaled alongside.
+//! (the combined weight is a product, docs/conventions.md §7), and sigmas are scaled alongside.
 
 use kugel::spectral::filter::FilterChain;
 use kugel::{Coefficients, Normalization};

@@ -2,7 +2,7 @@
 //! sphere of radius r (Lowes 1966). Checked here against that definition directly: B is
 //! synthesised on a Gauss grid at radius r from a random Schmidt model and |B|² is averaged by
 //! quadrature. |B|² is band-limited to 2L (B_r² plainly; |∇_s f|² = ½Δ(f²) − fΔf), so the
-//! L+1-node Gauss–Legendre rule is exact (CONVENTIONS.md §4).
+//! L+1-node Gauss–Legendre rule is exact (docs/conventions.md §4).
 
 use crate::support::random_model;
 use kugel::sht::{GaussGrid, TransformPlan};

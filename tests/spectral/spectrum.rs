@@ -9,9 +9,9 @@ use kugel::Normalization;
 
 #[test]
 fn parseval_mean_square_of_grid_equals_sum_of_degree_variances() {
-    // Parseval for 4π-normalised harmonics (common practice; CONVENTIONS.md §2): the mean square
+    // Parseval for 4π-normalised harmonics (common practice; docs/conventions.md §2): the mean square
     // of f over the sphere is Σ_l S_l. The mean square is taken by Gauss–Legendre quadrature of
-    // the synthesised grid, exact for the band-limited f² (CONVENTIONS.md §4).
+    // the synthesised grid, exact for the band-limited f² (docs/conventions.md §4).
     let lmax = 48;
     let model = random_model(lmax, 7, |l| 1e-3 / (1.0 + l as f64).powi(2));
     let grid = GaussGrid::new(lmax);

@@ -2,7 +2,7 @@
 //!
 //! Gravity: dimensionless disturbing-potential coefficients (geodesy normalisation) with a
 //! Kaula-type per-coefficient RMS σ_g(l) = A·l^−p (Kaula 1966, *Theory of Satellite Geodesy*;
-//! the rule of thumb of CONVENTIONS.md §5, here with a moon's amplitude). Topography h (metres)
+//! the rule of thumb of docs/conventions.md §5, here with a moon's amplitude). Topography h (metres)
 //! has RMS σ_h(l) = H·l^−q. The two share a part per degree: with independent standard normal
 //! x, y per coefficient, h = σ_h x and g = σ_g (ρ_l x + sqrt(1 − ρ_l²) y), so the expected
 //! degree correlation is ρ_l and the expected admittance ρ_l σ_g/σ_h per metre. ρ_l rises from

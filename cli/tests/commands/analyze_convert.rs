@@ -38,7 +38,7 @@ fn convert_round_trip_through_normalisations() {
     );
     let s = read_model(&nc).unwrap();
     assert_eq!(s.normalization, Normalization::Schmidt);
-    // geodesy → Schmidt multiplies by sqrt(2l+1) (CONVENTIONS.md §2)
+    // geodesy → Schmidt multiplies by sqrt(2l+1) (docs/conventions.md §2)
     assert!((s.c(3, 2) - 0.125 * 7f64.sqrt()).abs() < 1e-15);
     let out = kugel(&["convert", p(&nc), p(&back), "--normalization", "geodesy"]);
     assert!(out.status.success());

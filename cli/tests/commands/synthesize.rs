@@ -78,7 +78,7 @@ fn gravity_quantities_with_units_standard_names_and_caution() {
     let globals = f.global_attributes().unwrap();
     assert!(attr(&globals, "caution").unwrap().contains("engineering"));
     // After removing GRS80 only C̄_21 remains: N = R C̄_21 P̄_21 cos λ, P̄_21 = sqrt(5/3)·3 sinθ cosθ
-    // (closed form, any text) — CONVENTIONS.md §6 with s = 1.
+    // (closed form, any text) — docs/conventions.md §6 with s = 1.
     let lat = f.read_variable_as_f64("lat").unwrap();
     let lon = f.read_variable_as_f64("lon").unwrap();
     let n = f.read_variable_as_f64("geoid").unwrap();

@@ -1,4 +1,4 @@
-//! Writing latitude–longitude grids as CF-1.8 NetCDF-4 with deflate (CONVENTIONS.md §1, §8).
+//! Writing latitude–longitude grids as CF-1.8 NetCDF-4 with deflate (docs/conventions.md §1, §8).
 //!
 //! Coordinates `lat` (ascending, degrees_north) and `lon` (degrees_east, ascending within the
 //! chosen convention 0..360 or −180..180); data variables with `units`, `long_name`, optional

@@ -1,4 +1,4 @@
-//! Coefficient models as NetCDF-4 (CONVENTIONS.md §8).
+//! Coefficient models as NetCDF-4 (docs/conventions.md §8).
 //!
 //! Layout: dimensions `degree` and `order` (both 0..L) with integer coordinate variables of
 //! the same names; float64 variables `C(degree, order)` and `S(degree, order)` (entries with

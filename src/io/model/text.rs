@@ -1,4 +1,4 @@
-//! Coefficient models as plain-text tables (CONVENTIONS.md §8).
+//! Coefficient models as plain-text tables (docs/conventions.md §8).
 //!
 //! Data lines hold `l m C S` or `l m C S σC σS`, separated by whitespace and/or commas; a
 //! leading non-numeric keyword column (as some published tables carry) is skipped; Fortran

@@ -2,7 +2,7 @@
 //! normalised Legendre functions at each observation.
 //!
 //! Model: f(θ, λ) = Σ_l Σ_{m=0..l} P̄_lm(cos θ) (C_lm cos mλ + S_lm sin mλ), `geodesy`
-//! normalisation, no Condon–Shortley phase (CONVENTIONS.md §2). The row of an observation at
+//! normalisation, no Condon–Shortley phase (docs/conventions.md §2). The row of an observation at
 //! (θ, λ) holds P̄_lm cos mλ under C_lm and P̄_lm sin mλ under S_lm (m ≥ 1).
 //!
 //! P̄_lm by the fully normalised recursions of Holmes & Featherstone (2002), J. Geodesy

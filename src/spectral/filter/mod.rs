@@ -1,5 +1,5 @@
 //! Degree-domain filters: weights W_l applied to every coefficient of degree l as
-//! C_lm·W_l, S_lm·W_l (CONVENTIONS.md §7).
+//! C_lm·W_l, S_lm·W_l (docs/conventions.md §7).
 //!
 //! Each filter kind lives in its own file and exposes `weights(lmax, …) -> Vec<f64>`;
 //! [`Filter`] gathers them behind one enum, [`FilterChain`] multiplies several, and
