@@ -30,8 +30,8 @@ use crate::memory;
 
 use super::grid::Grid;
 use super::kernel::{
-    build_lanes, is_symmetric, AnalysisJob, CoefficientSums, FourierGrids, KernelPath,
-    KernelSet, Lane, OrderScratch, SynthJob,
+    build_lanes, is_symmetric, AnalysisJob, CoefficientSums, FourierGrids, KernelPath, KernelSet,
+    Lane, OrderScratch, SynthJob,
 };
 use super::legendre::recursion::sectoral_factors;
 use super::legendre::{order_one_over_sin_at_pole, Pole};
@@ -282,9 +282,7 @@ impl TransformPlan {
             match (n_in, s_in) {
                 (true, true) => out.push(*lane),
                 (true, false) => out.push(Lane::single(&self.grid, lane.north)),
-                (false, true) => {
-                    out.push(Lane::single(&self.grid, lane.south.expect("checked")))
-                }
+                (false, true) => out.push(Lane::single(&self.grid, lane.south.expect("checked"))),
                 (false, false) => {}
             }
         }

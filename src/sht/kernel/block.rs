@@ -139,7 +139,10 @@ fn synth_step<const W: usize, const FMA: bool, const GRAD: bool>(
     }
     if GRAD {
         for i in 0..W {
-            let d = fmadd::<FMA>(lf * x.t[i], p1[i], -(f * p0[i]));
+            // l (t + t_lo) P̄_lm − f_lm P̄_{l−1,m}: the low part of cos θ matters here too,
+            // since the difference is divided by sin θ afterwards
+            let main = fmadd::<FMA>(lf * x.t[i], p1[i], -(f * p0[i]));
+            let d = fmadd::<FMA>(lf * x.t_lo[i], p1[i], main);
             acc.dc[i] = fmadd::<FMA>(cl, d, acc.dc[i]);
             acc.ds[i] = fmadd::<FMA>(sl, d, acc.ds[i]);
         }

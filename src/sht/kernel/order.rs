@@ -9,9 +9,9 @@ use realfft::num_complex::Complex64;
 use super::block::{analysis_block, synth_block, Event, Nodes, OrderCoefficients, FOLD};
 use super::lanes::Lane;
 use super::unsafe_parts::{FourierTarget, OrderCoefficientSums, OrderFourierColumns};
+use crate::coeffs::packed_index;
 use crate::sht::legendre::recursion::{a_lm, b_lm, f_lm, sectoral, NEGLIGIBLE_LOG2};
 use crate::sht::legendre::xnumber::{BIG_INV, BIG_SQRT};
-use crate::coeffs::packed_index;
 
 /// Per-thread scratch for one order (allocated once per thread, reused for every order).
 pub(crate) struct OrderScratch {

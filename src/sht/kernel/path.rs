@@ -53,7 +53,11 @@ impl KernelPath {
 
     /// Every path there is, supported here or not.
     pub fn all() -> [KernelPath; 3] {
-        [KernelPath::Portable, KernelPath::Avx2Fma, KernelPath::Avx512]
+        [
+            KernelPath::Portable,
+            KernelPath::Avx2Fma,
+            KernelPath::Avx512,
+        ]
     }
 
     /// Short name, as the benchmark prints and accepts it.

@@ -40,7 +40,9 @@ pub(crate) struct KernelSet {
 
 impl std::fmt::Debug for KernelSet {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.debug_struct("KernelSet").field("path", &self.path).finish()
+        f.debug_struct("KernelSet")
+            .field("path", &self.path)
+            .finish()
     }
 }
 
@@ -336,7 +338,10 @@ impl OrderCoefficientSums<'_, '_> {
     /// C_lm += `dc`, S_lm += `ds` for this order m and degree `l` (m ≤ l ≤ lmax).
     #[inline(always)]
     pub(crate) fn add(&mut self, l: usize, dc: f64, ds: f64) {
-        assert!(self.m <= l && l <= self.sums.lmax, "degree {l} outside the order's column");
+        assert!(
+            self.m <= l && l <= self.sums.lmax,
+            "degree {l} outside the order's column"
+        );
         let i = packed_index(l, self.m);
         // SAFETY: i < packed_len(lmax) since l ≤ lmax; the element belongs to order m alone
         // (see the `Sync` impl of `CoefficientSums`).
@@ -406,6 +411,7 @@ mod tests {
     fn a_degree_below_the_order_is_refused() {
         let mut c = vec![0.0; packed_len(3)];
         let mut s = vec![0.0; packed_len(3)];
-        CoefficientSums::new(&mut c, &mut s, 3).for_each_order(|| (), |_, out| out.add(0, 1.0, 1.0));
+        CoefficientSums::new(&mut c, &mut s, 3)
+            .for_each_order(|| (), |_, out| out.add(0, 1.0, 1.0));
     }
 }

@@ -75,8 +75,7 @@ mod tests {
     /// Maclaurin series of 1 − cos θ (any calculus text), accurate to ~1e-19 relative for
     /// θ ≤ 0.1 with five terms; without the low part the error would be up to ε/θ² ≈ 1e-8.
     fn one_minus_cos_series(theta: f64) -> f64 {
-        theta.powi(2) / 2.0 - theta.powi(4) / 24.0 + theta.powi(6) / 720.0
-            - theta.powi(8) / 40320.0
+        theta.powi(2) / 2.0 - theta.powi(4) / 24.0 + theta.powi(6) / 720.0 - theta.powi(8) / 40320.0
             + theta.powi(10) / 3628800.0
     }
 

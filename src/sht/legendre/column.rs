@@ -7,9 +7,7 @@
 //! kernel path.
 
 use super::colatitude::ColatitudeCos;
-use super::recursion::{
-    column_start, column_step, fill_coefficients, sectoral, sectoral_factor,
-};
+use super::recursion::{column_start, column_step, fill_coefficients, sectoral, sectoral_factor};
 
 /// P̄_lm(cos θ) (`geodesy`, no phase) for l = m..=lmax, written to `out[l − m]`, at the point
 /// whose cosine is exactly `t` (`u = sin θ ≥ 0`).
@@ -19,12 +17,7 @@ use super::recursion::{
 /// lmax − m + 1 values; nothing is written when m > lmax. Given a colatitude, prefer
 /// [`column_at_colatitude`], which also carries the rounding error of fl(cos θ).
 pub fn column(m: usize, lmax: usize, t: f64, u: f64, out: &mut [f64]) {
-    column_split(
-        m,
-        lmax,
-        ColatitudeCos { t, t_lo: 0.0, u },
-        out,
-    );
+    column_split(m, lmax, ColatitudeCos { t, t_lo: 0.0, u }, out);
 }
 
 /// P̄_lm(cos θ) for l = m..=lmax at colatitude `theta_rad` (a double taken as exact), written to

@@ -21,6 +21,6 @@ pub use column::{column, column_at_colatitude, column_with_derivative, geodesy_v
 pub use normalized::{
     associated, associated_all, associated_column, associated_with_derivative, LegendreValue,
 };
-pub use polynomial::{legendre_polynomial, legendre_polynomials};
 pub use pole_limit::{order_one_over_sin_at_pole, Pole};
+pub use polynomial::{legendre_polynomial, legendre_polynomials};
 pub use recursion::{a_lm, b_lm, column_step, f_lm};

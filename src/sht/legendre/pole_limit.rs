@@ -64,8 +64,14 @@ mod tests {
                 order_one_over_sin_at_pole(l, Pole::North),
                 order_one_over_sin_at_pole(l, Pole::South),
             );
-            assert!((north - ln).abs() < 1e-9 * ln.abs(), "l {l}: {north} vs {ln}");
-            assert!((south - ls).abs() < 1e-9 * ls.abs(), "l {l}: {south} vs {ls}");
+            assert!(
+                (north - ln).abs() < 1e-9 * ln.abs(),
+                "l {l}: {north} vs {ln}"
+            );
+            assert!(
+                (south - ls).abs() < 1e-9 * ls.abs(),
+                "l {l}: {south} vs {ls}"
+            );
         }
         // closed form P̄_11 = sqrt3 sin θ (any text): the limit is sqrt3 at both poles
         assert!((order_one_over_sin_at_pole(1, Pole::South) - 3f64.sqrt()).abs() < 1e-15);
