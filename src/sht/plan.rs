@@ -215,11 +215,12 @@ impl TransformPlan {
         let data = field.as_slice().expect("standard layout");
         let lmax = self.lmax;
         let stride = lmax + 1;
-        let (mut c_out, mut s_out) = (vec![0.0; packed_len(lmax)], vec![0.0; packed_len(lmax)]);
+        let mut out = Coefficients::zeros(lmax, Normalization::Geodesy);
         let chunk_lanes = self.analysis_chunk_lanes();
         let mut spectra = vec![Complex64::new(0.0, 0.0); chunk_lanes.min(lanes.len()) * 2 * stride];
         let scale = 1.0 / (2.0 * nlon as f64);
-        let mut sums = CoefficientSums::new(&mut c_out, &mut s_out, lmax);
+        let (c_out, s_out) = out.packed_mut();
+        let mut sums = CoefficientSums::new(c_out, s_out, lmax);
         for chunk in lanes.chunks(chunk_lanes.max(1)) {
             // Fourier stage: weighted, rotated half-spectra of the chunk's rings.
             let used = &mut spectra[..chunk.len() * 2 * stride];
@@ -250,7 +251,7 @@ impl TransformPlan {
             );
         }
         drop(sums);
-        Coefficients::from_packed(lmax, c_out, s_out, Normalization::Geodesy)
+        Ok(out)
     }
 
     /// H_m = w_j/(2 nlon) e^{−imλ_0} X_m for one row (X = the row's forward real FFT).
