@@ -196,15 +196,15 @@ pub fn synthesize_on_grid(
     grid: &Grid,
     request: &SynthesisRequest,
 ) -> Result<Vec<(Quantity, Array2<f64>)>> {
-    synthesize_on_grid_with_progress(model, grid, request, &mut |_, _| {})
+    synthesize_on_grid_with_progress(model, grid, request, &crate::progress::Silent)
 }
 
-/// As [`synthesize_on_grid`], calling `progress(done, total)` after each synthesis.
+/// As [`synthesize_on_grid`], reporting one unit of progress per transform.
 pub fn synthesize_on_grid_with_progress(
     model: &Coefficients,
     grid: &Grid,
     request: &SynthesisRequest,
-    progress: &mut dyn FnMut(usize, usize),
+    progress: &dyn crate::progress::Progress,
 ) -> Result<Vec<(Quantity, Array2<f64>)>> {
     let (dense, stride) = longitude_densified(grid, model.lmax());
     let plan = TransformPlan::new(model.lmax(), &dense)?;
@@ -231,13 +231,13 @@ pub fn longitude_densified(grid: &Grid, lmax: usize) -> (Grid, usize) {
     (dense, stride)
 }
 
-/// As [`synthesize_on_grid`] with a prebuilt plan (reused across calls); `progress(done,
-/// total)` is called after each synthesis.
+/// As [`synthesize_on_grid`] with a prebuilt plan (reused across calls), reporting one unit of
+/// progress per transform.
 pub fn synthesize_with_plan(
     model: &Coefficients,
     plan: &TransformPlan,
     request: &SynthesisRequest,
-    progress: &mut dyn FnMut(usize, usize),
+    progress: &dyn crate::progress::Progress,
 ) -> Result<Vec<(Quantity, Array2<f64>)>> {
     let (nlat, nlon) = plan.grid().shape();
     let qs = &request.quantities;
@@ -264,14 +264,13 @@ pub fn synthesize_with_plan(
         .count()
         + usize::from(magnetic && needs_radial(qs, false))
         + usize::from(magnetic && needs_horizontal(qs, false));
-    let mut done = 0;
+    progress.stage("synthesising", total as u64);
     let mut out = Vec::with_capacity(qs.len());
     let mut vector: Option<(Array2<f64>, Array2<f64>, Array2<f64>)> = None;
     for &q in qs {
         if let Some(k) = scalar_factors(q, prepared.scale, s, &c) {
             out.push((q, plan.synthesise(&scaled(&prepared.coeffs, &k))?));
-            done += 1;
-            progress(done, total);
+            progress.advance(1);
             continue;
         }
         if vector.is_none() {
@@ -279,8 +278,7 @@ pub fn synthesize_with_plan(
             let br = if needs_radial(qs, false) {
                 let k = magnetic_radial_factors(s, &c);
                 let f = plan.synthesise(&scaled(&prepared.coeffs, &k))?;
-                done += 1;
-                progress(done, total);
+                progress.advance(1);
                 f
             } else {
                 zero()
@@ -288,8 +286,7 @@ pub fn synthesize_with_plan(
             let (bt, bl) = if needs_horizontal(qs, false) {
                 let k = magnetic_horizontal_factors(s, &c);
                 let (dt, dl) = plan.synthesise_gradient(&scaled(&prepared.coeffs, &k))?;
-                done += 1;
-                progress(done, total);
+                progress.advance(1);
                 (dt.mapv(|v| -v), dl.mapv(|v| -v))
             } else {
                 (zero(), zero())

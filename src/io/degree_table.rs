@@ -141,7 +141,7 @@ pub fn write_degree_table_csv(path: &Path, table: &DegreeTable) -> Result<()> {
 
 /// Reads a degree table from NetCDF (recognised by signature) or CSV.
 pub fn read_degree_table(path: &Path) -> Result<DegreeTable> {
-    if super::model_file::has_netcdf_magic(path)? {
+    if super::model::has_netcdf_magic(path)? {
         read_netcdf(path)
     } else {
         read_csv(path)

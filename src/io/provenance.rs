@@ -42,7 +42,7 @@ impl Provenance {
         Ok(())
     }
 
-    /// Global attributes: `history` ("<UTC time>: <command line>"), `source` is left to the
+    /// Global attributes: `history` (`"<UTC time>: <command line>"`), `source` is left to the
     /// writer; `kugel_config_sha256`, `kugel_inputs` ("path sha256:HEX; ..."), `kugel_lmax`,
     /// `kugel_normalization`, `kugel_filter`, then `extra` as given. Empty items are omitted.
     ///
@@ -89,7 +89,7 @@ pub fn chain_history(new: &str, previous: Option<&str>, sep: &str) -> String {
     }
 }
 
-/// The `source` attribute value: "kugel <version>".
+/// The `source` attribute value: `"kugel <version>"`.
 pub fn source_attribute() -> String {
     format!("kugel {}", env!("CARGO_PKG_VERSION"))
 }

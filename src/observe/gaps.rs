@@ -17,8 +17,8 @@ use crate::error::{Error, Result};
 use crate::sht::{Grid, TransformPlan};
 
 use super::points::PointSet;
-use super::progress::Progress;
 use super::spatial::SphereIndex;
+use crate::progress::Progress;
 
 /// How nodes without data are filled.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -107,7 +107,7 @@ pub fn fill_gaps(
     policy: &GapPolicy,
     index: &SphereIndex,
     points: &PointSet,
-    progress: &Progress,
+    progress: &dyn Progress,
 ) -> Result<GapFillReport> {
     let gap_nodes = gap.iter().filter(|&&g| g).count();
     let mut report = GapFillReport {
@@ -177,7 +177,7 @@ pub fn fill_gaps(
                 }
             };
             let plan = TransformPlan::new(lmax, grid)?;
-            progress.stage(max_iter as u64, "filling gaps");
+            progress.stage("filling gaps", max_iter as u64);
             report.converged = false;
             for it in 1..=max_iter {
                 let model = plan.analyse(field)?;
@@ -192,7 +192,7 @@ pub fn fill_gaps(
                 let relative = change / data_rms;
                 report.iterations = it;
                 report.final_change = Some(relative);
-                progress.inc(1);
+                progress.advance(1);
                 if relative < tol {
                     report.converged = true;
                     break;

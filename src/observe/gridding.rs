@@ -2,7 +2,7 @@
 //!
 //! Per grid node, either
 //! - a Gaussian-kernel weighted mean of all observations within the search radius
-//!   (`observe::kernel` states the kernel and its half-width convention), or
+//!   (`observe::averaging_kernel` states the kernel and its half-width convention), or
 //! - inverse-distance weighting of the k nearest observations, w ∝ 1/ψ² (Shepard 1968,
 //!   Proc. 23rd ACM National Conference, with power 2),
 //!
@@ -17,11 +17,11 @@ use rayon::prelude::*;
 use crate::error::{Error, Result};
 use crate::sht::{GaussGrid, Grid};
 
+use super::averaging_kernel::GaussianKernel;
 use super::gaps::{fill_gaps, GapFillReport, GapPolicy};
-use super::kernel::GaussianKernel;
 use super::points::PointSet;
-use super::progress::Progress;
 use super::spatial::SphereIndex;
+use crate::progress::{Progress, Silent};
 
 /// Mean Earth radius R₁ = 6371.0 km (IUGG; Moritz 2000, J. Geodesy 74:128–133, rounded),
 /// the default body radius.
@@ -51,7 +51,7 @@ impl GriddingMethod {
         match self {
             GriddingMethod::Kernel { radius_km } => format!(
                 "Gaussian-kernel mean within {radius_km:.1} km (half-width {:.1} km, weight 1/2 there; ~1/16 at the edge)",
-                radius_km / super::kernel::RADIUS_PER_HALF_WIDTH
+                radius_km / super::averaging_kernel::RADIUS_PER_HALF_WIDTH
             ),
             GriddingMethod::Nearest { k } => {
                 format!("inverse-distance (power 2) mean of the {k} nearest observations")
@@ -135,7 +135,7 @@ pub fn grid_points(
     lmax: usize,
     options: &GriddingOptions,
 ) -> Result<GriddedField> {
-    grid_points_with_progress(points, lmax, options, &Progress::hidden())
+    grid_points_with_progress(points, lmax, options, &Silent)
 }
 
 /// As [`grid_points`], reporting progress per grid row.
@@ -143,7 +143,7 @@ pub fn grid_points_with_progress(
     points: &PointSet,
     lmax: usize,
     options: &GriddingOptions,
-    progress: &Progress,
+    progress: &dyn Progress,
 ) -> Result<GriddedField> {
     validate_options(points, lmax, options)?;
     crate::memory::check_fits(
@@ -163,7 +163,7 @@ pub fn grid_points_with_progress(
     let mut value = vec![0.0; nlat * nlon];
     let mut count = vec![0.0; nlat * nlon];
     let mut nearest = vec![0.0; nlat * nlon];
-    progress.stage(nlat as u64, "gridding rows");
+    progress.stage("gridding rows", nlat as u64);
     value
         .par_chunks_mut(nlon)
         .zip(count.par_chunks_mut(nlon))
@@ -186,7 +186,7 @@ pub fn grid_points_with_progress(
                 c_row[k] = node.count as f64;
                 n_row[k] = node.nearest_rad * km_per_rad;
             }
-            progress.inc(1);
+            progress.advance(1);
         });
     let mut value = Array2::from_shape_vec((nlat, nlon), value).expect("shape");
     let count = Array2::from_shape_vec((nlat, nlon), count).expect("shape");

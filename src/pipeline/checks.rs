@@ -5,8 +5,8 @@
 use std::path::Path;
 
 use crate::field::quantity::Quantity;
+use crate::observe::fit::Regularization;
 use crate::observe::gaps::GapPolicy;
-use crate::observe::lsq::Regularization;
 use crate::spectral::filter::FilterChain;
 
 pub fn check_quantity(q: &str) -> Result<(), String> {

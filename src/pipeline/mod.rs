@@ -4,12 +4,10 @@
 pub mod checks;
 pub mod config;
 pub mod dag;
-pub mod demo;
 pub mod estimate;
 pub mod job;
 pub mod outputs;
 pub mod products;
-pub mod progress;
 pub mod report;
 pub mod run;
 pub mod schema;

@@ -1,7 +1,7 @@
 //! What each named input or step holds once it has run.
 
 use crate::coeffs::Coefficients;
-use crate::io::grid_read::UserGrid;
+use crate::io::grid::read::UserGrid;
 use crate::observe::points::PointSet;
 use crate::spectral::{Comparison, Spectrum};
 

@@ -12,10 +12,11 @@ use super::outputs::{OutputFile, Staging};
 use super::products::{Points, Product};
 use super::steps::{run_step, ReportPart, StepEnv, StepOutcome};
 use crate::error::Result;
-use crate::io::grid_read::{read_grid, GridReadOptions};
-use crate::io::model_file::read_model;
+use crate::io::grid::read::{read_grid, GridReadOptions};
+use crate::io::model::read_model;
 use crate::io::provenance::Provenance;
 use crate::observe::points::{read_points, BadRowPolicy, ColumnNames, PointReadOptions};
+use crate::progress::Progress;
 use crate::report::html::Block;
 
 /// How to run.
@@ -43,8 +44,9 @@ pub struct RunSummary {
     pub seconds: f64,
 }
 
-/// Runs `job`. On failure nothing is left in the output folder but what was there before.
-pub fn run_job(job: &Job, options: &RunOptions) -> Result<RunSummary> {
+/// Runs `job`, reporting one unit of progress per step. On failure nothing is left in the
+/// output folder but what was there before.
+pub fn run_job(job: &Job, options: &RunOptions, progress: &dyn Progress) -> Result<RunSummary> {
     crate::memory::check_fits("this job (see the memory estimate)", job.memory.peak_bytes)?;
     let inputs: Vec<std::path::PathBuf> = job
         .config
@@ -70,7 +72,7 @@ pub fn run_job(job: &Job, options: &RunOptions) -> Result<RunSummary> {
         }
     }
     let mut staging = Staging::create(&job.output_dir)?;
-    match run_staged(job, options, &mut staging) {
+    match run_staged(job, options, progress, &mut staging) {
         Ok((steps, seconds)) => {
             let files = staging.commit()?;
             Ok(RunSummary {
@@ -89,6 +91,7 @@ pub fn run_job(job: &Job, options: &RunOptions) -> Result<RunSummary> {
 fn run_staged(
     job: &Job,
     options: &RunOptions,
+    progress: &dyn Progress,
     staging: &mut Staging,
 ) -> Result<(Vec<StepRow>, f64)> {
     let start = Instant::now();
@@ -107,7 +110,7 @@ fn run_staged(
         products.insert(name.clone(), product);
     }
     let steps_total = job.step_order().len() as u64;
-    let progress = super::progress::Progress::new(options.quiet, steps_total);
+    progress.stage("steps", steps_total);
     let mut rows = Vec::new();
     let mut cautions: Vec<String> = Vec::new();
     for level in &job.levels {
@@ -148,7 +151,7 @@ fn run_staged(
         };
         let mut results: Vec<(String, StepOutcome, f64)> = Vec::new();
         if parallel {
-            progress.stage(&format!("{} syntheses in parallel", syntheses.len()));
+            progress.note(&format!("{} syntheses in parallel", syntheses.len()));
             results = syntheses
                 .par_iter()
                 .map(|n| run_one(n))
@@ -158,12 +161,13 @@ fn run_staged(
             if parallel && syntheses.contains(n) {
                 continue;
             }
-            progress.stage(&format!("{n} ({})", job.config.steps[n.as_str()].kind));
+            progress.note(&format!("{n} ({})", job.config.steps[n.as_str()].kind));
             results.push(run_one(n)?);
         }
         // records, report blocks and the summary follow the level's name order, whatever ran
         // first, so outputs do not depend on scheduling
         results.sort_by(|a, b| a.0.cmp(&b.0));
+        progress.advance(results.len() as u64);
         for (name, outcome, seconds) in results {
             if options.verbose && !options.quiet {
                 eprintln!(

@@ -10,7 +10,7 @@ use crate::field::synthesis::{
     evaluate_at_points, synthesize_on_grid, GeocentricPoint, SynthesisRequest, TargetSurface,
 };
 use crate::io::csv_table::write_csv_table;
-use crate::io::grid_file::{write_grid, GridFile, GridWriteOptions, LonConvention};
+use crate::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use crate::io::provenance::Provenance;
 use crate::pipeline::config::StepSpec;
 use crate::pipeline::products::Product;

@@ -3,7 +3,7 @@
 
 use super::{ReportPart, StepEnv, StepOutcome};
 use crate::error::{Error, Result};
-use crate::io::model_file::write_model;
+use crate::io::model::write_model;
 use crate::pipeline::config::StepSpec;
 use crate::pipeline::products::Product;
 use crate::report::html::Block;

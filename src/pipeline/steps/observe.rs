@@ -3,11 +3,11 @@
 use super::{ReportPart, StepEnv, StepOutcome};
 use crate::coeffs::Coefficients;
 use crate::error::{Error, Result};
-use crate::io::grid_file::{write_grid, GridFile};
-use crate::io::model_file::write_model;
+use crate::io::grid::write::{write_grid, GridFile};
+use crate::io::model::write_model;
+use crate::observe::fit::{fit as lsq_fit, FitOptions, Regularization};
 use crate::observe::gaps::GapPolicy;
 use crate::observe::gridding::{grid_points, GriddingMethod, GriddingOptions};
-use crate::observe::lsq::{fit as lsq_fit, FitOptions, Regularization};
 use crate::observe::points::PointSet;
 use crate::pipeline::config::StepSpec;
 use crate::pipeline::products::{Points, Product};

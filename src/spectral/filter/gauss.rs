@@ -24,6 +24,10 @@
 //! 9:24–82). Every ρ_l lies in (0, 1) and an error in ρ_{l+1} reaches ρ_l multiplied by
 //! −ρ_l², so the backward pass never amplifies errors; W_l = Π_{k≤l} ρ_k is then accurate to a
 //! few hundred ulps at every degree until it underflows double precision (~1e-308).
+//!
+//! This is deliberately not the forward (Lentz) evaluation of
+//! `spectral::stats::continued_fraction`: that gives one ratio per evaluation, while one
+//! backward pass gives every ρ_1..ρ_lmax at once.
 
 use crate::error::{Error, Result};
 

@@ -1,16 +1,16 @@
 //! Regularised incomplete beta function I_x(a, b) and its complement.
 //!
-//! Continued fraction DLMF 8.17.22 (Numerical Recipes 3rd ed. §6.4 `betacf`, modified Lentz
-//! method), used where it converges fast, x < (a+1)/(a+b+2); otherwise the symmetry
-//! I_x(a, b) = 1 − I_{1−x}(b, a) (DLMF 8.17.4). The factor x^a (1−x)^b / B(a, b) is formed
+//! Continued fraction DLMF 8.17.22 (Numerical Recipes 3rd ed. §6.4 `betacf`, by the modified
+//! Lentz method of [`super::continued_fraction`]), used where it converges fast,
+//! x < (a+1)/(a+b+2); otherwise the symmetry I_x(a, b) = 1 − I_{1−x}(b, a) (DLMF 8.17.4). The factor x^a (1−x)^b / B(a, b) is formed
 //! from Stirling remainders so that no large logarithms cancel (Temme 1996, §11.3.3):
 //! ln of it = a·L(x/x₀) + b·L(y/y₀) + ½ ln(ab/(2π(a+b))) − se(a) − se(b) + se(a+b), with
 //! x₀ = a/(a+b), y = 1 − x, y₀ = b/(a+b), L(r) = ln r − (r − 1); the linear parts cancel exactly.
 
+use super::continued_fraction::modified_lentz;
 use super::special::{half_ln_2pi, scaled_log_deviation, stirling_error};
 
 const MAX_ITERATIONS: usize = 1_000_000;
-const TINY: f64 = 1e-300;
 
 /// ln(x^a y^b / B(a, b)) with y = 1 − x supplied by the caller (keeps digits near x = 1).
 pub fn ln_beta_prefactor(a: f64, b: f64, x: f64, y: f64) -> f64 {
@@ -53,49 +53,28 @@ pub fn beta_i(a: f64, b: f64, x: f64) -> f64 {
     regularized_beta(a, b, x, 1.0 - x).0
 }
 
-/// The continued fraction of DLMF 8.17.22 (without the prefactor and the 1/a).
+/// The continued fraction of DLMF 8.17.22 (without the prefactor and the 1/a):
+/// 1/(1 + d₁/(1 + d₂/(1 + …))) with d_{2m+1} = −(a+m)(a+b+m)x/((a+2m)(a+2m+1)) and
+/// d_{2m} = m(b−m)x/((a+2m−1)(a+2m)), evaluated by [`modified_lentz`].
 fn continued_fraction(a: f64, b: f64, x: f64) -> f64 {
-    let qab = a + b;
-    let qap = a + 1.0;
-    let qam = a - 1.0;
-    let mut c = 1.0;
-    let mut d = 1.0 - qab * x / qap;
-    if d.abs() < TINY {
-        d = TINY;
-    }
-    d = 1.0 / d;
-    let mut h = d;
-    for m in 1..MAX_ITERATIONS {
-        let m = m as f64;
-        let m2 = 2.0 * m;
-        let even = m * (b - m) * x / ((qam + m2) * (a + m2));
-        d = 1.0 + even * d;
-        if d.abs() < TINY {
-            d = TINY;
-        }
-        c = 1.0 + even / c;
-        if c.abs() < TINY {
-            c = TINY;
-        }
-        d = 1.0 / d;
-        h *= d * c;
-        let odd = -(a + m) * (qab + m) * x / ((a + m2) * (qap + m2));
-        d = 1.0 + odd * d;
-        if d.abs() < TINY {
-            d = TINY;
-        }
-        c = 1.0 + odd / c;
-        if c.abs() < TINY {
-            c = TINY;
-        }
-        d = 1.0 / d;
-        let delta = d * c;
-        h *= delta;
-        if (delta - 1.0).abs() < 1e-16 {
-            break;
-        }
-    }
-    h
+    modified_lentz(
+        0.0,
+        |j| {
+            if j == 1 {
+                return (1.0, 1.0);
+            }
+            let k = j - 1;
+            let m = (k / 2) as f64;
+            let d = if k % 2 == 0 {
+                m * (b - m) * x / ((a + 2.0 * m - 1.0) * (a + 2.0 * m))
+            } else {
+                -(a + m) * (a + b + m) * x / ((a + 2.0 * m) * (a + 2.0 * m + 1.0))
+            };
+            (d, 1.0)
+        },
+        1e-16,
+        MAX_ITERATIONS,
+    )
 }
 
 #[cfg(test)]

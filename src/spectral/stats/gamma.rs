@@ -1,14 +1,15 @@
 //! Regularised incomplete gamma functions P(a, x) and Q(a, x) = 1 − P(a, x).
 //!
 //! Series (DLMF 8.11.4 / Numerical Recipes 3rd ed. §6.2 `gser`) for x < a + 1 and the
-//! continued fraction (DLMF 8.9.2, evaluated by the modified Lentz method, NR §5.2 / §6.2 `gcf`)
+//! continued fraction (DLMF 8.9.2, evaluated by the modified Lentz method of
+//! [`super::continued_fraction`], NR §5.2 / §6.2 `gcf`)
 //! otherwise. The common factor x^a e^{−x}/Γ(a) is formed without the large cancelling terms
 //! (Temme 1996, *Special Functions*, §11.2): ln of it is a·[ln(x/a) − (x/a − 1)] + ½ ln(a/2π) − se(a).
 
+use super::continued_fraction::modified_lentz;
 use super::special::{half_ln_2pi, scaled_log_deviation, stirling_error};
 
 const MAX_ITERATIONS: usize = 1_000_000;
-const TINY: f64 = 1e-300;
 
 /// ln(x^a e^{−x} / Γ(a)) for a > 0, x > 0.
 pub fn ln_gamma_prefactor(a: f64, x: f64) -> f64 {
@@ -65,31 +66,22 @@ fn lower_series(a: f64, x: f64) -> f64 {
     sum
 }
 
-/// 1/(x+1−a− 1(1−a)/(x+3−a− 2(2−a)/(x+5−a− …))), so that Q = prefactor · fraction.
+/// 1/(x+1−a− 1(1−a)/(x+3−a− 2(2−a)/(x+5−a− …))), so that Q = prefactor · fraction
+/// (DLMF 8.9.2 in the even form of Numerical Recipes §6.2 `gcf`). For integer a the partial
+/// numerators reach zero and the fraction ends exactly.
 fn upper_continued_fraction(a: f64, x: f64) -> f64 {
-    let mut b = x + 1.0 - a;
-    let mut c = 1.0 / TINY;
-    let mut d = 1.0 / b;
-    let mut h = d;
-    for i in 1..MAX_ITERATIONS {
-        let an = -(i as f64) * (i as f64 - a);
-        b += 2.0;
-        d = an * d + b;
-        if d.abs() < TINY {
-            d = TINY;
-        }
-        c = b + an / c;
-        if c.abs() < TINY {
-            c = TINY;
-        }
-        d = 1.0 / d;
-        let delta = d * c;
-        h *= delta;
-        if (delta - 1.0).abs() < 1e-16 {
-            break;
-        }
-    }
-    h
+    modified_lentz(
+        0.0,
+        |j| {
+            if j == 1 {
+                return (1.0, x + 1.0 - a);
+            }
+            let i = (j - 1) as f64;
+            (-i * (i - a), x + (2 * j - 1) as f64 - a)
+        },
+        1e-16,
+        MAX_ITERATIONS,
+    )
 }
 
 #[cfg(test)]

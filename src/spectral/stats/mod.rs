@@ -5,6 +5,7 @@
 //! power ratios (F(2l+1, 2l+1)) and significance thresholds of degree correlations (Student t).
 
 pub mod beta;
+pub mod continued_fraction;
 pub mod gamma;
 pub mod quantiles;
 pub mod special;

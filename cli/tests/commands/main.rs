@@ -1,0 +1,16 @@
+//! Integration tests of the `kugel` command line: each module runs the built binary (or the
+//! command functions) on small inputs made in a temporary folder and checks what it writes,
+//! prints and exits with. One test binary for all subcommands.
+
+mod analyze_convert;
+mod evaluate;
+mod filter;
+mod grid_fit;
+mod run_config;
+mod run_end_to_end;
+mod spectrum_compare;
+mod synthesize;
+
+/// Seeded synthetic models, shared with the library's spectral tests.
+#[path = "../../../tests/spectral/support/mod.rs"]
+mod support;

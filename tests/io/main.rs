@@ -1,0 +1,7 @@
+//! Integration tests of the library, area `io`: File formats: NetCDF grids and models, text tables, equiangular layouts.
+//! One test binary per area; each module below was a test file of its own.
+
+mod equiangular;
+mod grid_read;
+mod netcdf_files;
+mod text_parser_props;

@@ -1,0 +1,4 @@
+//! Integration tests of the library, area `pipeline`: The config-driven pipeline: config validation.
+//! One test binary per area; each module below was a test file of its own.
+
+mod config;
