@@ -2,7 +2,7 @@
 //! Source of the property: Gauss–Legendre quadrature with L + 1 nodes integrates polynomials
 //! of degree ≤ 2L + 1 exactly, so analysis inverts synthesis for band-limited fields
 //! (common practice; CONVENTIONS.md §4). Fast-vs-reference agreement of every kernel path is
-//! checked in `sht_kernel_accuracy.rs`.
+//! checked in `kernel_accuracy.rs`.
 
 use kugel::coeffs::Coefficients;
 use kugel::sht::grid::{Grid, GridKind};

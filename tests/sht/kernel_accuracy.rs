@@ -5,7 +5,7 @@
 //!
 //! Source of the yardstick: the reference evaluates the same sums ring by ring and degree by
 //! degree with the columns of `legendre::column_at_colatitude`, which are checked against
-//! mpmath in `sht_legendre.rs` (outside source) and round every step at least as finely as any
+//! mpmath in `legendre.rs` (outside source) and round every step at least as finely as any
 //! kernel (fused steps, the low part of cos θ included). The sums themselves are the quadrature
 //! of CONVENTIONS.md §4 (common practice).
 //!
@@ -21,10 +21,7 @@ use kugel::sht::{GaussGrid, KernelPath, TransformPlan};
 use ndarray::Array2;
 use std::f64::consts::PI;
 
-mod common {
-    include!("sht_common/sample.rs");
-}
-use common::sample;
+use crate::common::sample;
 
 /// A ring set without equatorial symmetry and with an odd number of rings: `n` colatitudes
 /// spread unevenly over (0, π), plus rings close to both poles. The weights are arbitrary
@@ -86,7 +83,7 @@ fn symmetric_rings(lmax: usize, north: &[f64], nlon: usize) -> Grid {
 /// multiply–add, one more rounding per step. Summation of ~L terms in another order differs by
 /// a few ulp per term of the largest size, about ε·sqrt(L) relative to the result, and the
 /// extra roundings of an unfused path are amplified like l² near the poles (see
-/// `sht_legendre.rs`). Measured on an AVX-512 machine: at most 71·ε·sqrt(L) for values,
+/// `legendre.rs`). Measured on an AVX-512 machine: at most 71·ε·sqrt(L) for values,
 /// λ-gradients and analysis, 144·ε·sqrt(L) for ∂/∂θ (with the near-pole allowance of
 /// [`rel_grid_derivative`]). The bound is 200·ε·sqrt(L) (4.4e-14·sqrt(L)). A drift of one ulp
 /// per recursion step instead accumulates coherently over the column, like ε·L away from the
