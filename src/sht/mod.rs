@@ -1,13 +1,13 @@
 //! Spherical-harmonic transforms: Legendre functions, quadrature, grid types, transform plans
 //! and their kernels. Knows nothing about files, physics or configuration.
 //!
-//! - [`legendre`]: P_l, associated functions in every normalisation (both phases), columns,
+//! - [`legendre`] — P_l, associated functions in every normalisation (both phases), columns,
 //!   all (l, m), θ-derivatives; stable to any degree (extended exponents near the poles).
-//! - [`gauss_legendre`]: nodes and weights (Newton in θ, double-double weights).
-//! - [`grid`]: grid descriptions; [`plan`]: the reusable [`TransformPlan`], which runs blocked
+//! - [`gauss_legendre`] — nodes and weights (Newton in θ, double-double weights).
+//! - [`grid`] — grid descriptions; [`plan`] — the reusable [`TransformPlan`], which runs blocked
 //!   SIMD kernels (private to this module) chosen once per plan from runtime CPU detection
-//!   ([`KernelPath`] names them and lets tests and benchmarks force one); [`reference`]: the
-//!   scalar reference transforms the kernels are tested against; [`points`]: synthesis at
+//!   ([`KernelPath`] names them and lets tests and benchmarks force one); [`reference`](mod@reference) — the
+//!   scalar reference transforms the kernels are tested against; [`points`] — synthesis at
 //!   arbitrary points.
 //!
 //! Measured accuracy and speed (round-trip error per degree, times, memory) are kept in one

@@ -250,7 +250,6 @@ impl TransformPlan {
                 |sc, orders| kernels.analyse(&job, sc, orders),
             );
         }
-        drop(sums);
         Ok(out)
     }
 

@@ -140,10 +140,10 @@ fn late_start_depths(lmax: usize, grid: &Grid) -> Vec<usize> {
     let factors = sectoral_factors(lmax);
     let (mut a, mut b) = (vec![0.0; lmax + 2], vec![0.0; lmax + 2]);
     let mut depths = Vec::new();
-    for m in 0..=lmax {
+    for (m, &c_m) in factors.iter().enumerate() {
         fill_coefficients(m, lmax, &mut a, &mut b);
         for &theta in &grid.colatitude_rad {
-            let sv = sectoral(m, factors[m], theta.sin().abs());
+            let sv = sectoral(m, c_m, theta.sin().abs());
             if sv.k == 0 {
                 continue;
             }

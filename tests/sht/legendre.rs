@@ -155,7 +155,7 @@ fn orthogonality_by_gauss_legendre_every_normalisation() {
                             match norm {
                                 Normalization::Geodesy => 4.0 * PI,
                                 Normalization::Schmidt => 4.0 * PI / (2 * l + 1) as f64,
-                                _ => 1.0 * if m == 0 { 1.0 } else { 1.0 },
+                                _ => 1.0,
                             }
                         };
                         // orthonormal: complex-Y_lm normalisation; the real form with

@@ -21,7 +21,7 @@ pub fn column(m: usize, lmax: usize, t: f64, u: f64, out: &mut [f64]) {
 }
 
 /// P̄_lm(cos θ) for l = m..=lmax at colatitude `theta_rad` (a double taken as exact), written to
-/// `out[l − m]` as in [`column`]; near the poles it is accurate to the colatitude itself, not
+/// `out[l − m]` as in [`column()`]; near the poles it is accurate to the colatitude itself, not
 /// only to fl(cos θ).
 pub fn column_at_colatitude(m: usize, lmax: usize, theta_rad: f64, out: &mut [f64]) {
     column_split(m, lmax, ColatitudeCos::new(theta_rad), out);

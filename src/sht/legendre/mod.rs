@@ -1,12 +1,12 @@
 //! Legendre polynomials and associated Legendre functions, stable to very high degree.
 //!
-//! - [`polynomial`]: P_l(x).
-//! - [`recursion`]: the fully normalised recursions of Holmes & Featherstone (2002) and the
+//! - [`polynomial`] — P_l(x).
+//! - [`recursion`] — the fully normalised recursions of Holmes & Featherstone (2002) and the
 //!   extended-exponent column start (Fukushima 2012) that keeps them stable near the poles.
-//! - [`colatitude`]: cos θ as fl(cos θ) plus its rounding error, for every column recursion.
-//! - [`column`]: columns l = m..L at one point, with θ-derivatives.
-//! - [`pole_limit`]: lim P̄_l1/sin θ at the poles (gradients there).
-//! - [`normalized`]: every normalisation of CONVENTIONS.md §2, both phase conventions.
+//! - [`colatitude`] — cos θ as fl(cos θ) plus its rounding error, for every column recursion.
+//! - [`column`](mod@column) — columns l = m..L at one point, with θ-derivatives.
+//! - [`pole_limit`] — lim P̄_l1/sin θ at the poles (gradients there).
+//! - [`normalized`] — every normalisation of CONVENTIONS.md §2, both phase conventions.
 
 pub mod colatitude;
 pub mod column;
