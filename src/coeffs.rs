@@ -219,6 +219,11 @@ impl Coefficients {
         &mut self.s
     }
 
+    /// Packed C and S, both mutable at once (e.g. for transforms that fill them together).
+    pub fn packed_mut(&mut self) -> (&mut [f64], &mut [f64]) {
+        (&mut self.c, &mut self.s)
+    }
+
     /// Standard errors of C and S, when known.
     pub fn sigmas(&self) -> Option<(&[f64], &[f64])> {
         match (&self.c_sigma, &self.s_sigma) {

@@ -71,6 +71,6 @@ impl OutputSection {
     pub fn wants(&self, format: &str) -> bool {
         self.formats
             .as_ref()
-            .map_or(true, |f| f.iter().any(|x| x == format))
+            .is_none_or(|f| f.iter().any(|x| x == format))
     }
 }

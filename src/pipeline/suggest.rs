@@ -16,7 +16,7 @@ pub fn nearest<'a>(given: &str, known: &[&'a str]) -> Option<&'a str> {
         let dist = strsim::osa_distance(&g, &kl);
         let allowed = (g.chars().count().max(k.chars().count()) / 3).max(2);
         let shared = shared_chars(&g, &kl);
-        let better = best.map_or(true, |(bd, bs, _)| dist < bd || (dist == bd && shared > bs));
+        let better = best.is_none_or(|(bd, bs, _)| dist < bd || (dist == bd && shared > bs));
         if dist <= allowed && better {
             best = Some((dist, shared, k));
         }

@@ -5,9 +5,9 @@
 //! - node-registered with both poles, θ_j = jπ/(n−1), j = 0..n−1: Clenshaw–Curtis weights
 //!   (Clenshaw & Curtis 1960, Numer. Math. 2:197–205; closed form as in Waldvogel 2006, BIT
 //!   46:195–202), with N = n − 1, c_0 = c_N = 1, c_j = 2 otherwise, b_k = 1 for 2k = N, else 2:
-//!     w_j = (c_j / N) · [1 − Σ_{k=1}^{⌊N/2⌋} b_k cos(2kθ_j) / (4k² − 1)];
+//!   w_j = (c_j / N) · [1 − Σ_{k=1}^{⌊N/2⌋} b_k cos(2kθ_j) / (4k² − 1)];
 //! - cell-centred, θ_j = (j + ½)π/n: Fejér's first rule (Fejér 1933; Waldvogel 2006):
-//!     w_j = (2 / n) · [1 − 2 Σ_{k=1}^{⌊n/2⌋} cos(2kθ_j) / (4k² − 1)].
+//!   w_j = (2 / n) · [1 − 2 Σ_{k=1}^{⌊n/2⌋} cos(2kθ_j) / (4k² − 1)].
 //!
 //! Weights are for the measure d(cos θ) on [−1, 1] (Σ w = 2). With n latitudes either rule
 //! integrates every polynomial in cos θ of degree ≤ n − 1 exactly. Analysis integrates products

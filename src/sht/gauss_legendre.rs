@@ -147,9 +147,15 @@ impl BonnetTable {
     /// derivative in the weight formula then keeps full double accuracy at n in the tens of
     /// thousands.
     fn pair_double_double(&self, x: f64) -> (f64, f64) {
+        if cfg!(any(target_arch = "aarch64", target_feature = "fma")) {
+            // the target has FMA in hardware: `mul_add` compiles to it
+            return self.pair_double_double_with::<true>(x);
+        }
         #[cfg(target_arch = "x86_64")]
         if std::arch::is_x86_feature_detected!("fma") {
-            // SAFETY: the CPU supports FMA (checked just above).
+            // SAFETY: the CPU supports FMA (checked just above). This and the function below
+            // are the only unsafe code of `sht` outside `kernel::unsafe_parts`.
+            #[allow(unsafe_code)]
             return unsafe { self.pair_double_double_fma(x) };
         }
         self.pair_double_double_with::<false>(x)
@@ -159,6 +165,7 @@ impl BonnetTable {
     /// splitting (both give the exact error term, so the results are identical).
     #[cfg(target_arch = "x86_64")]
     #[target_feature(enable = "fma")]
+    #[allow(unsafe_code)]
     unsafe fn pair_double_double_fma(&self, x: f64) -> (f64, f64) {
         self.pair_double_double_with::<true>(x)
     }

@@ -1,23 +1,26 @@
 //! Spherical-harmonic transforms: Legendre functions, quadrature, grid types, transform plans
 //! and their kernels. Knows nothing about files, physics or configuration.
 //!
-//! - [`legendre`]: P_l, associated functions in every normalisation (both phases), columns,
+//! - [`legendre`] — P_l, associated functions in every normalisation (both phases), columns,
 //!   all (l, m), θ-derivatives; stable to any degree (extended exponents near the poles).
-//! - [`gauss_legendre`]: nodes and weights (Newton in θ, double-double weights).
-//! - [`grid`]: grid descriptions; [`plan`]: the reusable [`TransformPlan`]; [`kernel`]: the
-//!   blocked SIMD kernels with runtime dispatch; [`reference`]: the scalar reference transforms
-//!   the kernels are tested against; [`points`]: synthesis at arbitrary points.
+//! - [`gauss_legendre`] — nodes and weights (Newton in θ, double-double weights).
+//! - [`grid`] — grid descriptions; [`plan`] — the reusable [`TransformPlan`], which runs blocked
+//!   SIMD kernels (private to this module) chosen once per plan from runtime CPU detection
+//!   ([`KernelPath`] names them and lets tests and benchmarks force one); [`reference`](mod@reference) — the
+//!   scalar reference transforms the kernels are tested against; [`points`] — synthesis at
+//!   arbitrary points.
 //!
-//! Accuracy (measured with `kugel bench`, N(0,1) coefficients): round-trip error
-//! max|Δc|/max|c| ≈ 6e-14 at L = 255, 7e-13 at L = 1023, 2e-12 at L = 2047, 5e-12 at L = 4095.
-//! The error grows with L like ordinary floating-point summation over the ~L² terms per ring
-//! (the scalar reference path shows the same size of error) and is largest for low orders,
-//! whose columns are large on the near-polar rings.
+//! Measured accuracy and speed (round-trip error per degree, times, memory) are kept in one
+//! place: the performance table of the project README, produced with `kugel bench`.
+
+// All unsafe code of the transforms sits in one module, `kernel::unsafe_parts`, which allows it
+// explicitly; everything else here is checked to be free of it.
+#![deny(unsafe_code)]
 
 pub mod equiangular;
 pub mod gauss_legendre;
 pub mod grid;
-pub mod kernel;
+mod kernel;
 pub mod legendre;
 pub mod plan;
 pub mod points;

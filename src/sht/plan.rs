@@ -1,14 +1,15 @@
 //! A reusable transform plan for one (lmax, grid) pair.
 //!
 //! Analysis: C_lm − i S_lm = (1/4π) Σ_j w_j P̄_lm(cos θ_j) G_m(θ_j), with
-//! G_m = (2π/nlon) Σ_k f_jk e^{−imλ_k} (CONVENTIONS.md §4). Synthesis is its transpose.
+//! G_m = (2π/nlon) Σ_k f_jk e^{−imλ_k} (docs/conventions.md §4). Synthesis is its transpose.
 //! Coefficients are `geodesy` without phase inside; other conventions are converted at the edge.
 //!
-//! Execution (ARCHITECTURE.md, "Transform design"):
+//! Execution:
 //! - Legendre stage: rayon over orders m (one task per order, work stealing balances the
 //!   cost that falls with m); per order, the rings run in blocks of SIMD lanes, north and
 //!   south rings together when the grid is symmetric, with the recursion computed on the fly
-//!   (no tables of P̄_lm).
+//!   (no tables of P̄_lm). The kernel variant (instruction set, lane width, fused
+//!   multiply–add) is chosen once, when the plan is built, from runtime CPU detection.
 //! - Fourier stage: rayon over rings, one real FFT each (realfft), per-thread scratch.
 //! - Synthesis keeps each ring's half-spectrum inside its own output row (2L + 1 ≤ nlon reals)
 //!   and transforms the row in place, so no nlat × (L+1) complex array is held beside the grid.
@@ -28,15 +29,17 @@ use crate::error::{Error, Result};
 use crate::memory;
 
 use super::grid::Grid;
-use super::kernel::dispatch::{self, KernelPath};
-use super::kernel::lanes::{build_lanes, is_symmetric, Lane};
-use super::kernel::order::{AnalysisJob, OrderScratch, SharedMut, SynthJob};
+use super::kernel::{
+    build_lanes, is_symmetric, AnalysisJob, CoefficientSums, FourierGrids, KernelPath, KernelSet,
+    Lane, OrderScratch, SynthJob,
+};
 use super::legendre::recursion::sectoral_factors;
+use super::legendre::{order_one_over_sin_at_pole, Pole};
 
 /// Budget for the ring spectra held at once during analysis.
 const ANALYSIS_CHUNK_BYTES: usize = 256 << 20;
 
-/// Transform plan: grid, degree, lane layout, FFT plans and the chosen kernel path.
+/// Transform plan: grid, degree, lane layout, FFT plans and the kernels chosen for this CPU.
 /// `Send + Sync`; build once, reuse for every field of this shape.
 pub struct TransformPlan {
     lmax: usize,
@@ -47,7 +50,7 @@ pub struct TransformPlan {
     lanes: Vec<Lane>,
     sectoral_factors: Vec<f64>,
     rotation: Vec<Complex64>,
-    path: KernelPath,
+    kernels: KernelSet,
 }
 
 impl TransformPlan {
@@ -97,19 +100,24 @@ impl TransformPlan {
             rotation: (0..=lmax)
                 .map(|m| Complex64::from_polar(1.0, m as f64 * grid.lon0_rad))
                 .collect(),
-            path: KernelPath::detect(),
+            kernels: KernelSet::detect(),
         })
     }
 
-    /// The same plan running a given kernel path (refused when the CPU lacks it).
+    /// The same plan running a given kernel path (refused when the CPU lacks it), for tests
+    /// and benchmarks of each variant.
     pub fn with_kernel_path(mut self, path: KernelPath) -> Result<Self> {
-        if !path.is_supported() {
-            return Err(Error::invalid(format!(
-                "this CPU cannot run the {} kernels",
-                path.name()
-            )));
-        }
-        self.path = path;
+        self.kernels = KernelSet::for_path(path).ok_or_else(|| {
+            Error::invalid(format!(
+                "this CPU cannot run the {} kernels (available: {})",
+                path.name(),
+                KernelPath::available()
+                    .iter()
+                    .map(|p| p.name())
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            ))
+        })?;
         Ok(self)
     }
 
@@ -128,8 +136,9 @@ impl TransformPlan {
         &self.grid
     }
 
+    /// The kernel variant this plan runs.
     pub fn kernel_path(&self) -> KernelPath {
-        self.path
+        self.kernels.path()
     }
 
     /// Whether north and south rings are paired (the grid is symmetric about the equator).
@@ -198,10 +207,8 @@ impl TransformPlan {
         let chunk_lanes = self.analysis_chunk_lanes();
         let mut spectra = vec![Complex64::new(0.0, 0.0); chunk_lanes.min(lanes.len()) * 2 * stride];
         let scale = 1.0 / (2.0 * nlon as f64);
-        let (cp, sp) = {
-            let c = out.c_packed_mut().as_mut_ptr();
-            (SharedMut(c), SharedMut(out.s_packed_mut().as_mut_ptr()))
-        };
+        let (c_out, s_out) = out.packed_mut();
+        let mut sums = CoefficientSums::new(c_out, s_out, lmax);
         for chunk in lanes.chunks(chunk_lanes.max(1)) {
             // Fourier stage: weighted, rotated half-spectra of the chunk's rings.
             let used = &mut spectra[..chunk.len() * 2 * stride];
@@ -224,13 +231,11 @@ impl TransformPlan {
                 lanes: chunk,
                 sectoral_factors: &self.sectoral_factors,
                 spectra: used,
-                c: cp,
-                s: sp,
             };
-            let path = self.path;
-            (0..lmax + 1).into_par_iter().with_max_len(1).for_each_init(
+            let kernels = self.kernels;
+            sums.for_each_order(
                 || OrderScratch::new(lmax),
-                |sc, m| dispatch::analysis(path, &job, m, sc),
+                |sc, orders| kernels.analyse(&job, sc, orders),
             );
         }
         Ok(out)
@@ -264,24 +269,8 @@ impl TransformPlan {
             let s_in = lane.south.is_some_and(|s| rows.contains(&s));
             match (n_in, s_in) {
                 (true, true) => out.push(*lane),
-                (true, false) => out.push(
-                    Lane {
-                        south: None,
-                        ..*lane
-                    }
-                    .as_single(&self.grid),
-                ),
-                (false, true) => {
-                    let s = lane.south.expect("checked");
-                    out.push(
-                        Lane {
-                            north: s,
-                            south: None,
-                            ..*lane
-                        }
-                        .as_single(&self.grid),
-                    )
-                }
+                (true, false) => out.push(Lane::single(&self.grid, lane.north)),
+                (false, true) => out.push(Lane::single(&self.grid, lane.south.expect("checked"))),
                 (false, false) => {}
             }
         }
@@ -376,8 +365,6 @@ impl TransformPlan {
         } else {
             &self.lanes
         };
-        let p0 = SharedMut(out0.as_mut_ptr());
-        let p1 = SharedMut(out1.map_or(std::ptr::null_mut(), |a| a.as_mut_ptr()));
         let job = SynthJob {
             lmax: self.lmax,
             lanes,
@@ -385,21 +372,27 @@ impl TransformPlan {
             c: g.c_packed(),
             s: g.s_packed(),
             rotation: &self.rotation,
-            nlon: self.grid.nlon,
-            out0: p0,
-            out1: p1,
         };
-        let path = self.path;
         let lmax = self.lmax;
+        let (nlat, nlon) = self.grid.shape();
         let orders = orders.start.min(lmax + 1)..orders.end.min(lmax + 1);
-        orders.into_par_iter().with_max_len(1).for_each_init(
+        let mut grids = FourierGrids::new(
+            out0.as_slice_mut().expect("standard layout"),
+            out1.map(|a| a.as_slice_mut().expect("standard layout")),
+            nlat,
+            nlon,
+            lmax,
+        );
+        let kernels = self.kernels;
+        grids.for_each_order(
+            orders,
             || OrderScratch::new(lmax),
-            |sc, m| dispatch::synth(path, grad, &job, m, sc),
+            |sc, columns| kernels.synth(grad, &job, sc, columns),
         );
     }
 
     /// Gradient Fourier columns of rows at the poles: only order 1 survives, with
-    /// lim P̄_l1/sin θ = ±dP̄_l1/dθ = sqrt((2l+1) l(l+1)/2) up to the sign at the south pole.
+    /// lim P̄_l1/sin θ = ±dP̄_l1/dθ (`legendre::pole_limit`).
     fn pole_gradient_rows(
         &self,
         g: &Coefficients,
@@ -410,22 +403,17 @@ impl TransformPlan {
             return;
         }
         for (row, &theta) in self.grid.colatitude_rad.iter().enumerate() {
-            if theta.sin() != 0.0 && theta != std::f64::consts::PI {
+            let Some(pole) = Pole::at(theta) else {
                 continue;
-            }
-            let south = theta > 1.0;
+            };
             let (mut a_d, mut b_d, mut a_p, mut b_p) = (0.0, 0.0, 0.0, 0.0);
             for l in 1..=self.lmax {
-                let lf = l as f64;
-                let s = ((2.0 * lf + 1.0) * lf * (lf + 1.0) / 2.0).sqrt();
-                let odd = l % 2 == 1;
-                // north: dP/dθ = s, P/u = s; south: dP/dθ = (−1)^l s, P/u = (−1)^{l+1} s
-                let (d, p) = if !south {
-                    (s, s)
-                } else if odd {
-                    (-s, s)
-                } else {
-                    (s, -s)
+                let p = order_one_over_sin_at_pole(l, pole);
+                // dP̄_l1/dθ at the pole: the limit itself at the north pole; at the south pole
+                // it is its negative (θ runs towards the pole there)
+                let d = match pole {
+                    Pole::North => p,
+                    Pole::South => -p,
                 };
                 a_d += g.c(l, 1) * d;
                 b_d += g.s(l, 1) * d;
@@ -465,20 +453,6 @@ impl TransformPlan {
                 row.copy_from_slice(&rs.real);
             },
         );
-    }
-}
-
-impl Lane {
-    fn as_single(self, grid: &Grid) -> Lane {
-        let th = grid.colatitude_rad[self.north];
-        let t = th.cos();
-        Lane {
-            t,
-            t_lo: super::kernel::lanes::cos_low_part(th, t),
-            u: th.sin().abs(),
-            north: self.north,
-            south: None,
-        }
     }
 }
 

@@ -1,7 +1,8 @@
 //! Scalar reference transforms: ring by ring, order by order, degree by degree, with the
-//! stable column of `legendre::column` and the non-singular derivative. Deliberately simple and
-//! obviously right; O(L³) per ring set with no blocking, symmetry or SIMD. The fast kernels are
-//! tested against these.
+//! stable columns of `legendre::column` (at the colatitude: the low part of cos θ included,
+//! every step rounded as by fused multiply–add, so at least as accurate as any kernel path)
+//! and the non-singular derivative. Deliberately simple and obviously right; O(L³) per ring set
+//! with no blocking, symmetry or SIMD. The fast kernels are tested against these.
 
 use ndarray::Array2;
 use realfft::num_complex::Complex64;
@@ -31,7 +32,7 @@ pub fn analyse(lmax: usize, grid: &Grid, field: &Array2<f64>) -> Result<Coeffici
             / (4.0 * std::f64::consts::PI);
         for m in 0..=lmax {
             let g = spectrum[m] * Complex64::from_polar(1.0, -(m as f64) * grid.lon0_rad);
-            legendre::column(m, lmax, theta.cos(), theta.sin().abs(), &mut col);
+            legendre::column_at_colatitude(m, lmax, theta, &mut col);
             for l in m..=lmax {
                 let p = col[l - m] * w;
                 let (c, s) = (out.c(l, m) + p * g.re, out.s(l, m) - p * g.im);
@@ -60,7 +61,7 @@ pub fn synthesise(g: &Coefficients, grid: &Grid, quantity: Quantity) -> Array2<f
     let mut row = ifft.make_output_vec();
     for j in 0..nlat {
         let theta = grid.colatitude_rad[j];
-        let u = theta.sin().abs();
+        let pole = legendre::Pole::at(theta);
         spectrum
             .iter_mut()
             .for_each(|z| *z = Complex64::new(0.0, 0.0));
@@ -71,20 +72,11 @@ pub fn synthesise(g: &Coefficients, grid: &Grid, quantity: Quantity) -> Array2<f
                 let f = match quantity {
                     Quantity::Value => p[l - m],
                     Quantity::DTheta => d[l - m],
-                    Quantity::DLambdaOverSin => {
-                        if u > 0.0 {
-                            m as f64 * p[l - m] / u
-                        } else if m == 1 {
-                            // lim P̄_l1 / sin θ: +dP̄_l1/dθ at the north pole, − at the south
-                            if theta < 1.0 {
-                                d[l - m]
-                            } else {
-                                -d[l - m]
-                            }
-                        } else {
-                            0.0
-                        }
-                    }
+                    Quantity::DLambdaOverSin => match pole {
+                        None => m as f64 * p[l - m] / theta.sin(),
+                        Some(pole) if m == 1 => legendre::order_one_over_sin_at_pole(l, pole),
+                        Some(_) => 0.0,
+                    },
                 };
                 a += g.c(l, m) * f;
                 b += g.s(l, m) * f;

@@ -50,7 +50,7 @@ fn zonal_series_agrees_with_somigliana() {
             -89.999, -67.5, -45.0, -10.0, 0.0, 0.5, 30.0, 45.0, 60.0, 89.9, 90.0,
         ] {
             let series = series_gravity(&e, lat);
-            let closed = e.normal_gravity_somigliana((lat as f64).to_radians());
+            let closed = e.normal_gravity_somigliana(lat.to_radians());
             assert!(
                 (series / closed - 1.0).abs() < 1e-13,
                 "{} at {lat}°: series {series} vs Somigliana {closed}",

@@ -9,13 +9,13 @@ Library: mpmath (version printed into the fixture header), 60 significant digits
   sectoral value from its closed form P̄_mm = sqrt((2−δ_m0)(2m+1)(2m)!)/(2^m m!) · sin^m θ
   followed by the three-term column recursion, both in 60-digit arithmetic with mpmath's
   unbounded exponent (so nothing underflows and rounding is negligible).
-The high-degree values use t = fl(cos θ), u = fl(sin θ) as doubles (near the poles, rounding
-cos θ alone moves P̄_lm by about l·ulp(1)/sin θ, which is not the engine's doing).
+Every value is taken at the colatitude θ = fl(theta) (the double the engine receives), with
+cos θ and sin θ evaluated in 60 digits: the engine carries the rounding error of fl(cos θ)
+itself (sht::legendre::colatitude), so near the poles it must match the exact cosine.
 Output: tests/fixtures/sht/legendre_mpmath.txt, lines "l m theta_rad value" (value printed
 to 17 significant digits; values below 1e-300 are excluded because the engine may skip them).
 Rerun: python3 tests/reference/sht_legendre_mpmath.py
 """
-import math
 import os
 import mpmath as mp
 
@@ -23,10 +23,9 @@ mp.mp.dps = 60
 
 
 def pbar_column(m, lmax, theta):
-    # Evaluate at the doubles t = fl(cos θ), u = fl(sin θ) that the engine itself uses, so the
-    # check measures the engine's arithmetic, not the conditioning of rounding cos θ.
-    t = mp.mpf(math.cos(float(theta)))
-    u = mp.mpf(math.sin(float(theta)))
+    # the exact cosine and sine of the double colatitude
+    t = mp.cos(theta)
+    u = mp.sin(theta)
     delta = 1 if m == 0 else 2
     pmm = mp.sqrt(delta * (2 * m + 1) * mp.factorial(2 * m)) / (mp.mpf(2) ** m * mp.factorial(m)) * u ** m
     out = {m: pmm}
@@ -48,7 +47,7 @@ def pbar_legenp(l, m, theta):
 rows = []
 # low degrees through legenp (independent of any recursion)
 for theta in ["0.3", "1.2", "2.9", "1e-3"]:
-    th = mp.mpf(theta)
+    th = mp.mpf(float(theta))
     for l, m in [(0, 0), (1, 0), (1, 1), (5, 3), (12, 0), (12, 12), (17, 6)]:
         rows.append((l, m, theta, pbar_legenp(l, m, th)))
 # high degrees, poles and large orders
@@ -62,7 +61,7 @@ cases = [
     ("1.5707963267948966", 10800, [0, 5000, 10799, 10800]),
 ]
 for theta, lmax, orders in cases:
-    th = mp.mpf(theta)
+    th = mp.mpf(float(theta))
     for m in orders:
         col = pbar_column(m, lmax, th)
         picks = sorted(set([m, (m + lmax) // 2, lmax - 1, lmax] + [l for l in range(m, lmax + 1, max(1, (lmax - m) // 7))]))

@@ -155,7 +155,7 @@ fn orthogonality_by_gauss_legendre_every_normalisation() {
                             match norm {
                                 Normalization::Geodesy => 4.0 * PI,
                                 Normalization::Schmidt => 4.0 * PI / (2 * l + 1) as f64,
-                                _ => 1.0 * if m == 0 { 1.0 } else { 1.0 },
+                                _ => 1.0,
                             }
                         };
                         // orthonormal: complex-Y_lm normalisation; the real form with
@@ -173,14 +173,16 @@ fn orthogonality_by_gauss_legendre_every_normalisation() {
 
 #[test]
 fn mpmath_reference_values_at_high_degree_and_near_the_poles() {
-    // Fixture: tests/reference/sht_legendre_mpmath.py (mpmath, 60 digits). Tolerance: max(1e-12, 5e-14·l)
-    // of max(|value|, 1) (P̄_lm are of order one in the oscillating part of a column, where
-    // the recursion's rounding error is absolute, growing about like sqrt(l) ulp and faster near the poles, where
-    // Holmes & Featherstone 2002 report errors approaching 1e-11 at degree 2700; at θ → 0 the
-    // recursion has a nearly double characteristic root and low orders lose about l^1.5 ulp,
-    // measured 4e-11 at l = 1542, m = 0, θ = 1e-3), and the
-    // same bound relative to the value where it is small (the monotone part near the poles,
-    // where extended exponents keep full relative accuracy).
+    // Fixture: tests/reference/sht_legendre_mpmath.py (mpmath, 60 digits, at the exact cosine
+    // of the double colatitude: the columns carry the rounding error of fl(cos θ) themselves).
+    // Tolerance, of max(|value|, 1): max(1e-12, 5e-14·l) away from the poles, where the
+    // recursion's rounding error is absolute and grows about like sqrt(l) ulp (Holmes &
+    // Featherstone 2002 report errors approaching 1e-11 at degree 2700); within 0.01 rad of a
+    // pole max(1e-12, 3e-16·l²): there every rounded coefficient a_lm acts like a perturbation
+    // of cos θ by about one ulp, which the nearly double characteristic root of the recursion
+    // at x = 1 amplifies like P̄'_l ∝ l² (measured: 1.5e-9 at l = 5400, m = 0, θ = 1e-3, a
+    // fifth of the bound). The same bound holds relative to the value where it is small (the
+    // monotone part near the poles, where extended exponents keep full relative accuracy).
     let text = std::fs::read_to_string(concat!(
         env!("CARGO_MANIFEST_DIR"),
         "/tests/fixtures/sht/legendre_mpmath.txt"
@@ -194,11 +196,9 @@ fn mpmath_reference_values_at_high_degree_and_near_the_poles() {
         let theta: f64 = f[2].parse().unwrap();
         let expect: f64 = f[3].parse().unwrap();
         let got = geodesy_value(l, m, theta);
-        // geodesy_value evaluates at fl(cos θ), fl(sin θ), as the fixture does
+        // geodesy_value takes the double θ as exact, as the fixture does
         let err = (got - expect).abs() / expect.abs().max(1.0);
         max_err = max_err.max(err);
-        // Known weakness (see the comment above): within 0.01 rad of a pole the low orders lose
-        // accuracy about like l² ulp; the bound below is what was measured, not a goal.
         let lf = l as f64;
         let tol = if theta.sin() < 0.01 {
             1e-12_f64.max(3e-16 * lf * lf)

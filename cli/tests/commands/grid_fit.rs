@@ -76,7 +76,7 @@ fn grid_writes_field_with_ancillary_coverage_layers() {
     assert_eq!(count.shape(), &[nlat, nlon]);
     assert!(count.iter().any(|&c| c > 0.0));
     let nearest = file.read_variable_as_f64("nearest_km").unwrap();
-    assert!(nearest.iter().all(|&d| d >= 0.0 && d < 2000.0));
+    assert!(nearest.iter().all(|d| (0.0..2000.0).contains(d)));
 }
 
 #[test]

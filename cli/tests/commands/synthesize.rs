@@ -76,7 +76,7 @@ fn gravity_quantities_with_units_standard_names_and_caution() {
         Some("E")
     );
     let globals = f.global_attributes().unwrap();
-    assert!(attr(&globals, "caution").unwrap().contains("engineering"));
+    assert!(attr(globals, "caution").unwrap().contains("engineering"));
     // After removing GRS80 only C̄_21 remains: N = R C̄_21 P̄_21 cos λ, P̄_21 = sqrt(5/3)·3 sinθ cosθ
     // (closed form, any text) — docs/conventions.md §6 with s = 1.
     let lat = f.read_variable_as_f64("lat").unwrap();
@@ -132,7 +132,7 @@ fn magnetic_map_and_refusals() {
         attr(f.variable("declination").unwrap().attributes(), "units").as_deref(),
         Some("degree")
     );
-    assert!(attr(&f.global_attributes().unwrap(), "caution")
+    assert!(attr(f.global_attributes().unwrap(), "caution")
         .unwrap()
         .contains("navigation"));
 

@@ -215,7 +215,7 @@ impl Panel {
         out
     }
 
-    /// A line through values[l] for degrees l ≥ 1 (gaps where a value cannot be drawn).
+    /// A line through `values[l]` for degrees l ≥ 1 (gaps where a value cannot be drawn).
     pub fn series(&self, doc: &mut SvgDocument, values: &[f64], stroke: Stroke, class: &str) {
         for run in self.runs(values.len(), |l| self.usable(values[l])) {
             let pts: Vec<(f64, f64)> = run
@@ -228,7 +228,7 @@ impl Panel {
         }
     }
 
-    /// A shaded band between lower[l] and upper[l].
+    /// A shaded band between `lower[l]` and `upper[l]`.
     pub fn band(
         &self,
         doc: &mut SvgDocument,

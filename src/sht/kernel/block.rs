@@ -1,6 +1,6 @@
 //! The inner loops over degree l for one order m and one block of W lanes: the hot path of
 //! every transform. Written once, generically over the lane count `W` and the use of fused
-//! multiply–add, and compiled per instruction set by `kernel::dispatch` (the fixed-size lane
+//! multiply–add, and compiled per instruction set in `kernel::unsafe_parts` (the fixed-size lane
 //! arrays let the compiler keep each in one or two vector registers).
 //!
 //! State at degree l: `p0` = P̄_{l−1,m}, `p1` = P̄_lm per lane; advancing uses
@@ -77,7 +77,7 @@ fn inject<const W: usize>(
 }
 
 /// cos θ of a block's lanes as a double `t` plus its rounding error `t_lo`
-/// (see [`super::lanes::cos_low_part`]).
+/// (see `legendre::colatitude`).
 #[derive(Debug, Clone, Copy)]
 pub struct Nodes<const W: usize> {
     pub t: [f64; W],
@@ -139,7 +139,10 @@ fn synth_step<const W: usize, const FMA: bool, const GRAD: bool>(
     }
     if GRAD {
         for i in 0..W {
-            let d = fmadd::<FMA>(lf * x.t[i], p1[i], -(f * p0[i]));
+            // l (t + t_lo) P̄_lm − f_lm P̄_{l−1,m}: the low part of cos θ matters here too,
+            // since the difference is divided by sin θ afterwards
+            let main = fmadd::<FMA>(lf * x.t[i], p1[i], -(f * p0[i]));
+            let d = fmadd::<FMA>(lf * x.t_lo[i], p1[i], main);
             acc.dc[i] = fmadd::<FMA>(cl, d, acc.dc[i]);
             acc.ds[i] = fmadd::<FMA>(sl, d, acc.ds[i]);
         }

@@ -1,10 +1,18 @@
-//! Fast transform kernels: lanes of rings (`lanes`), the per-degree inner loops (`block`), the
-//! per-order driver (`order`) and runtime instruction-set dispatch (`dispatch`). The scalar
-//! reference implementation they are tested against lives in `sht::reference`.
+//! Fast transform kernels, private to `sht`: lanes of rings (`lanes`), the per-degree inner
+//! loops (`block`), the per-order driver (`order`), the description of the compiled variants
+//! (`path`) and the only unsafe code of the layer (`unsafe_parts`: the kernel table chosen
+//! once per plan, and the per-order writers into the shared outputs). The scalar reference they
+//! are tested against lives in `sht::reference`.
 
-pub mod block;
-pub mod dispatch;
-pub mod lanes;
-pub mod order;
+mod block;
+mod lanes;
+mod order;
+mod path;
+#[allow(unsafe_code)]
+mod unsafe_parts;
 
-pub use dispatch::KernelPath;
+pub use path::KernelPath;
+
+pub(crate) use lanes::{build_lanes, is_symmetric, Lane};
+pub(crate) use order::{AnalysisJob, OrderScratch, SynthJob};
+pub(crate) use unsafe_parts::{CoefficientSums, FourierGrids, KernelSet};

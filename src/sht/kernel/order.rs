@@ -1,32 +1,28 @@
 //! The work for one order m: recursion coefficients, column starts per lane, the block kernels
 //! and the hand-over to the ring (Fourier) stage. Generic over the lane count and FMA use; the
-//! instruction-set variants are instantiated in `kernel::dispatch`.
+//! instruction-set variants are instantiated once in `kernel::unsafe_parts` and chosen when a
+//! plan is built. Results leave through the per-order writers of that module, which are the
+//! only way to reach the shared output.
 
 use realfft::num_complex::Complex64;
 
 use super::block::{analysis_block, synth_block, Event, Nodes, OrderCoefficients, FOLD};
 use super::lanes::Lane;
+use super::unsafe_parts::{FourierTarget, OrderCoefficientSums, OrderFourierColumns};
 use crate::coeffs::packed_index;
 use crate::sht::legendre::recursion::{a_lm, b_lm, f_lm, sectoral, NEGLIGIBLE_LOG2};
 use crate::sht::legendre::xnumber::{BIG_INV, BIG_SQRT};
 
-/// A raw pointer shared by the per-order tasks, each of which writes a disjoint set of
-/// elements (its own order's Fourier columns or coefficients).
-#[derive(Clone, Copy)]
-pub struct SharedMut(pub *mut f64);
-unsafe impl Send for SharedMut {}
-unsafe impl Sync for SharedMut {}
-
 /// Per-thread scratch for one order (allocated once per thread, reused for every order).
-pub struct OrderScratch {
-    pub a: Vec<f64>,
-    pub b: Vec<f64>,
-    pub f: Vec<f64>,
-    pub c: Vec<f64>,
-    pub s: Vec<f64>,
-    pub events: Vec<Event>,
-    pub acc_re: Vec<f64>,
-    pub acc_im: Vec<f64>,
+pub(crate) struct OrderScratch {
+    a: Vec<f64>,
+    b: Vec<f64>,
+    f: Vec<f64>,
+    c: Vec<f64>,
+    s: Vec<f64>,
+    events: Vec<Event>,
+    acc_re: Vec<f64>,
+    acc_im: Vec<f64>,
 }
 
 impl OrderScratch {
@@ -162,8 +158,8 @@ fn block_events<const W: usize>(
     nodes
 }
 
-/// What a synthesis pass reads and where it writes.
-pub struct SynthJob<'a> {
+/// What a synthesis pass reads (it writes through [`OrderFourierColumns`]).
+pub(crate) struct SynthJob<'a> {
     pub lmax: usize,
     pub lanes: &'a [Lane],
     pub sectoral_factors: &'a [f64],
@@ -172,36 +168,37 @@ pub struct SynthJob<'a> {
     pub s: &'a [f64],
     /// e^{i m λ_0} per order.
     pub rotation: &'a [Complex64],
-    pub nlon: usize,
-    /// Value grid (or ∂/∂θ grid for gradients): row-major nlat × nlon, Fourier columns packed
-    /// as [Re X_0, Re X_1, Im X_1, Re X_2, ...].
-    pub out0: SharedMut,
-    /// (1/sin θ) ∂/∂λ grid (gradients only).
-    pub out1: SharedMut,
 }
 
+/// Σ_l (C_lm cos mλ + S_lm sin mλ) f_l on a ring as its packed Fourier entry: for m = 0 the
+/// value `a` itself, else ½ (a − i b) e^{i m λ_0}.
 #[inline(always)]
-fn put_fourier(job: &SynthJob, out: SharedMut, row: usize, m: usize, a: f64, b: f64) {
-    let base = row * job.nlon;
-    // SAFETY: rows < nlat and 2m ≤ 2·lmax < nlon; each order writes only its own columns.
-    unsafe {
-        if m == 0 {
-            *out.0.add(base) = a;
-        } else {
-            let x = Complex64::new(0.5 * a, -0.5 * b) * job.rotation[m];
-            *out.0.add(base + 2 * m - 1) = x.re;
-            *out.0.add(base + 2 * m) = x.im;
-        }
-    }
-}
-
-/// Synthesis of order m into the packed Fourier columns of every ring.
-#[inline(always)]
-pub fn synth_order<const W: usize, const FMA: bool, const GRAD: bool>(
+fn put_fourier(
     job: &SynthJob,
-    m: usize,
-    sc: &mut OrderScratch,
+    out: &mut OrderFourierColumns,
+    target: FourierTarget,
+    row: usize,
+    a: f64,
+    b: f64,
 ) {
+    let m = out.order();
+    let x = if m == 0 {
+        Complex64::new(a, 0.0)
+    } else {
+        Complex64::new(0.5 * a, -0.5 * b) * job.rotation[m]
+    };
+    out.put(target, row, x);
+}
+
+/// Synthesis of the writer's order m into the packed Fourier columns of every ring
+/// (`FourierTarget::First` holds values, or ∂/∂θ for gradients; `Second` (1/sin θ) ∂/∂λ).
+#[inline(always)]
+pub(crate) fn synth_order<const W: usize, const FMA: bool, const GRAD: bool>(
+    job: &SynthJob,
+    sc: &mut OrderScratch,
+    out: &mut OrderFourierColumns,
+) {
+    let m = out.order();
     let lmax = job.lmax;
     sc.fill(m, lmax, GRAD);
     for l in m..=lmax {
@@ -228,9 +225,9 @@ pub fn synth_order<const W: usize, const FMA: bool, const GRAD: bool>(
         for (i, lane) in block.iter().enumerate() {
             let (ce, co, se, so) = (sums.c[0][i], sums.c[1][i], sums.s[0][i], sums.s[1][i]);
             if !GRAD {
-                put_fourier(job, job.out0, lane.north, m, ce + co, se + so);
+                put_fourier(job, out, FourierTarget::First, lane.north, ce + co, se + so);
                 if let Some(south) = lane.south {
-                    put_fourier(job, job.out0, south, m, ce - co, se - so);
+                    put_fourier(job, out, FourierTarget::First, south, ce - co, se - so);
                 }
             } else {
                 let inv_u = 1.0 / lane.u;
@@ -238,17 +235,17 @@ pub fn synth_order<const W: usize, const FMA: bool, const GRAD: bool>(
                     (sums.dc[0][i], sums.dc[1][i], sums.ds[0][i], sums.ds[1][i]);
                 put_fourier(
                     job,
-                    job.out0,
+                    out,
+                    FourierTarget::First,
                     lane.north,
-                    m,
                     (de + do_) * inv_u,
                     (dse + dso) * inv_u,
                 );
                 put_fourier(
                     job,
-                    job.out1,
+                    out,
+                    FourierTarget::Second,
                     lane.north,
-                    m,
                     mf * (se + so) * inv_u,
                     -mf * (ce + co) * inv_u,
                 );
@@ -256,17 +253,17 @@ pub fn synth_order<const W: usize, const FMA: bool, const GRAD: bool>(
                     // d/dθ of a mirrored function changes sign: P̄'(π−θ) = −(−1)^{l−m} P̄'(θ)
                     put_fourier(
                         job,
-                        job.out0,
+                        out,
+                        FourierTarget::First,
                         south,
-                        m,
                         -(de - do_) * inv_u,
                         -(dse - dso) * inv_u,
                     );
                     put_fourier(
                         job,
-                        job.out1,
+                        out,
+                        FourierTarget::Second,
                         south,
-                        m,
                         mf * (se - so) * inv_u,
                         -mf * (ce - co) * inv_u,
                     );
@@ -276,8 +273,8 @@ pub fn synth_order<const W: usize, const FMA: bool, const GRAD: bool>(
     }
 }
 
-/// What an analysis pass reads and where it adds its results.
-pub struct AnalysisJob<'a> {
+/// What an analysis pass reads (it adds its results through [`OrderCoefficientSums`]).
+pub(crate) struct AnalysisJob<'a> {
     pub lmax: usize,
     /// The lanes of this chunk of rings.
     pub lanes: &'a [Lane],
@@ -285,18 +282,16 @@ pub struct AnalysisJob<'a> {
     /// Weighted, rotated ring spectra H_m: lane k's north ring at row 2k, its mirror at 2k + 1,
     /// each row `lmax + 1` long.
     pub spectra: &'a [Complex64],
-    /// Packed `geodesy` C and S being accumulated.
-    pub c: SharedMut,
-    pub s: SharedMut,
 }
 
-/// Analysis of order m over one chunk of rings; adds into the packed coefficients.
+/// Analysis of the writer's order m over one chunk of rings; adds into the packed coefficients.
 #[inline(always)]
-pub fn analysis_order<const W: usize, const FMA: bool>(
+pub(crate) fn analysis_order<const W: usize, const FMA: bool>(
     job: &AnalysisJob,
-    m: usize,
     sc: &mut OrderScratch,
+    out: &mut OrderCoefficientSums,
 ) {
+    let m = out.order();
     let lmax = job.lmax;
     let stride = lmax + 1;
     sc.fill(m, lmax, false);
@@ -348,14 +343,8 @@ pub fn analysis_order<const W: usize, const FMA: bool>(
     for l in m..=lmax {
         let re: f64 = sc.acc_re[l * FOLD..(l + 1) * FOLD].iter().sum();
         let im: f64 = sc.acc_im[l * FOLD..(l + 1) * FOLD].iter().sum();
-        let i = packed_index(l, m);
-        // SAFETY: index (l, m) belongs to this order only; chunks run one after another.
-        unsafe {
-            *job.c.0.add(i) += re;
-            if m > 0 {
-                *job.s.0.add(i) -= im;
-            }
-        }
+        // C_lm − i S_lm = Σ P̄_lm H_m; S_l0 stays zero
+        out.add(l, re, if m > 0 { -im } else { 0.0 });
     }
 }
 

@@ -1,4 +1,4 @@
-//! Associated Legendre functions in every normalisation of CONVENTIONS.md §2, with the
+//! Associated Legendre functions in every normalisation of docs/conventions.md §2, with the
 //! Condon–Shortley phase as a separate switch.
 //!
 //! All values derive from the fully normalised P̄_lm (`geodesy`) through
@@ -9,7 +9,7 @@
 
 use crate::coeffs::{packed_index, packed_len, Normalization};
 
-use super::column::{column, column_with_derivative, derivative_from_neighbours};
+use super::column::{column_at_colatitude, column_with_derivative, derivative_from_neighbours};
 
 /// Multiplies a `geodesy` value by N/N̄ and the phase, in logarithms where the factor is large.
 #[inline]
@@ -48,7 +48,7 @@ pub fn associated(
 ) -> f64 {
     assert!(m <= l, "order m = {m} exceeds degree l = {l}");
     let mut col = vec![0.0; l - m + 1];
-    column(m, l, theta_rad.cos(), theta_rad.sin().abs(), &mut col);
+    column_at_colatitude(m, l, theta_rad, &mut col);
     rescale(col[l - m], l, m, norm, condon_shortley)
 }
 
@@ -93,12 +93,11 @@ pub fn associated_all(
     norm: Normalization,
     condon_shortley: bool,
 ) -> (Vec<f64>, Vec<f64>) {
-    let (t, u) = (theta_rad.cos(), theta_rad.sin().abs());
     let mut values = vec![0.0; packed_len(lmax)];
     let mut derivs = vec![0.0; packed_len(lmax)];
     let col = |m: usize| {
         let mut c = vec![0.0; lmax + 1 - m];
-        column(m, lmax, t, u, &mut c);
+        column_at_colatitude(m, lmax, theta_rad, &mut c);
         c
     };
     let mut below: Vec<f64> = Vec::new();

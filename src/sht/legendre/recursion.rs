@@ -169,6 +169,19 @@ pub fn column_start(
     None
 }
 
+/// One step of the column recursion with cos θ = `t` + `t_lo` (see `legendre::colatitude`):
+/// P̄_lm = a_lm (t + t_lo) P̄_{l−1,m} − b_lm P̄_{l−2,m} from `p` = P̄_{l−1,m}, `prev` = P̄_{l−2,m}.
+///
+/// Evaluated as fma(a t_lo, p, fma(a t, p, −b prev)): the products a·t and a·t_lo round once,
+/// each fused step once more. `mul_add` is exact on every target, so this scalar step is at
+/// least as accurate as every kernel path (which use these very operations on FMA hardware and
+/// plain multiply–add elsewhere); it is the yardstick the kernels are tested against.
+#[inline]
+pub fn column_step(a: f64, b: f64, t: f64, t_lo: f64, p: f64, prev: f64) -> f64 {
+    let main = (a * t).mul_add(p, -(b * prev));
+    (a * t_lo).mul_add(p, main)
+}
+
 /// Fills `a[l]`, `b[l]` for l = m+1..=lmax (slices of length ≥ lmax + 1).
 pub fn fill_coefficients(m: usize, lmax: usize, a: &mut [f64], b: &mut [f64]) {
     for l in (m + 1)..=lmax {

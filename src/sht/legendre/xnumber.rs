@@ -7,13 +7,13 @@
 //! near the poles, where sin^m θ underflows a double long before the column becomes large again.
 
 /// B = 2^960.
-pub const BIG: f64 = f64::from_bits(((960 + 1023) as u64) << 52);
+pub const BIG: f64 = 9.7453140114e+288;
 /// B^-1 = 2^-960.
-pub const BIG_INV: f64 = f64::from_bits(((1023 - 960) as u64) << 52);
+pub const BIG_INV: f64 = 1.0261342003245941e-289;
 /// B^½ = 2^480.
-pub const BIG_SQRT: f64 = f64::from_bits(((480 + 1023) as u64) << 52);
+pub const BIG_SQRT: f64 = 3.1217485503159922e+144;
 /// B^-½ = 2^-480.
-pub const BIG_SQRT_INV: f64 = f64::from_bits(((1023 - 480) as u64) << 52);
+pub const BIG_SQRT_INV: f64 = 3.2033329522929615e-145;
 
 /// `mant · 2^(960 k)`.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -50,8 +50,9 @@ impl XNumber {
         self
     }
 
-    /// Product of two X-numbers.
+    /// Product of two X-numbers (a named method rather than `*`: it renormalises).
     #[inline]
+    #[allow(clippy::should_implement_trait)]
     pub fn mul(self, other: XNumber) -> XNumber {
         XNumber {
             mant: self.mant * other.mant,
@@ -112,6 +113,11 @@ mod tests {
     fn constants_are_powers_of_two() {
         // common practice: 2^960 · 2^-960 = 1 exactly
         assert_eq!(BIG * BIG_INV, 1.0);
+        // the decimal literals are exactly the powers of two (biased exponent, zero mantissa)
+        assert_eq!(BIG.to_bits(), ((960 + 1023) as u64) << 52);
+        assert_eq!(BIG_INV.to_bits(), ((1023 - 960) as u64) << 52);
+        assert_eq!(BIG_SQRT.to_bits(), ((480 + 1023) as u64) << 52);
+        assert_eq!(BIG_SQRT_INV.to_bits(), ((1023 - 480) as u64) << 52);
         assert_eq!(BIG_SQRT * BIG_SQRT, BIG);
         assert_eq!(BIG_SQRT_INV * BIG_SQRT_INV, BIG_INV);
     }

@@ -1,0 +1,417 @@
+//! The kernel layer's only `unsafe` code (every other module of `sht` denies it), with the
+//! argument for each part beside it:
+//!
+//! 1. [`KernelSet`]: the table of kernel functions a plan uses for every order, chosen once
+//!    when the plan is built. The AVX2 and AVX-512 variants are `#[target_feature]` functions,
+//!    which may only be called on a CPU that has those features.
+//! 2. [`FourierGrids`] and [`CoefficientSums`]: the shared outputs of the per-order tasks.
+//!    Every order m writes its own disjoint part of one array (two Fourier columns of every
+//!    ring, or the coefficients of order m), which safe slices cannot express because the
+//!    parts interleave in memory. Each output hands out one writer per order, inside a
+//!    parallel loop it runs itself over distinct orders, so no two writers can touch the same
+//!    element.
+
+use std::marker::PhantomData;
+use std::ops::Range;
+
+use rayon::prelude::*;
+use realfft::num_complex::Complex64;
+
+use super::order::{analysis_order, synth_order, AnalysisJob, OrderScratch, SynthJob};
+use super::path::{KernelPath, PORTABLE_FUSED};
+use crate::coeffs::{packed_index, packed_len};
+
+type SynthFn = unsafe fn(&SynthJob, &mut OrderScratch, &mut OrderFourierColumns);
+type AnalysisFn = unsafe fn(&AnalysisJob, &mut OrderScratch, &mut OrderCoefficientSums);
+
+/// The kernel functions of one path: values, gradients and analysis, each for one order.
+///
+/// Safety: a `KernelSet` is only made by [`KernelSet::for_path`], which returns `None` unless
+/// `path.is_supported()` (runtime CPU detection), and each table entry is the variant compiled
+/// for exactly that path's target features. Calling an entry is therefore sound on this CPU.
+/// The fields are private, so no other table can be assembled.
+#[derive(Clone, Copy)]
+pub(crate) struct KernelSet {
+    path: KernelPath,
+    values: SynthFn,
+    gradient: SynthFn,
+    analysis: AnalysisFn,
+}
+
+impl std::fmt::Debug for KernelSet {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("KernelSet")
+            .field("path", &self.path)
+            .finish()
+    }
+}
+
+impl KernelSet {
+    /// The kernels of `path`, or `None` when this CPU cannot run them.
+    pub(crate) fn for_path(path: KernelPath) -> Option<KernelSet> {
+        if !path.is_supported() {
+            return None;
+        }
+        let set = match path {
+            KernelPath::Portable => KernelSet {
+                path,
+                values: synth_portable::<false>,
+                gradient: synth_portable::<true>,
+                analysis: analysis_portable,
+            },
+            #[cfg(target_arch = "x86_64")]
+            KernelPath::Avx2Fma => KernelSet {
+                path,
+                values: synth_avx2::<false>,
+                gradient: synth_avx2::<true>,
+                analysis: analysis_avx2,
+            },
+            #[cfg(target_arch = "x86_64")]
+            KernelPath::Avx512 => KernelSet {
+                path,
+                values: synth_avx512::<false>,
+                gradient: synth_avx512::<true>,
+                analysis: analysis_avx512,
+            },
+            #[cfg(not(target_arch = "x86_64"))]
+            KernelPath::Avx2Fma | KernelPath::Avx512 => return None,
+        };
+        Some(set)
+    }
+
+    /// The fastest kernels this CPU runs.
+    pub(crate) fn detect() -> KernelSet {
+        KernelSet::for_path(KernelPath::detect()).expect("the detected path is supported")
+    }
+
+    pub(crate) fn path(&self) -> KernelPath {
+        self.path
+    }
+
+    /// Synthesis of one order (values, or ∂/∂θ and (1/sin θ) ∂/∂λ when `gradient`).
+    pub(crate) fn synth(
+        &self,
+        gradient: bool,
+        job: &SynthJob,
+        sc: &mut OrderScratch,
+        out: &mut OrderFourierColumns,
+    ) {
+        let f = if gradient { self.gradient } else { self.values };
+        // SAFETY: see the type's doc: the table belongs to a path this CPU supports.
+        unsafe { f(job, sc, out) }
+    }
+
+    /// Analysis of one order over one chunk of rings.
+    pub(crate) fn analyse(
+        &self,
+        job: &AnalysisJob,
+        sc: &mut OrderScratch,
+        out: &mut OrderCoefficientSums,
+    ) {
+        // SAFETY: as in `synth`.
+        unsafe { (self.analysis)(job, sc, out) }
+    }
+}
+
+// The variants. `synth_order` and `analysis_order` are `#[inline(always)]`, so each wrapper
+// compiles its own copy with the wrapper's target features.
+
+fn synth_portable<const GRAD: bool>(
+    job: &SynthJob,
+    sc: &mut OrderScratch,
+    out: &mut OrderFourierColumns,
+) {
+    synth_order::<8, PORTABLE_FUSED, GRAD>(job, sc, out)
+}
+
+fn analysis_portable(job: &AnalysisJob, sc: &mut OrderScratch, out: &mut OrderCoefficientSums) {
+    analysis_order::<8, PORTABLE_FUSED>(job, sc, out)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+unsafe fn synth_avx2<const GRAD: bool>(
+    job: &SynthJob,
+    sc: &mut OrderScratch,
+    out: &mut OrderFourierColumns,
+) {
+    synth_order::<8, true, GRAD>(job, sc, out)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx2,fma")]
+unsafe fn synth_avx512<const GRAD: bool>(
+    job: &SynthJob,
+    sc: &mut OrderScratch,
+    out: &mut OrderFourierColumns,
+) {
+    synth_order::<16, true, GRAD>(job, sc, out)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+unsafe fn analysis_avx2(job: &AnalysisJob, sc: &mut OrderScratch, out: &mut OrderCoefficientSums) {
+    analysis_order::<8, true>(job, sc, out)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx2,fma")]
+unsafe fn analysis_avx512(
+    job: &AnalysisJob,
+    sc: &mut OrderScratch,
+    out: &mut OrderCoefficientSums,
+) {
+    analysis_order::<16, true>(job, sc, out)
+}
+
+/// Which of the (up to two) grids a Fourier entry goes to.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum FourierTarget {
+    /// Values, or ∂/∂θ in a gradient synthesis.
+    First,
+    /// (1/sin θ) ∂/∂λ in a gradient synthesis.
+    Second,
+}
+
+/// One or two row-major nlat × nlon grids whose rows hold packed half-spectra
+/// [Re X_0, Re X_1, Im X_1, Re X_2, Im X_2, ...], filled order by order in parallel.
+pub(crate) struct FourierGrids<'g> {
+    first: *mut f64,
+    /// Null when there is no second grid.
+    second: *mut f64,
+    nlat: usize,
+    nlon: usize,
+    lmax: usize,
+    _grids: PhantomData<&'g mut [f64]>,
+}
+
+// SAFETY: the grids are borrowed mutably for 'g, so nothing outside reads or writes them while
+// a `FourierGrids` exists. Threads share a `&FourierGrids` only inside `for_each_order`, where
+// each thread writes through an `OrderFourierColumns` of its own order m, and the entries of
+// different orders are different elements: column 0 for m = 0, columns 2m − 1 and 2m for
+// m ≥ 1, with 2m ≤ 2·lmax < nlon (checked in `new`). Nothing reads through the pointers.
+unsafe impl Sync for FourierGrids<'_> {}
+
+impl<'g> FourierGrids<'g> {
+    /// Takes the grids (each nlat · nlon long, row-major) for a synthesis to degree `lmax`.
+    /// Panics on a length mismatch or when nlon < 2·lmax + 1 (the plan refuses those earlier).
+    pub(crate) fn new(
+        first: &'g mut [f64],
+        second: Option<&'g mut [f64]>,
+        nlat: usize,
+        nlon: usize,
+        lmax: usize,
+    ) -> Self {
+        assert!(2 * lmax < nlon, "nlon {nlon} cannot hold degree {lmax}");
+        assert_eq!(first.len(), nlat * nlon, "grid size");
+        let second = match second {
+            Some(g) => {
+                assert_eq!(g.len(), nlat * nlon, "grid size");
+                g.as_mut_ptr()
+            }
+            None => std::ptr::null_mut(),
+        };
+        FourierGrids {
+            first: first.as_mut_ptr(),
+            second,
+            nlat,
+            nlon,
+            lmax,
+            _grids: PhantomData,
+        }
+    }
+
+    /// Runs `body` once for every order in `orders` (≤ lmax), in parallel, one task per order,
+    /// each with a writer to that order's columns and a per-thread state from `init`.
+    pub(crate) fn for_each_order<S, I, F>(&mut self, orders: Range<usize>, init: I, body: F)
+    where
+        I: Fn() -> S + Sync + Send,
+        F: Fn(&mut S, &mut OrderFourierColumns) + Sync + Send,
+    {
+        assert!(orders.end <= self.lmax + 1, "order beyond lmax");
+        let grids: &FourierGrids = self;
+        orders
+            .into_par_iter()
+            .with_max_len(1)
+            .for_each_init(init, |state, m| {
+                // the only place a writer is made: one per order of a range, so never two
+                // for the same m at once
+                let mut out = OrderFourierColumns { grids, m };
+                body(state, &mut out);
+            });
+    }
+}
+
+/// Writes the Fourier entries of one order m. Not `Clone`: one writer per order exists at a time.
+pub(crate) struct OrderFourierColumns<'a, 'g> {
+    grids: &'a FourierGrids<'g>,
+    m: usize,
+}
+
+impl OrderFourierColumns<'_, '_> {
+    pub(crate) fn order(&self) -> usize {
+        self.m
+    }
+
+    /// Sets the entry of this order on `row` of `target` to `x` (only its real part for m = 0).
+    #[inline(always)]
+    pub(crate) fn put(&mut self, target: FourierTarget, row: usize, x: Complex64) {
+        let g = self.grids;
+        assert!(row < g.nlat, "row {row} outside the grid");
+        let base = match target {
+            FourierTarget::First => g.first,
+            FourierTarget::Second => {
+                assert!(!g.second.is_null(), "no second grid");
+                g.second
+            }
+        };
+        let at = row * g.nlon;
+        // SAFETY: row < nlat and 2m < nlon, so the elements lie inside the grid; they belong
+        // to order m alone (see the `Sync` impl of `FourierGrids`).
+        unsafe {
+            if self.m == 0 {
+                *base.add(at) = x.re;
+            } else {
+                *base.add(at + 2 * self.m - 1) = x.re;
+                *base.add(at + 2 * self.m) = x.im;
+            }
+        }
+    }
+}
+
+/// Packed `geodesy` C and S (index `coeffs::packed_index(l, m)`), accumulated order by order in
+/// parallel.
+pub(crate) struct CoefficientSums<'c> {
+    c: *mut f64,
+    s: *mut f64,
+    lmax: usize,
+    _coefficients: PhantomData<&'c mut [f64]>,
+}
+
+// SAFETY: as for `FourierGrids`: both arrays are borrowed mutably for 'c, and inside
+// `for_each_order` each thread reads and writes only the elements packed_index(l, m),
+// l = m..=lmax, of its own order m; packed_index is one-to-one on 0 ≤ m ≤ l, so different
+// orders never share an element.
+unsafe impl Sync for CoefficientSums<'_> {}
+
+impl<'c> CoefficientSums<'c> {
+    /// Takes packed C and S of degree `lmax` (each `packed_len(lmax)` long).
+    pub(crate) fn new(c: &'c mut [f64], s: &'c mut [f64], lmax: usize) -> Self {
+        assert_eq!(c.len(), packed_len(lmax), "packed C length");
+        assert_eq!(s.len(), packed_len(lmax), "packed S length");
+        CoefficientSums {
+            c: c.as_mut_ptr(),
+            s: s.as_mut_ptr(),
+            lmax,
+            _coefficients: PhantomData,
+        }
+    }
+
+    /// Runs `body` once for every order 0..=lmax, in parallel, one task per order.
+    pub(crate) fn for_each_order<S, I, F>(&mut self, init: I, body: F)
+    where
+        I: Fn() -> S + Sync + Send,
+        F: Fn(&mut S, &mut OrderCoefficientSums) + Sync + Send,
+    {
+        let sums: &CoefficientSums = self;
+        (0..self.lmax + 1)
+            .into_par_iter()
+            .with_max_len(1)
+            .for_each_init(init, |state, m| {
+                let mut out = OrderCoefficientSums { sums, m };
+                body(state, &mut out);
+            });
+    }
+}
+
+/// Adds into the coefficients of one order m. Not `Clone`, as [`OrderFourierColumns`].
+pub(crate) struct OrderCoefficientSums<'a, 'c> {
+    sums: &'a CoefficientSums<'c>,
+    m: usize,
+}
+
+impl OrderCoefficientSums<'_, '_> {
+    pub(crate) fn order(&self) -> usize {
+        self.m
+    }
+
+    /// C_lm += `dc`, S_lm += `ds` for this order m and degree `l` (m ≤ l ≤ lmax).
+    #[inline(always)]
+    pub(crate) fn add(&mut self, l: usize, dc: f64, ds: f64) {
+        assert!(
+            self.m <= l && l <= self.sums.lmax,
+            "degree {l} outside the order's column"
+        );
+        let i = packed_index(l, self.m);
+        // SAFETY: i < packed_len(lmax) since l ≤ lmax; the element belongs to order m alone
+        // (see the `Sync` impl of `CoefficientSums`).
+        unsafe {
+            *self.sums.c.add(i) += dc;
+            *self.sums.s.add(i) += ds;
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn every_order_writes_its_own_columns() {
+        let (nlat, nlon, lmax) = (3, 9, 4);
+        let mut a = vec![f64::NAN; nlat * nlon];
+        let mut b = vec![f64::NAN; nlat * nlon];
+        let mut grids = FourierGrids::new(&mut a, Some(&mut b), nlat, nlon, lmax);
+        grids.for_each_order(
+            0..lmax + 1,
+            || (),
+            |_, out| {
+                let m = out.order() as f64;
+                for row in 0..nlat {
+                    out.put(FourierTarget::First, row, Complex64::new(m, -m));
+                    out.put(FourierTarget::Second, row, Complex64::new(10.0 + m, 0.5));
+                }
+            },
+        );
+        let want_a = [0.0, 1.0, -1.0, 2.0, -2.0, 3.0, -3.0, 4.0, -4.0];
+        for row in 0..nlat {
+            assert_eq!(&a[row * nlon..(row + 1) * nlon], &want_a);
+            assert_eq!(b[row * nlon], 10.0);
+            assert_eq!(b[row * nlon + 7], 14.0);
+            assert_eq!(b[row * nlon + 8], 0.5);
+        }
+    }
+
+    #[test]
+    fn every_order_adds_into_its_own_coefficients() {
+        let lmax = 5;
+        let mut c = vec![0.0; packed_len(lmax)];
+        let mut s = vec![0.0; packed_len(lmax)];
+        let mut sums = CoefficientSums::new(&mut c, &mut s, lmax);
+        for _ in 0..2 {
+            sums.for_each_order(
+                || (),
+                |_, out| {
+                    for l in out.order()..=lmax {
+                        out.add(l, l as f64, out.order() as f64);
+                    }
+                },
+            );
+        }
+        for l in 0..=lmax {
+            for m in 0..=l {
+                assert_eq!(c[packed_index(l, m)], 2.0 * l as f64);
+                assert_eq!(s[packed_index(l, m)], 2.0 * m as f64);
+            }
+        }
+    }
+
+    #[test]
+    #[should_panic(expected = "outside the order's column")]
+    fn a_degree_below_the_order_is_refused() {
+        let mut c = vec![0.0; packed_len(3)];
+        let mut s = vec![0.0; packed_len(3)];
+        CoefficientSums::new(&mut c, &mut s, 3)
+            .for_each_order(|| (), |_, out| out.add(0, 1.0, 1.0));
+    }
+}
