@@ -382,7 +382,7 @@ mod tests {
     #[test]
     fn reads_keyword_column_commas_and_missing_pairs() {
         let text = "# demo\nnormalization = schmidt\nreference_radius_m = 6371.2e3\nlmax = 2\n\
-                    gh, 1, 0, -29000.5, 0\ngh 1 1 -1500 4800.25  # trailing comment\n2 2 1.5D+02 -3.0d1\n";
+                    coef, 1, 0, -29000.5, 0\ncoef 1 1 -1500 4800.25  # trailing comment\n2 2 1.5D+02 -3.0d1\n";
         let (c, r) = parse_model_text(text, p()).unwrap();
         assert_eq!(c.normalization, Normalization::Schmidt);
         assert!(!c.condon_shortley);
