@@ -235,6 +235,19 @@ pub fn merge_duplicates(set: &mut PointSet, report: &mut PointReadReport) {
 mod tests {
     use super::*;
 
+    /// Validates in-memory records with the default options; sigma is present if the first has one.
+    fn validate_all(recs: Vec<RawRecord>) -> (PointSet, PointReadReport) {
+        let sigma = recs[0].sigma.is_some();
+        validate_records(
+            Path::new("x.csv"),
+            "line",
+            RecordColumns { value: true, sigma },
+            recs.into_iter().map(Ok),
+            &PointReadOptions::default(),
+        )
+        .unwrap()
+    }
+
     fn rec(line: usize, lat: f64, lon: f64, v: f64, s: Option<f64>) -> RawRecord {
         RawRecord {
             line,
@@ -253,17 +266,7 @@ mod tests {
             rec(2, 10.0, -170.0, 1.0, Some(1.0)),
             rec(3, 10.0, 190.0, 4.0, Some(2.0)),
         ];
-        let (set, report) = validate_records(
-            Path::new("x.csv"),
-            "line",
-            RecordColumns {
-                value: true,
-                sigma: recs[0].sigma.is_some(),
-            },
-            recs.into_iter().map(Ok),
-            &PointReadOptions::default(),
-        )
-        .unwrap();
+        let (set, report) = validate_all(recs);
         assert_eq!(set.len(), 1);
         assert!((set.value[0] - 1.6).abs() < 1e-15);
         assert!((set.sigma.as_ref().unwrap()[0] - 1.0 / 1.25f64.sqrt()).abs() < 1e-15);
@@ -274,17 +277,7 @@ mod tests {
     #[test]
     fn pole_longitudes_coincide() {
         let recs = vec![rec(2, 90.0, 0.0, 1.0, None), rec(3, 90.0, 123.0, 3.0, None)];
-        let (set, report) = validate_records(
-            Path::new("x.csv"),
-            "line",
-            RecordColumns {
-                value: true,
-                sigma: recs[0].sigma.is_some(),
-            },
-            recs.into_iter().map(Ok),
-            &PointReadOptions::default(),
-        )
-        .unwrap();
+        let (set, report) = validate_all(recs);
         assert_eq!(set.len(), 1);
         assert_eq!(set.value[0], 2.0);
         assert_eq!(report.duplicates_merged, 1);
