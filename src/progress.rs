@@ -2,7 +2,7 @@
 //! (terminal bars in the command line, nothing in tests or from Python).
 //!
 //! The library never draws anything itself: it only says which stage it is in and how far that
-//! stage has come. Worker threads call [`Progress::advance`] concurrently, so implementations
+//! stage has come. Clearing a display is the business of the front end that made it. Worker threads call [`Progress::advance`] concurrently, so implementations
 //! must be `Sync` and cheap (an atomic add or a rate-limited redraw).
 
 /// Receiver of progress reports. Every method has an empty default, so an implementation picks
@@ -17,9 +17,6 @@ pub trait Progress: Sync {
 
     /// `units` more units of the current stage are done.
     fn advance(&self, _units: u64) {}
-
-    /// The whole task has ended (successfully or not): clear any display.
-    fn finish(&self) {}
 }
 
 /// Reports nothing: for tests, library callers that do not display progress, and quiet runs.
@@ -57,6 +54,5 @@ mod tests {
         assert_eq!(counter.0.load(Ordering::Relaxed), 4000);
         // the silent receiver accepts every call (nothing to observe but that it compiles and runs)
         Silent.stage("x", 3);
-        Silent.finish();
     }
 }

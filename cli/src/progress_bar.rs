@@ -26,6 +26,13 @@ impl TerminalProgress {
         }
         TerminalProgress { bar: Some(bar) }
     }
+
+    /// The command is over (successfully or not): clear the bar.
+    pub fn finish(&self) {
+        if let Some(bar) = &self.bar {
+            bar.finish_and_clear();
+        }
+    }
 }
 
 impl kugel::progress::Progress for TerminalProgress {
@@ -47,12 +54,6 @@ impl kugel::progress::Progress for TerminalProgress {
     fn advance(&self, units: u64) {
         if let Some(bar) = &self.bar {
             bar.inc(units);
-        }
-    }
-
-    fn finish(&self) {
-        if let Some(bar) = &self.bar {
-            bar.finish_and_clear();
         }
     }
 }

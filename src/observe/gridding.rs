@@ -203,7 +203,6 @@ pub fn grid_points_with_progress(
         points,
         progress,
     )?;
-    progress.finish();
     let max_nearest_km = nearest_km.iter().cloned().fold(0.0, f64::max);
     Ok(GriddedField {
         report: GriddingReport {

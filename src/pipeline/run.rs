@@ -199,7 +199,6 @@ fn run_staged(
             }
         }
     }
-    progress.finish();
     if job.config.output.wants("html") {
         let html =
             super::report::build(job, &provenance, &report, &rows, &staging.files, &cautions);

@@ -9,7 +9,6 @@ use crate::progress_bar::TerminalProgress;
 use kugel::io::model::write_model;
 use kugel::io::provenance::Provenance;
 use kugel::observe::fit::{fit_with_progress, FitOptions, Regularization};
-use kugel::progress::Progress;
 
 #[derive(Debug, clap::Args)]
 pub struct Args {

@@ -14,7 +14,6 @@ use kugel::observe::gridding::{
     default_radius_km, grid_points_with_progress, GriddingMethod, GriddingOptions,
 };
 use kugel::observe::spatial::SphereIndex;
-use kugel::progress::Progress;
 
 #[derive(Debug, clap::Args)]
 pub struct Args {

@@ -9,7 +9,6 @@ use crate::progress_bar::TerminalProgress;
 use kugel::pipeline::estimate::human_bytes;
 use kugel::pipeline::run::{run_job, RunOptions, RunSummary};
 use kugel::pipeline::Job;
-use kugel::progress::Progress;
 
 #[derive(Debug, clap::Args)]
 pub struct Args {

@@ -11,7 +11,6 @@ use kugel::field::synthesis::synthesize_on_grid_with_progress;
 use kugel::field::{cautions, Quantity, SynthesisRequest, TargetSurface};
 use kugel::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use kugel::io::provenance::Provenance;
-use kugel::progress::Progress;
 use kugel::report::raster::maps::{render_map_png, MapStyle};
 use kugel::sht::{GaussGrid, Grid};
 

@@ -201,7 +201,7 @@ pub fn fit_with_progress(
     let mut warnings = coverage_warnings(points, lmax, options.body_radius_m);
 
     let normals = assemble(points, &layout, progress);
-    progress.finish();
+    progress.stage("solving the normal equations", 0);
     let prior = options.regularization.prior(&layout);
     let lambda = match options.regularization {
         Regularization::None => 0.0,
