@@ -1,18 +1,14 @@
 //! The I/O commands end to end: `kugel convert`, `kugel analyze`, `kugel synthesize`.
 
 use std::path::Path;
-use std::process::Command;
 
 use kugel::coeffs::Normalization;
 use kugel::io::model::read_model;
 use netcdf_reader::NcFile;
 
-fn kugel(args: &[&str]) -> std::process::Output {
-    Command::new(env!("CARGO_BIN_EXE_kugel"))
-        .arg("--quiet")
-        .args(args)
-        .output()
-        .unwrap()
+/// The binary with `--quiet`, so that only results and errors are printed.
+fn run_kugel(args: &[&str]) -> std::process::Output {
+    crate::run_kugel(&[&["--quiet"], args].concat())
 }
 
 fn p(path: &Path) -> &str {
@@ -30,7 +26,7 @@ fn convert_round_trip_through_normalisations() {
     std::fs::write(&t, TABLE).unwrap();
     let nc = dir.path().join("m_schmidt.nc");
     let back = dir.path().join("back.txt");
-    let out = kugel(&["convert", p(&t), p(&nc), "--normalization", "schmidt"]);
+    let out = run_kugel(&["convert", p(&t), p(&nc), "--normalization", "schmidt"]);
     assert!(
         out.status.success(),
         "{}",
@@ -40,7 +36,7 @@ fn convert_round_trip_through_normalisations() {
     assert_eq!(s.normalization, Normalization::Schmidt);
     // geodesy → Schmidt multiplies by sqrt(2l+1) (docs/conventions.md §2)
     assert!((s.c(3, 2) - 0.125 * 7f64.sqrt()).abs() < 1e-15);
-    let out = kugel(&["convert", p(&nc), p(&back), "--normalization", "geodesy"]);
+    let out = run_kugel(&["convert", p(&nc), p(&back), "--normalization", "geodesy"]);
     assert!(out.status.success());
     let g = read_model(&back).unwrap();
     let orig = read_model(&t).unwrap();
@@ -61,7 +57,7 @@ fn convert_round_trip_through_normalisations() {
     // orthonormal with the phase on flips odd orders
     let o = dir.path().join("o.txt");
     assert!(
-        kugel(&["convert", p(&t), p(&o), "--normalization", "orthonormal"])
+        run_kugel(&["convert", p(&t), p(&o), "--normalization", "orthonormal"])
             .status
             .success()
     );
@@ -75,7 +71,7 @@ fn convert_bad_input_and_same_path() {
     let dir = tempfile::tempdir().unwrap();
     let t = dir.path().join("m.txt");
     std::fs::write(&t, TABLE).unwrap();
-    let out = kugel(&["convert", p(&t), p(&t)]);
+    let out = run_kugel(&["convert", p(&t), p(&t)]);
     assert_eq!(out.status.code(), Some(3));
     assert!(String::from_utf8_lossy(&out.stderr).contains("same file"));
     assert_eq!(
@@ -83,7 +79,7 @@ fn convert_bad_input_and_same_path() {
         TABLE,
         "input untouched"
     );
-    let out = kugel(&[
+    let out = run_kugel(&[
         "convert",
         p(&t),
         p(&dir.path().join("x.nc")),
@@ -94,7 +90,7 @@ fn convert_bad_input_and_same_path() {
     assert!(String::from_utf8_lossy(&out.stderr).contains("unknown normalization 'full'"));
     let bad = dir.path().join("bad.txt");
     std::fs::write(&bad, "0 0 1 0\n1 0 one 0\n").unwrap();
-    let out = kugel(&["convert", p(&bad), p(&dir.path().join("y.nc"))]);
+    let out = run_kugel(&["convert", p(&bad), p(&dir.path().join("y.nc"))]);
     let err = String::from_utf8_lossy(&out.stderr);
     assert_eq!(out.status.code(), Some(3));
     assert!(err.contains("bad.txt, line 2"), "{err}");
@@ -110,7 +106,7 @@ fn synthesize_then_analyze_recovers_the_model() {
     for (grid, lmax) in [("gauss", "4"), ("regular:5", "10")] {
         let map = dir.path().join(format!("map_{lmax}.nc"));
         let back = dir.path().join(format!("back_{lmax}.nc"));
-        let out = kugel(&[
+        let out = run_kugel(&[
             "synthesize",
             p(&t),
             "-o",
@@ -125,7 +121,7 @@ fn synthesize_then_analyze_recovers_the_model() {
             "{}",
             String::from_utf8_lossy(&out.stderr)
         );
-        let out = kugel(&["analyze", p(&map), "--lmax", lmax, "-o", p(&back)]);
+        let out = run_kugel(&["analyze", p(&map), "--lmax", lmax, "-o", p(&back)]);
         assert!(
             out.status.success(),
             "{}",
@@ -157,7 +153,7 @@ fn synthesize_regular_one_degree_shape_and_refusals() {
     let t = dir.path().join("m.txt");
     std::fs::write(&t, TABLE).unwrap();
     let map = dir.path().join("one.nc");
-    assert!(kugel(&[
+    assert!(run_kugel(&[
         "synthesize",
         p(&t),
         "-o",
@@ -171,7 +167,7 @@ fn synthesize_regular_one_degree_shape_and_refusals() {
     let f = NcFile::open(&map).unwrap();
     assert_eq!(f.variable("value").unwrap().shape(), vec![181, 360]);
     // asking the 1° grid for more than it can analyse states the limit
-    let out = kugel(&[
+    let out = run_kugel(&[
         "analyze",
         p(&map),
         "--lmax",
@@ -186,7 +182,7 @@ fn synthesize_regular_one_degree_shape_and_refusals() {
     // synthesis on a grid coarser than the band limit is exact at the nodes (the values are
     // computed on a denser longitude circle and sub-sampled), so it succeeds
     let coarse = dir.path().join("coarse.nc");
-    let out = kugel(&[
+    let out = run_kugel(&[
         "synthesize",
         p(&t),
         "-o",
@@ -208,7 +204,7 @@ fn synthesize_regular_one_degree_shape_and_refusals() {
         .filter(|e| e.file_name().to_string_lossy().contains("kugel-tmp"))
         .collect();
     assert!(leftovers.is_empty());
-    let out = kugel(&["synthesize", p(&t), "-o", p(&coarse), "--grid", "hexagons"]);
+    let out = run_kugel(&["synthesize", p(&t), "-o", p(&coarse), "--grid", "hexagons"]);
     assert_eq!(out.status.code(), Some(3));
     assert!(String::from_utf8_lossy(&out.stderr).contains("regular:STEP_DEG"));
 }

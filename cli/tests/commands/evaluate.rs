@@ -1,18 +1,11 @@
 //! `kugel evaluate` end to end: columns kept, quantities added, residuals, cautions, refusals.
 
+use crate::run_kugel;
 use std::path::Path;
-use std::process::Command;
 
 use kugel::io::model::write_model;
 use kugel::io::provenance::Provenance;
 use kugel::{Coefficients, Normalization};
-
-fn kugel(args: &[&str]) -> std::process::Output {
-    Command::new(env!("CARGO_BIN_EXE_kugel"))
-        .args(args)
-        .output()
-        .unwrap()
-}
 
 fn dipole_model(dir: &Path) -> std::path::PathBuf {
     let mut c = Coefficients::zeros(2, Normalization::Schmidt);
@@ -35,7 +28,7 @@ fn evaluate_keeps_columns_and_adds_quantities() {
     )
     .unwrap();
     let out = dir.path().join("out.csv");
-    let o = kugel(&[
+    let o = run_kugel(&[
         "evaluate",
         model.to_str().unwrap(),
         pts.to_str().unwrap(),
@@ -89,7 +82,7 @@ fn value_column_gets_a_residual_and_bad_input_is_named() {
     let pts = dir.path().join("pts.csv");
     std::fs::write(&pts, "lat,lon,value\n10,20,101.5\n-5,0,99\n").unwrap();
     let out = dir.path().join("out.csv");
-    let o = kugel(&[
+    let o = run_kugel(&[
         "evaluate",
         model.to_str().unwrap(),
         pts.to_str().unwrap(),
@@ -106,7 +99,7 @@ fn value_column_gets_a_residual_and_bad_input_is_named() {
 
     // A gravity quantity on a model without GM: refused, no output written.
     let out2 = dir.path().join("out2.csv");
-    let o = kugel(&[
+    let o = run_kugel(&[
         "evaluate",
         model.to_str().unwrap(),
         pts.to_str().unwrap(),
@@ -121,7 +114,7 @@ fn value_column_gets_a_residual_and_bad_input_is_named() {
 
     // A bad latitude names the file and line.
     std::fs::write(&pts, "lat,lon\n10,20\n95,0\n").unwrap();
-    let o = kugel(&[
+    let o = run_kugel(&[
         "evaluate",
         model.to_str().unwrap(),
         pts.to_str().unwrap(),
@@ -137,7 +130,7 @@ fn value_column_gets_a_residual_and_bad_input_is_named() {
 
     // height_m without --ellipsoid is ambiguous.
     std::fs::write(&pts, "lat,lon,height_m\n10,20,5\n").unwrap();
-    let o = kugel(&[
+    let o = run_kugel(&[
         "evaluate",
         model.to_str().unwrap(),
         pts.to_str().unwrap(),
@@ -157,7 +150,7 @@ fn geodetic_points_with_an_ellipsoid() {
     let pts = dir.path().join("geo.csv");
     std::fs::write(&pts, "lat,lon,height_m\n90,0,0\n0,45,1000\n").unwrap();
     let out = dir.path().join("geo_out.csv");
-    let o = kugel(&[
+    let o = run_kugel(&[
         "evaluate",
         model.to_str().unwrap(),
         pts.to_str().unwrap(),
@@ -180,7 +173,7 @@ fn geodetic_points_with_an_ellipsoid() {
     assert!(z[1].abs() < 1e-6);
     // altitude_km together with --ellipsoid is refused.
     std::fs::write(&pts, "lat,lon,altitude_km\n10,20,5\n").unwrap();
-    let o = kugel(&[
+    let o = run_kugel(&[
         "evaluate",
         model.to_str().unwrap(),
         pts.to_str().unwrap(),

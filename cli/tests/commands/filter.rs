@@ -1,8 +1,8 @@
 //! `kugel filter` end to end: reads a model, applies the chain and a continuation, writes the
 //! result with provenance; bad input fails with a clear message and leaves no output.
 
+use crate::run_kugel;
 use std::path::Path;
-use std::process::Command;
 
 use kugel::io::model::{read_model, write_model};
 use kugel::io::provenance::Provenance;
@@ -29,13 +29,6 @@ fn write_sample(path: &Path) -> Coefficients {
     read_model(path).unwrap()
 }
 
-fn kugel(args: &[&str]) -> std::process::Output {
-    Command::new(env!("CARGO_BIN_EXE_kugel"))
-        .args(args)
-        .output()
-        .unwrap()
-}
-
 #[test]
 fn filters_and_continues_a_model_file() {
     let dir = tempfile::tempdir().unwrap();
@@ -44,7 +37,7 @@ fn filters_and_continues_a_model_file() {
     let weights = dir.path().join("weights.csv");
     let original = write_sample(&input);
     let before = std::fs::read(&input).unwrap();
-    let out = kugel(&[
+    let out = run_kugel(&[
         "filter",
         input.to_str().unwrap(),
         "--filter",
@@ -120,14 +113,14 @@ fn refusals_are_clear_and_leave_no_file() {
             output.to_str().unwrap(),
         ];
         args.extend_from_slice(extra);
-        let out = kugel(&args);
+        let out = run_kugel(&args);
         let stderr = String::from_utf8_lossy(&out.stderr);
         assert!(!out.status.success());
         assert!(stderr.contains(want), "{extra:?}: {stderr}");
         assert!(!output.exists(), "{extra:?} left a file");
     }
     // regularised downward continuation goes through
-    let out = kugel(&[
+    let out = run_kugel(&[
         "filter",
         input.to_str().unwrap(),
         "-o",
@@ -146,7 +139,7 @@ fn refusals_are_clear_and_leave_no_file() {
     let biggest = got.c_packed().iter().fold(0.0f64, |a, v| a.max(v.abs()));
     assert!(biggest <= 100.0 / (2.0 * 1e-2) * 1.0000001);
     // the output cannot replace the input
-    let out = kugel(&[
+    let out = run_kugel(&[
         "filter",
         input.to_str().unwrap(),
         "-o",

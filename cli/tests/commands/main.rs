@@ -14,3 +14,11 @@ mod synthesize;
 /// Seeded synthetic models, shared with the library's spectral tests.
 #[path = "../../../tests/spectral/support/mod.rs"]
 mod support;
+
+/// Runs the built `kugel` binary with `args` and returns what it printed and its exit status.
+fn run_kugel(args: &[&str]) -> std::process::Output {
+    std::process::Command::new(env!("CARGO_BIN_EXE_kugel"))
+        .args(args)
+        .output()
+        .unwrap()
+}

@@ -2,8 +2,8 @@
 //! documented columns and units, the summary printed, bad input refused with a named cause and
 //! no partial output.
 
+use crate::run_kugel;
 use std::path::Path;
-use std::process::Command;
 
 use crate::support::{correlated_partner, random_model};
 use kugel::io::degree_table::read_degree_table;
@@ -33,13 +33,6 @@ fn write_gravity_model(
     c
 }
 
-fn kugel(args: &[&str]) -> std::process::Output {
-    Command::new(env!("CARGO_BIN_EXE_kugel"))
-        .args(args)
-        .output()
-        .unwrap()
-}
-
 #[test]
 fn spectrum_command_writes_netcdf_csv_and_svg() {
     let dir = tempfile::tempdir().unwrap();
@@ -50,7 +43,7 @@ fn spectrum_command_writes_netcdf_csv_and_svg() {
         dir.path().join("spec.csv"),
         dir.path().join("spec.svg"),
     );
-    let out = kugel(&[
+    let out = run_kugel(&[
         "spectrum",
         model.to_str().unwrap(),
         "-o",
@@ -109,7 +102,7 @@ fn compare_command_reports_agreement_and_writes_correlation() {
     let a = write_gravity_model(&a_path, 2, None);
     write_gravity_model(&b_path, 3, Some(&a));
     let csv = dir.path().join("cmp.csv");
-    let out = kugel(&[
+    let out = run_kugel(&[
         "compare",
         a_path.to_str().unwrap(),
         b_path.to_str().unwrap(),
@@ -138,7 +131,7 @@ fn incompatible_units_are_refused_with_exit_code_3_and_no_output() {
     a.units = "mGal".into();
     write_model(&b_path, &a, &Provenance::default()).unwrap();
     let nc = dir.path().join("cmp.nc");
-    let out = kugel(&[
+    let out = run_kugel(&[
         "compare",
         a_path.to_str().unwrap(),
         b_path.to_str().unwrap(),
@@ -162,21 +155,21 @@ fn bad_options_name_what_is_wrong() {
     let model = dir.path().join("model.nc");
     write_gravity_model(&model, 5, None);
     let m = model.to_str().unwrap();
-    let out = kugel(&["spectrum", m, "--fit", "5..80"]);
+    let out = run_kugel(&["spectrum", m, "--fit", "5..80"]);
     assert_eq!(out.status.code(), Some(3));
     assert!(String::from_utf8_lossy(&out.stderr).contains("LMIN-LMAX"));
-    let out = kugel(&["spectrum", m, "--fit", "5-500"]);
+    let out = run_kugel(&["spectrum", m, "--fit", "5-500"]);
     assert!(
         String::from_utf8_lossy(&out.stderr).contains("90"),
         "names the model's lmax"
     );
-    let out = kugel(&["spectrum", m, "--confidence", "95"]);
+    let out = run_kugel(&["spectrum", m, "--confidence", "95"]);
     assert!(String::from_utf8_lossy(&out.stderr).contains("confidence"));
-    let out = kugel(&["spectrum", m, "-o", m]);
+    let out = run_kugel(&["spectrum", m, "-o", m]);
     assert_eq!(out.status.code(), Some(3));
     assert!(String::from_utf8_lossy(&out.stderr).contains("same file as input"));
     // without outputs the CSV goes to standard output
-    let out = kugel(&["spectrum", m, "--quiet"]);
+    let out = run_kugel(&["spectrum", m, "--quiet"]);
     assert!(out.status.success());
     assert!(String::from_utf8_lossy(&out.stdout).starts_with("degree,degree_variance,"));
 }

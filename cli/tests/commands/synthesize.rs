@@ -1,20 +1,12 @@
 //! `kugel synthesize` end to end: one CF variable per quantity with units, standard names
 //! only where CF has one, cautions, altitude, and refusals that leave no file.
 
-use std::process::Command;
-
+use crate::run_kugel;
 use kugel::field::{Ellipsoid, NormalField};
 use kugel::io::model::write_model;
 use kugel::io::provenance::Provenance;
 use kugel::{Coefficients, Normalization};
 use netcdf_reader::NcFile;
-
-fn kugel(args: &[&str]) -> std::process::Output {
-    Command::new(env!("CARGO_BIN_EXE_kugel"))
-        .args(args)
-        .output()
-        .unwrap()
-}
 
 fn attr(attrs: &[netcdf_reader::NcAttribute], name: &str) -> Option<String> {
     attrs
@@ -45,7 +37,7 @@ fn gravity_quantities_with_units_standard_names_and_caution() {
     let model = dir.path().join("g.txt");
     write_model(&model, &gravity_model(), &Provenance::default()).unwrap();
     let out = dir.path().join("map.nc");
-    let o = kugel(&[
+    let o = run_kugel(&[
         "synthesize",
         model.to_str().unwrap(),
         "-o",
@@ -109,7 +101,7 @@ fn magnetic_map_and_refusals() {
     let model = dir.path().join("mag.txt");
     write_model(&model, &c, &Provenance::default()).unwrap();
     let out = dir.path().join("mag.nc");
-    let o = kugel(&[
+    let o = run_kugel(&[
         "synthesize",
         model.to_str().unwrap(),
         "-o",
@@ -151,7 +143,7 @@ fn magnetic_map_and_refusals() {
             bad.to_str().unwrap(),
         ];
         all.extend(args.iter().copied());
-        let o = kugel(&all);
+        let o = run_kugel(&all);
         assert_eq!(
             o.status.code(),
             Some(3),
@@ -161,7 +153,7 @@ fn magnetic_map_and_refusals() {
         assert!(!bad.exists());
     }
     // The output may not be the input.
-    let o = kugel(&[
+    let o = run_kugel(&[
         "synthesize",
         model.to_str().unwrap(),
         "-o",
