@@ -27,8 +27,9 @@ pub enum Error {
 
     /// A planned allocation does not fit in the memory this machine has available.
     #[error(
-        "{what} needs about {needed_mib:.0} MiB but only {available_mib:.0} MiB are available; \
-         lower the degree or free memory"
+        "{what} needs {} but only {available_mib:.0} MiB are available; \
+         lower the degree or free memory",
+        needed_text(*needed_mib)
     )]
     InsufficientMemory {
         what: String,
@@ -36,12 +37,13 @@ pub enum Error {
         available_mib: f64,
     },
 
-    /// A file could not be read or written.
-    #[error("{path}: {source}")]
+    /// A file could not be read or written. The operating system's message is part of the
+    /// text and deliberately not exposed as the error's source, so that printing the chain
+    /// shows it once.
+    #[error("{path}: {cause}")]
     Io {
         path: PathBuf,
-        #[source]
-        source: std::io::Error,
+        cause: std::io::Error,
     },
 
     /// A file was read but its content is not what was expected.
@@ -69,10 +71,33 @@ impl Error {
         }
     }
 
-    pub fn io(path: impl Into<PathBuf>, source: std::io::Error) -> Self {
+    pub fn io(path: impl Into<PathBuf>, cause: std::io::Error) -> Self {
         Error::Io {
             path: path.into(),
-            source,
+            cause,
         }
+    }
+}
+
+/// The size in a memory refusal: "about N MiB", or "more than N MiB" when the estimate hit the
+/// ceiling of the saturating size arithmetic (2^64 bytes), where "about" would not be true.
+fn needed_text(needed_mib: f64) -> String {
+    let ceiling_mib = u64::MAX as f64 / (1024.0 * 1024.0);
+    if needed_mib >= ceiling_mib {
+        format!("more than {ceiling_mib:.0} MiB")
+    } else {
+        format!("about {needed_mib:.0} MiB")
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::needed_text;
+
+    #[test]
+    fn saturated_estimates_say_more_than() {
+        assert_eq!(needed_text(2000.0), "about 2000 MiB");
+        let saturated = u64::MAX as f64 / (1024.0 * 1024.0);
+        assert!(needed_text(saturated).starts_with("more than "));
     }
 }

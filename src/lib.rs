@@ -5,6 +5,7 @@
 //! (`sht`, `io`, `report`), orchestrated from a config by `pipeline`.
 
 pub mod coeffs;
+pub mod complex_coeffs;
 pub mod error;
 pub mod field;
 pub mod io;
@@ -12,7 +13,9 @@ pub mod memory;
 pub mod observe;
 pub mod pipeline;
 pub mod progress;
+pub mod regional;
 pub mod report;
+pub mod rotate;
 pub mod sht;
 pub mod spectral;
 

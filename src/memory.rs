@@ -42,6 +42,42 @@ pub fn check_fits_within(what: &str, needed_bytes: u64, available_bytes: u64) ->
     Ok(())
 }
 
+/// Saturating product of sizes: a count typed by a user or declared by a file can never
+/// overflow into a small number (or a panic) on its way to [`check_fits`].
+pub fn saturating_product(factors: &[u64]) -> u64 {
+    factors.iter().fold(1u64, |acc, &f| acc.saturating_mul(f))
+}
+
+/// Number of (l, m) pairs with 0 ≤ m ≤ l ≤ L, (L + 1)(L + 2)/2, saturating.
+pub fn coefficient_pairs(lmax: usize) -> u64 {
+    let l1 = (lmax as u64).saturating_add(1);
+    saturating_product(&[l1, l1.saturating_add(1)]) / 2
+}
+
+/// Bytes of one coefficient set of degree L with sigmas (C, S, σC, σS as f64), saturating.
+pub fn coefficient_set_bytes(lmax: usize) -> u64 {
+    coefficient_pairs(lmax).saturating_mul(4 * 8)
+}
+
+/// Upper bound of the nodes of the Gauss grid of band limit L (L + 1 rows of at most
+/// 2·(2L + 1) columns, the FFT-friendly length), saturating; computed without building it.
+pub fn gauss_grid_nodes_bound(lmax: usize) -> u64 {
+    let l = lmax as u64;
+    saturating_product(&[
+        l.saturating_add(1),
+        l.saturating_mul(2).saturating_add(1).saturating_mul(2),
+    ])
+}
+
+/// Refuses a coefficient set of degree `lmax` for `what` that does not fit in memory (exit 5
+/// with the estimate), before it is allocated.
+pub fn check_coefficients_fit(what: &str, lmax: usize) -> Result<()> {
+    check_fits(
+        &format!("{what} (degree {lmax})"),
+        coefficient_set_bytes(lmax),
+    )
+}
+
 /// Bytes in a mebibyte, for messages.
 pub const MIB: f64 = 1024.0 * 1024.0;
 
@@ -61,6 +97,19 @@ mod tests {
     fn parses_meminfo_line() {
         let text = "MemTotal:       24000000 kB\nMemAvailable:   1000 kB\n";
         assert_eq!(parse_mem_available(text), Some(1000 * 1024));
+    }
+
+    #[test]
+    fn sizes_saturate_instead_of_overflowing() {
+        assert_eq!(coefficient_pairs(2), 6);
+        assert_eq!(coefficient_pairs(usize::MAX), u64::MAX / 2);
+        assert_eq!(coefficient_set_bytes(usize::MAX), u64::MAX);
+        assert_eq!(gauss_grid_nodes_bound(usize::MAX), u64::MAX);
+        assert_eq!(saturating_product(&[1 << 40, 1 << 40]), u64::MAX);
+        let err = check_fits_within("a huge model", coefficient_set_bytes(usize::MAX), 1 << 30)
+            .unwrap_err()
+            .to_string();
+        assert!(err.contains("a huge model"), "{err}");
     }
 
     #[test]

@@ -2,6 +2,7 @@
 
 use clap::{Parser, Subcommand};
 use kugel_cli::commands::{self, CommandContext};
+use kugel_cli::outputs::all_or_nothing;
 
 /// kugel — spherical-field modelling: transforms, fits, spectra, potential fields, NetCDF.
 #[derive(Debug, Parser)]
@@ -39,6 +40,10 @@ enum Command {
     Compare(commands::compare::Args),
     /// Apply degree-domain filters to a model.
     Filter(commands::filter::Args),
+    /// Rotate a model: move a point to the north pole, or by Euler angles.
+    Rotate(commands::rotate::Args),
+    /// Windows best concentrated in a spherical cap (spatio-spectral tapers).
+    Tapers(commands::tapers::Args),
     /// Speed and accuracy benchmarks.
     Bench(commands::bench::Args),
     /// Regenerate the invented demo data set under demo-data/.
@@ -47,23 +52,28 @@ enum Command {
 
 fn main() {
     let cli = Cli::parse();
+    kugel_cli::interrupt::install();
     let ctx = CommandContext {
         command_line: std::env::args().collect::<Vec<_>>().join(" "),
         quiet: cli.quiet,
         verbose: cli.verbose,
     };
     let result = match &cli.command {
+        // a run publishes through its own staging folder; the benchmark writes no files
         Command::Run(a) => commands::run::run(a, &ctx),
-        Command::Analyze(a) => commands::analyze::run(a, &ctx),
-        Command::Synthesize(a) => commands::synthesize::run(a, &ctx),
-        Command::Convert(a) => commands::convert::run(a, &ctx),
-        Command::Grid(a) => commands::grid::run(a, &ctx),
-        Command::Fit(a) => commands::fit::run(a, &ctx),
-        Command::Evaluate(a) => commands::evaluate::run(a, &ctx),
-        Command::Spectrum(a) => commands::spectrum::run(a, &ctx),
-        Command::Compare(a) => commands::compare::run(a, &ctx),
-        Command::Filter(a) => commands::filter::run(a, &ctx),
+        Command::Analyze(a) => all_or_nothing(|| commands::analyze::run(a, &ctx)),
+        Command::Synthesize(a) => all_or_nothing(|| commands::synthesize::run(a, &ctx)),
+        Command::Convert(a) => all_or_nothing(|| commands::convert::run(a, &ctx)),
+        Command::Grid(a) => all_or_nothing(|| commands::grid::run(a, &ctx)),
+        Command::Fit(a) => all_or_nothing(|| commands::fit::run(a, &ctx)),
+        Command::Evaluate(a) => all_or_nothing(|| commands::evaluate::run(a, &ctx)),
+        Command::Spectrum(a) => all_or_nothing(|| commands::spectrum::run(a, &ctx)),
+        Command::Compare(a) => all_or_nothing(|| commands::compare::run(a, &ctx)),
+        Command::Filter(a) => all_or_nothing(|| commands::filter::run(a, &ctx)),
+        Command::Rotate(a) => all_or_nothing(|| commands::rotate::run(a, &ctx)),
+        Command::Tapers(a) => all_or_nothing(|| commands::tapers::run(a, &ctx)),
         Command::Bench(a) => commands::bench::run(a, &ctx),
+        // the demo writer reports the sizes of the files it has put in place
         Command::MakeDemo(a) => commands::make_demo::run(a, &ctx),
     };
     if let Err(err) = result {

@@ -67,7 +67,10 @@ impl TableOutputs<'_> {
         } else {
             print!("{summary}");
             for p in [self.netcdf, self.csv, self.plot].into_iter().flatten() {
-                println!("wrote {}", p.display());
+                crate::outputs::announce(
+                    crate::outputs::Stream::Stdout,
+                    format!("wrote {}", p.display()),
+                );
             }
         }
     }

@@ -15,7 +15,12 @@
 //!
 //! For magnetic Gauss coefficients (nT, reference radius a = R) the radial component uses
 //! (l+1) s c_l and the horizontal components the gradient of the synthesis with s c_l
-//! (see [`super::magnetic`]).
+//! (see [`super::magnetic`]). External-source coefficients (potential
+//! V = a Σ (r/a)^l Σ (q_lm cos mλ + s_lm sin mλ) P_l^m, same source) use −l s^{1−l} for the
+//! radial component and s^{1−l} for the horizontal ones.
+//!
+//! These factors are the one definition of each functional: synthesis, `evaluate` and the
+//! fit's observation rows (`observe::fit::functional`) all take them from here.
 
 use super::quantity::Quantity;
 
@@ -78,4 +83,18 @@ pub fn magnetic_radial_factors(s: f64, c: &[f64]) -> Vec<f64> {
 /// B_θ = −∂/∂θ and B_λ = −(1/sin θ) ∂/∂λ in nT.
 pub fn magnetic_horizontal_factors(s: f64, c: &[f64]) -> Vec<f64> {
     c.iter().map(|cl| s * cl).collect()
+}
+
+/// −l s^{1−l}: synthesis of external-source coefficients with these factors gives B_r in nT
+/// (B_r = −∂V/∂r with V = a Σ (r/a)^l …, s = a/r).
+pub fn magnetic_external_radial_factors(s: f64, lmax: usize) -> Vec<f64> {
+    (0..=lmax)
+        .map(|l| -(l as f64) * s.powi(1 - l as i32))
+        .collect()
+}
+
+/// s^{1−l}: the negative horizontal gradient of the synthesis of external-source coefficients
+/// with these factors gives B_θ and B_λ in nT.
+pub fn magnetic_external_horizontal_factors(s: f64, lmax: usize) -> Vec<f64> {
+    (0..=lmax).map(|l| s.powi(1 - l as i32)).collect()
 }

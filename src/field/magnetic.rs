@@ -36,6 +36,24 @@ impl FieldVector {
         (x * c + z * s, y, z * c - x * s)
     }
 
+    /// The weights (w_r, w_θ, w_λ) with which a component that is linear in the vector is
+    /// formed, q = w_r B_r + w_θ B_θ + w_λ B_λ, in the frame tilted by `tilt_rad` (see
+    /// [`FieldVector::xyz_tilted`]); `None` for the nonlinear ones (H, F, D, I) and
+    /// non-magnetic quantities. The fit's observation rows are combined with these weights.
+    pub fn linear_weights(quantity: Quantity, tilt_rad: f64) -> Option<[f64; 3]> {
+        let (s, c) = tilt_rad.sin_cos();
+        // X = −B_θ, Z = −B_r in the geocentric frame, then tilted.
+        Some(match quantity {
+            Quantity::Br => [1.0, 0.0, 0.0],
+            Quantity::Btheta => [0.0, 1.0, 0.0],
+            Quantity::Blambda => [0.0, 0.0, 1.0],
+            Quantity::X => [-s, -c, 0.0],
+            Quantity::Y => [0.0, 0.0, 1.0],
+            Quantity::Z => [-c, s, 0.0],
+            _ => return None,
+        })
+    }
+
     /// One magnetic quantity of this vector (`None` for non-magnetic quantities). X, Z, I
     /// (and H, D through X) are given in the frame tilted by `tilt_rad`.
     pub fn component(&self, quantity: Quantity, tilt_rad: f64) -> Option<f64> {
@@ -76,5 +94,32 @@ mod tests {
         let f0 = v.component(Quantity::F, 0.0).unwrap();
         let f1 = v.component(Quantity::F, 0.003).unwrap();
         assert!((f0 - f1).abs() < 1e-12);
+    }
+
+    #[test]
+    fn linear_weights_reproduce_the_components() {
+        let v = FieldVector {
+            br: -31.0,
+            btheta: 12.5,
+            blambda: 4.0,
+        };
+        for tilt in [0.0, 0.0031, -0.2] {
+            for q in [
+                Quantity::Br,
+                Quantity::Btheta,
+                Quantity::Blambda,
+                Quantity::X,
+                Quantity::Y,
+                Quantity::Z,
+            ] {
+                let w = FieldVector::linear_weights(q, tilt).unwrap();
+                let linear = w[0] * v.br + w[1] * v.btheta + w[2] * v.blambda;
+                assert!(
+                    (linear - v.component(q, tilt).unwrap()).abs() < 1e-12,
+                    "{q} {tilt}"
+                );
+            }
+        }
+        assert!(FieldVector::linear_weights(Quantity::F, 0.0).is_none());
     }
 }

@@ -35,6 +35,35 @@ pub enum TargetSurface {
 }
 
 impl TargetSurface {
+    /// The surface from an altitude above the reference sphere or a radius, both in km, as a
+    /// front end receives them; `altitude_name` and `radius_name` are the option names the
+    /// user typed, for the messages. Neither given: the reference sphere.
+    pub fn from_km(
+        altitude_km: Option<f64>,
+        radius_km: Option<f64>,
+        altitude_name: &str,
+        radius_name: &str,
+    ) -> Result<TargetSurface> {
+        match (altitude_km, radius_km) {
+            (Some(_), Some(_)) => Err(Error::invalid(format!(
+                "give either {altitude_name} or {radius_name}, not both"
+            ))),
+            (Some(h), None) if h.is_finite() => Ok(TargetSurface::Altitude {
+                altitude_m: h * 1e3,
+            }),
+            (None, Some(r)) if r.is_finite() && r > 0.0 => {
+                Ok(TargetSurface::Radius { radius_m: r * 1e3 })
+            }
+            (None, None) => Ok(TargetSurface::ReferenceSphere),
+            (Some(h), None) => Err(Error::invalid(format!(
+                "{altitude_name} must be finite, got {h}"
+            ))),
+            (None, Some(r)) => Err(Error::invalid(format!(
+                "{radius_name} must be positive, got {r}"
+            ))),
+        }
+    }
+
     pub fn radius_m(&self, reference_radius_m: f64) -> f64 {
         match *self {
             TargetSurface::ReferenceSphere => reference_radius_m,
@@ -221,14 +250,41 @@ pub fn synthesize_on_grid_with_progress(
 /// `grid` itself when it resolves `lmax` in longitude, else a copy with `stride` times as many
 /// longitudes (same first longitude and rings), stride ≥ 1 the smallest that does.
 pub fn longitude_densified(grid: &Grid, lmax: usize) -> (Grid, usize) {
-    let needed = 2 * lmax + 1;
-    if grid.nlon >= needed {
+    let stride = densification_stride(grid.nlon as f64, lmax) as usize;
+    if stride == 1 {
         return (grid.clone(), 1);
     }
-    let stride = needed.div_ceil(grid.nlon.max(1));
     let mut dense = grid.clone();
     dense.nlon = grid.nlon * stride;
     (dense, stride)
+}
+
+/// The stride of [`longitude_densified`] from the longitude count alone: the smallest s ≥ 1
+/// with s·nlon ≥ 2·lmax + 1 (in f64, so that no degree overflows).
+pub fn densification_stride(nlon: f64, lmax: usize) -> f64 {
+    let needed = 2.0 * lmax as f64 + 1.0;
+    (needed / nlon.max(1.0)).ceil().max(1.0)
+}
+
+/// Refuses, before any grid or table is built, a synthesis of `quantities` of a degree-`lmax`
+/// model on an nlat × nlon grid that would not fit in memory: the estimate of
+/// [`synthesis_memory_bytes`] on the longitude-densified grid, plus the plan's tables.
+pub fn check_synthesis_job(
+    lmax: usize,
+    quantities: &[Quantity],
+    (nlat, nlon): (f64, f64),
+) -> Result<()> {
+    let dense_nlon = nlon * densification_stride(nlon, lmax);
+    let bytes = synthesis_memory_bytes_f64(lmax, quantities, nlat, dense_nlon)
+        + crate::sht::budget::plan_table_bytes(lmax, nlat, dense_nlon);
+    crate::memory::check_fits(
+        &format!(
+            "a synthesis of {} quantit{} to degree {lmax} on a {nlat} x {dense_nlon} grid",
+            quantities.len(),
+            if quantities.len() == 1 { "y" } else { "ies" }
+        ),
+        bytes as u64,
+    )
 }
 
 /// Grids a synthesis of `quantities` holds at once: one per quantity plus one working grid,
@@ -241,20 +297,49 @@ pub fn synthesis_grid_count(quantities: &[Quantity]) -> usize {
 }
 
 /// Bytes [`synthesize_with_plan`] checks before it starts: the grids of
-/// [`synthesis_grid_count`] (nlat × nlon doubles each), plus the prepared and one scaled copy
-/// of the degree-`model_lmax` coefficients (C and S).
+/// [`synthesis_grid_count`] (nlat × nlon doubles each), plus the prepared copy of the
+/// degree-`model_lmax` coefficients (C and S) and the scaled copies synthesised together
+/// (one per scalar quantity and one for B_r; at least one).
 pub fn synthesis_memory_bytes(
     model_lmax: usize,
     quantities: &[Quantity],
     nlat: usize,
     nlon: usize,
 ) -> u64 {
-    let coefficient_bytes = 2 * 16 * crate::coeffs::packed_len(model_lmax);
-    (synthesis_grid_count(quantities) * nlat * nlon * 8 + coefficient_bytes) as u64
+    synthesis_memory_bytes_f64(model_lmax, quantities, nlat as f64, nlon as f64) as u64
+}
+
+/// [`synthesis_memory_bytes`] in f64 (no overflow for any shape).
+fn synthesis_memory_bytes_f64(
+    model_lmax: usize,
+    quantities: &[Quantity],
+    nlat: f64,
+    nlon: f64,
+) -> f64 {
+    crate::sht::budget::grid_bytes(nlat, nlon, synthesis_grid_count(quantities) as f64)
+        + crate::sht::budget::coefficient_set_bytes(
+            model_lmax,
+            (1 + one_pass_sets(quantities).max(1)) as f64,
+        )
+}
+
+/// Coefficient sets synthesised in the one values pass: every scalar quantity, plus B_r when a
+/// magnetic quantity needs it.
+fn one_pass_sets(quantities: &[Quantity]) -> usize {
+    let scalar = quantities
+        .iter()
+        .filter(|q| q.family() != QuantityFamily::Magnetic)
+        .count();
+    let magnetic = quantities
+        .iter()
+        .any(|q| q.family() == QuantityFamily::Magnetic);
+    scalar + usize::from(magnetic && needs_radial(quantities, false))
 }
 
 /// As [`synthesize_on_grid`] with a prebuilt plan (reused across calls), reporting one unit of
-/// progress per transform.
+/// progress per synthesised coefficient set. Every scalar quantity and B_r go through one
+/// many-field pass ([`TransformPlan::synthesise_many`]: each P̄_lm computed once for all of
+/// them), B_θ and B_λ through one gradient pass.
 pub fn synthesize_with_plan(
     model: &Coefficients,
     plan: &TransformPlan,
@@ -267,7 +352,8 @@ pub fn synthesize_with_plan(
     let arrays = synthesis_grid_count(qs);
     crate::memory::check_fits(
         &format!(
-            "{arrays} grid(s) of {nlat} x {nlon} and two copies of the degree-{} coefficients",
+            "{arrays} grid(s) of {nlat} x {nlon} and {} copies of the degree-{} coefficients",
+            1 + one_pass_sets(qs).max(1),
             model.lmax()
         ),
         synthesis_memory_bytes(model.lmax(), qs, nlat, nlon),
@@ -278,32 +364,44 @@ pub fn synthesize_with_plan(
     let r = request.surface.radius_m(r_ref);
     let s = r_ref / r;
     let c = radial_factors(lmax, r_ref, r, &request.continuation)?;
-    let total = qs
+    let radial = magnetic && needs_radial(qs, false);
+    let horizontal = magnetic && needs_horizontal(qs, false);
+    // One values pass: the scalar quantities in request order, then B_r.
+    let factors: Vec<Option<Vec<f64>>> = qs
         .iter()
-        .filter(|q| q.family() != QuantityFamily::Magnetic)
-        .count()
-        + usize::from(magnetic && needs_radial(qs, false))
-        + usize::from(magnetic && needs_horizontal(qs, false));
-    progress.stage("synthesising", total as u64);
-    let mut out = Vec::with_capacity(qs.len());
+        .map(|&q| scalar_factors(q, prepared.scale, s, &c))
+        .collect();
+    let mut sets = Vec::with_capacity(one_pass_sets(qs));
+    for k in factors.iter().flatten() {
+        sets.push(scaled(&prepared.coeffs, k));
+    }
+    if radial {
+        sets.push(scaled(&prepared.coeffs, &magnetic_radial_factors(s, &c)));
+    }
+    progress.stage(
+        "synthesising",
+        (sets.len() + usize::from(horizontal)) as u64,
+    );
+    let mut values = if sets.is_empty() {
+        Vec::new()
+    } else {
+        plan.synthesise_many(&sets.iter().collect::<Vec<_>>())?
+    };
+    progress.advance(sets.len() as u64);
+    drop(sets);
+    let zero = || Array2::<f64>::zeros((nlat, nlon));
+    let br = if radial { values.pop() } else { None };
+    let mut scalar_grids = values.into_iter();
     let mut vector: Option<(Array2<f64>, Array2<f64>, Array2<f64>)> = None;
-    for &q in qs {
-        if let Some(k) = scalar_factors(q, prepared.scale, s, &c) {
-            out.push((q, plan.synthesise(&scaled(&prepared.coeffs, &k))?));
-            progress.advance(1);
+    let mut out = Vec::with_capacity(qs.len());
+    for (&q, k) in qs.iter().zip(&factors) {
+        if k.is_some() {
+            let grid = scalar_grids.next().expect("one grid per scalar quantity");
+            out.push((q, grid));
             continue;
         }
         if vector.is_none() {
-            let zero = || Array2::<f64>::zeros((nlat, nlon));
-            let br = if needs_radial(qs, false) {
-                let k = magnetic_radial_factors(s, &c);
-                let f = plan.synthesise(&scaled(&prepared.coeffs, &k))?;
-                progress.advance(1);
-                f
-            } else {
-                zero()
-            };
-            let (bt, bl) = if needs_horizontal(qs, false) {
+            let (bt, bl) = if horizontal {
                 let k = magnetic_horizontal_factors(s, &c);
                 let (dt, dl) = plan.synthesise_gradient(&scaled(&prepared.coeffs, &k))?;
                 progress.advance(1);
@@ -311,7 +409,7 @@ pub fn synthesize_with_plan(
             } else {
                 (zero(), zero())
             };
-            vector = Some((br, bt, bl));
+            vector = Some((br.clone().unwrap_or_else(zero), bt, bl));
         }
         let (br, bt, bl) = vector.as_ref().expect("set above");
         let mut field = Array2::<f64>::zeros((nlat, nlon));
@@ -405,4 +503,35 @@ pub fn evaluate_at_points(
         }
     }
     Ok(out)
+}
+
+#[cfg(test)]
+mod target_surface_tests {
+    use super::TargetSurface;
+
+    #[test]
+    fn from_km_converts_and_names_the_options_it_refuses() {
+        let s = |a, r| TargetSurface::from_km(a, r, "--alt", "--rad");
+        assert_eq!(s(None, None).unwrap(), TargetSurface::ReferenceSphere);
+        assert_eq!(
+            s(Some(2.5), None).unwrap(),
+            TargetSurface::Altitude { altitude_m: 2500.0 }
+        );
+        assert_eq!(
+            s(None, Some(1737.4)).unwrap(),
+            TargetSurface::Radius {
+                radius_m: 1_737_400.0
+            }
+        );
+        let both = s(Some(1.0), Some(1.0)).unwrap_err().to_string();
+        assert!(both.contains("--alt") && both.contains("--rad"), "{both}");
+        assert!(s(Some(f64::NAN), None)
+            .unwrap_err()
+            .to_string()
+            .contains("--alt"));
+        assert!(s(None, Some(-1.0))
+            .unwrap_err()
+            .to_string()
+            .contains("--rad"));
+    }
 }

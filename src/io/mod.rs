@@ -16,3 +16,4 @@ pub mod grid;
 pub mod model;
 pub mod netcdf_common;
 pub mod provenance;
+pub mod tapers;

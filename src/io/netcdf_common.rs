@@ -143,3 +143,191 @@ pub fn write_netcdf4(path: &Path, b: &NcFileBuilder) -> Result<()> {
         .map_err(|e| write_error(path, e))?;
     super::atomic::write_bytes_atomic(path, &bytes)
 }
+
+/// What a present attribute holds, for "wrong type" messages.
+fn attribute_kind(v: &NcAttrValue) -> String {
+    match v.as_string() {
+        Some(s) => format!("text '{}'", s.trim()),
+        None => "a non-text value".to_string(),
+    }
+}
+
+/// A numeric global or variable attribute: `Ok(None)` when absent, an error naming the file,
+/// the attribute and what it holds when present but not a number ("wrong type", not
+/// "missing"). Numbers stored as text are accepted.
+pub fn number_checked(
+    path: &Path,
+    attrs: &[NcAttribute],
+    owner: &str,
+    name: &str,
+) -> Result<Option<f64>> {
+    let Some(v) = find(attrs, name) else {
+        return Ok(None);
+    };
+    if let Some(x) = v.as_f64() {
+        return Ok(Some(x));
+    }
+    match v.as_string().and_then(|s| s.trim().parse().ok()) {
+        Some(x) => Ok(Some(x)),
+        None => Err(Error::format(
+            path,
+            format!(
+                "{owner} attribute '{name}' has the wrong type: it holds {}, expected a number",
+                attribute_kind(v)
+            ),
+        )),
+    }
+}
+
+/// A text global or variable attribute: `Ok(None)` when absent, an error naming the file and
+/// the attribute when present but not text.
+pub fn text_checked(
+    path: &Path,
+    attrs: &[NcAttribute],
+    owner: &str,
+    name: &str,
+) -> Result<Option<String>> {
+    let Some(v) = find(attrs, name) else {
+        return Ok(None);
+    };
+    match v.as_string() {
+        Some(s) => Ok(Some(s.trim().to_string())),
+        None => Err(Error::format(
+            path,
+            format!(
+                "{owner} attribute '{name}' has the wrong type: it holds numbers ({}), expected text",
+                as_text(v)
+            ),
+        )),
+    }
+}
+
+/// The value the NetCDF library stores in cells nobody wrote, when a variable has no
+/// `_FillValue` attribute (`NC_FILL_*` of netcdf.h; common practice). Reading such a value
+/// means the cell was never written.
+pub fn default_fill(dtype: &netcdf_reader::NcType) -> Option<f64> {
+    use netcdf_reader::NcType as T;
+    Some(match dtype {
+        T::Byte => -127.0,
+        T::UByte => 255.0,
+        T::Short => -32767.0,
+        T::UShort => 65535.0,
+        T::Int => -2_147_483_647.0,
+        T::UInt => 4_294_967_295.0,
+        T::Int64 => -9_223_372_036_854_775_806.0,
+        T::UInt64 => 18_446_744_073_709_551_614.0,
+        T::Float => f64::from(9.969_21e36_f32),
+        T::Double => 9.969_209_968_386_869e36,
+        _ => return None,
+    })
+}
+
+/// Values of a variable as the file means them (CF conventions §2.5, §8.1): `_Unsigned`
+/// reinterpretation, then `_FillValue` / `missing_value` / `valid_*` masking, then
+/// `scale_factor` and `add_offset` unpacking. Masked cells are NaN; cells holding the
+/// library's default fill while the variable declares no `_FillValue` were never written and
+/// are counted in `unwritten` (and NaN too), so that no caller takes 9.97e36 for data.
+#[derive(Debug, Clone)]
+pub struct CfValues {
+    pub values: Vec<f64>,
+    /// Number of cells never written (default fill, no `_FillValue` attribute).
+    pub unwritten: usize,
+    /// Flat index of the first such cell.
+    pub first_unwritten: Option<usize>,
+}
+
+/// Reads variable `name` (or a slice of it) with [`CfValues`] semantics; the one decoder of
+/// the grid, model and point readers.
+pub fn read_cf_values(
+    file: &NcFile,
+    path: &Path,
+    name: &str,
+    selection: Option<&netcdf_reader::NcSliceInfo>,
+) -> Result<CfValues> {
+    let var = file.variable(name).map_err(|e| read_error(path, name, e))?;
+    let mut raw = match selection {
+        Some(sel) => file.read_variable_slice_as_f64(name, sel),
+        None => file.read_variable_as_f64(name),
+    }
+    .map_err(|e| read_error(path, name, e))?;
+    let unwritten_value = if var.attribute("_FillValue").is_none() {
+        default_fill(var.dtype())
+    } else {
+        None
+    };
+    let mut unwritten_at: Vec<usize> = Vec::new();
+    if let Some(fill) = unwritten_value {
+        for (i, v) in raw.iter().enumerate() {
+            if *v == fill {
+                unwritten_at.push(i);
+            }
+        }
+    }
+    if let Some(sign) = netcdf_reader::unpack::SignParams::from_variable(var) {
+        sign.apply(&mut raw);
+    }
+    if let Some(mask) = netcdf_reader::masked::MaskParams::from_variable(var) {
+        mask.apply(&mut raw);
+    }
+    if let Some(unpack) = netcdf_reader::unpack::UnpackParams::from_variable(var) {
+        unpack.apply(&mut raw);
+    }
+    let mut values: Vec<f64> = raw.iter().copied().collect();
+    for &i in &unwritten_at {
+        values[i] = f64::NAN;
+    }
+    Ok(CfValues {
+        values,
+        unwritten: unwritten_at.len(),
+        first_unwritten: unwritten_at.first().copied(),
+    })
+}
+
+/// The largest ratio of data to stored bytes a variable can have: deflate, the strongest
+/// filter NetCDF-4 files use, compresses at most about 1032:1 (zlib technical details; common
+/// practice). Kept generous with a fixed allowance for small variables.
+pub const MAX_STORAGE_RATIO: u64 = 1100;
+
+/// Checks the size a variable declares before anything is read: against memory (exit 5 with
+/// the estimate; `copies` is how many f64 copies of it the reader holds at once) and against
+/// the size of the file, which must be able to hold it ([`MAX_STORAGE_RATIO`]). A small file
+/// declaring a huge variable it never wrote is refused at once instead of after minutes of
+/// reading fill values. `selected_values` is the number of values actually read (a slice may
+/// read less than the variable).
+pub fn check_declared_size(
+    path: &Path,
+    name: &str,
+    shape: &[u64],
+    selected_values: u64,
+    copies: u64,
+) -> Result<()> {
+    let declared = shape
+        .iter()
+        .try_fold(1u64, |acc, &d| acc.checked_mul(d))
+        .unwrap_or(u64::MAX);
+    let dims = shape
+        .iter()
+        .map(|d| d.to_string())
+        .collect::<Vec<_>>()
+        .join(" x ");
+    crate::memory::check_fits(
+        &format!("reading variable '{name}' ({dims}) of {}", path.display()),
+        selected_values
+            .saturating_mul(8)
+            .saturating_mul(copies.max(1)),
+    )?;
+    let file_bytes = std::fs::metadata(path).map(|m| m.len()).unwrap_or(u64::MAX);
+    let limit = file_bytes
+        .saturating_mul(MAX_STORAGE_RATIO)
+        .saturating_add(1 << 20);
+    if declared > limit {
+        return Err(Error::format(
+            path,
+            format!(
+                "variable '{name}' declares {dims} = {declared} values, but the whole file is {file_bytes} bytes \
+                 and cannot hold them (never written, or the file is truncated)"
+            ),
+        ));
+    }
+    Ok(())
+}

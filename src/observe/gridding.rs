@@ -122,11 +122,14 @@ pub struct GriddedField {
 }
 
 /// Bytes gridding needs beyond the points: three node layers, a gap mask and the tree.
+/// From the grid's shape alone (no nodes are computed), in f64 so that no degree overflows.
 pub fn gridding_memory_bytes(points: usize, lmax: usize) -> u64 {
-    let grid = GaussGrid::new(lmax);
-    let nodes = (grid.nlat() * grid.nlon) as u64;
+    // counted without building the grid, saturating, so that any degree can be estimated
+    let nodes = crate::memory::gauss_grid_nodes_bound(lmax);
     // value, count, nearest (f64) + mask + a synthesis buffer for iterative filling
-    nodes * (8 * 4 + 1) + points as u64 * 64
+    nodes
+        .saturating_mul(8 * 4 + 1)
+        .saturating_add((points as u64).saturating_mul(64))
 }
 
 /// Grids the points onto `GaussGrid::new(lmax)` (no progress output).

@@ -13,6 +13,7 @@ pub mod degree_choice;
 pub mod fit;
 pub mod gaps;
 pub mod gridding;
+pub mod kd_tree;
 pub mod points;
 pub mod spatial;
 

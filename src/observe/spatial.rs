@@ -6,8 +6,7 @@
 //! c = 2 sin(ψ/2), ψ = 2 asin(c/2) (common practice; any spherical-geometry text).
 //! Also 1 − cos ψ = c²/2, so kernels of the form exp(−b(1 − cos ψ)) need no trigonometry.
 
-use kiddo::immutable::float::kdtree::ImmutableKdTree;
-use kiddo::SquaredEuclidean;
+use super::kd_tree::{Found, KdTree3};
 
 /// Unit vector of a geocentric latitude/longitude in degrees.
 #[inline]
@@ -53,18 +52,19 @@ pub struct Neighbour {
 }
 
 impl Neighbour {
-    fn from_tree(item: u64, chord_squared: f64) -> Self {
+    fn from_tree(found: Found) -> Self {
+        let chord_squared = found.distance_squared.max(0.0);
         Neighbour {
-            index: item as usize,
-            angle_rad: angle_from_chord(chord_squared.max(0.0).sqrt()),
-            chord_squared: chord_squared.max(0.0),
+            index: found.index,
+            angle_rad: angle_from_chord(chord_squared.sqrt()),
+            chord_squared,
         }
     }
 }
 
 /// A k-d tree over the unit vectors of a point set. Immutable, `Send + Sync`.
 pub struct SphereIndex {
-    tree: ImmutableKdTree<f64, u64, 3, 32>,
+    tree: KdTree3,
     points: Vec<[f64; 3]>,
 }
 
@@ -77,7 +77,7 @@ impl SphereIndex {
             .map(|(&a, &o)| unit_vector(a, o))
             .collect();
         SphereIndex {
-            tree: ImmutableKdTree::new_from_slice(&points),
+            tree: KdTree3::new(&points),
             points,
         }
     }
@@ -97,16 +97,16 @@ impl SphereIndex {
 
     /// The nearest point to `query` (a unit vector). Panics on an empty index.
     pub fn nearest(&self, query: &[f64; 3]) -> Neighbour {
-        let n = self.tree.nearest_one::<SquaredEuclidean>(query);
-        Neighbour::from_tree(n.item, n.distance)
+        let found = self.tree.nearest_k(query, 1);
+        Neighbour::from_tree(found[0])
     }
 
     /// The `k` nearest points, nearest first.
     pub fn nearest_k(&self, query: &[f64; 3], k: usize) -> Vec<Neighbour> {
         self.tree
-            .nearest_n::<SquaredEuclidean>(query, k)
+            .nearest_k(query, k)
             .into_iter()
-            .map(|n| Neighbour::from_tree(n.item, n.distance))
+            .map(Neighbour::from_tree)
             .collect()
     }
 
@@ -114,9 +114,9 @@ impl SphereIndex {
     pub fn within(&self, query: &[f64; 3], radius_rad: f64) -> Vec<Neighbour> {
         let c = chord_from_angle(radius_rad);
         self.tree
-            .within_unsorted::<SquaredEuclidean>(query, c * c)
+            .within(query, c * c)
             .into_iter()
-            .map(|n| Neighbour::from_tree(n.item, n.distance))
+            .map(Neighbour::from_tree)
             .collect()
     }
 }

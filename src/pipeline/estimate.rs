@@ -4,7 +4,7 @@
 //! so the plan and the step cannot disagree:
 //! - grid: `observe::gridding::gridding_memory_bytes` (node layers, points) plus the analysis
 //!   of the gridded field, `sht::plan::analysis_memory_bytes`;
-//! - fit: `observe::fit::fit_memory_bytes` (three (L+1)²-square matrices, five with GCV);
+//! - fit: `observe::fit::unknowns_memory_bytes` (three u-square matrices, five with GCV; u = (L+1)², doubled with secular variation, plus the external terms);
 //! - analyze: `sht::plan::plan_memory_bytes` and `analysis_memory_bytes` on the smallest grid
 //!   that resolves the degree (the input grid's own size is checked when it is read);
 //! - synthesize: `field::synthesis::synthesis_memory_bytes` on the Gauss grid the step maps.
@@ -20,7 +20,7 @@ use super::config::{Config, Input, Step};
 use crate::error::{Error, Result};
 use crate::field::quantity::Quantity;
 use crate::field::synthesis::{longitude_densified, synthesis_memory_bytes};
-use crate::observe::fit::{fit_memory_bytes, Regularization};
+use crate::observe::fit::{unknowns_memory_bytes, Regularization};
 use crate::observe::gridding::gridding_memory_bytes;
 use crate::sht::plan::{analysis_memory_bytes, plan_memory_bytes};
 use crate::sht::GaussGrid;
@@ -150,13 +150,16 @@ pub fn estimate(
             }
             Step::Fit(s) => {
                 let regularization = Regularization::parse(s.regularization_spec())?;
-                let unknowns = (s.lmax + 1) * (s.lmax + 1);
+                // rates double the internal unknowns; external terms add (Le+1)²
+                let internal = (s.lmax + 1) * (s.lmax + 1);
+                let unknowns = internal * if s.epoch.is_some() { 2 } else { 1 }
+                    + s.external_lmax.map_or(0, |l| (l + 1) * (l + 1));
                 (
                     format!(
                         "normal matrices of {unknowns} unknowns ({})",
                         regularization.describe()
                     ),
-                    fit_memory_bytes(s.lmax, &regularization),
+                    unknowns_memory_bytes(unknowns as u64, &regularization),
                 )
             }
             Step::Analyze(s) => {

@@ -11,6 +11,46 @@ use super::config::OutputSection;
 use super::step_spec::Step;
 use crate::field::quantity::Quantity;
 
+/// Longest step or input name accepted (file names built from it stay well within the 255
+/// bytes most file systems allow).
+pub const MAX_NAME_BYTES: usize = 120;
+
+/// The rule for step and input names, which become file names inside the output folder: a
+/// plain name of letters, digits, `_`, `-` and `.`, not starting with `.` (no hidden files, no
+/// `..`), no path separator, not absolute, at most [`MAX_NAME_BYTES`] bytes. So every file a
+/// run writes lands inside the folder the user named.
+pub fn check_plain_name(name: &str) -> Result<(), String> {
+    if name.is_empty() {
+        return Err("a name must not be empty".into());
+    }
+    if name.len() > MAX_NAME_BYTES {
+        return Err(format!(
+            "the name is {} bytes long; at most {MAX_NAME_BYTES} are accepted",
+            name.len()
+        ));
+    }
+    if name.starts_with('.') {
+        return Err(format!(
+            "'{name}' starts with '.'; names become file names and must not be hidden or climb out of the output folder"
+        ));
+    }
+    if let Some(c) = name
+        .chars()
+        .find(|c| !(c.is_alphanumeric() || matches!(c, '_' | '-' | '.')))
+    {
+        let what = match c {
+            '/' | '\\' => "a path separator".to_string(),
+            c if c.is_control() => "a control character".to_string(),
+            c => format!("'{c}'"),
+        };
+        return Err(format!(
+            "'{}' contains {what}; names become file names inside the output folder, so use letters, digits, '_', '-' and '.' only",
+            name.escape_default()
+        ));
+    }
+    Ok(())
+}
+
 /// `NAME_SUFFIX.EXT`, or `NAME.EXT` when `suffix` is empty or `NAME` already ends with
 /// `_SUFFIX` (or is `SUFFIX`).
 pub fn file_name(step: &str, suffix: &str, extension: &str) -> String {
@@ -92,12 +132,41 @@ pub fn planned_files(name: &str, step: &Step, output: &OutputSection) -> Vec<Str
             add("png", f.residuals("png"));
         }
     }
+    // every CSV travels with its sidecar NAME.csv.json (io::csv_sidecar)
+    let sidecars: Vec<String> = out
+        .iter()
+        .filter(|f| f.ends_with(".csv"))
+        .map(|f| format!("{f}.json"))
+        .collect();
+    out.extend(sidecars);
     out
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn names_stay_plain() {
+        for ok in ["halyard", "survey_2019", "a-b.c", "Fläche"] {
+            assert!(check_plain_name(ok).is_ok(), "{ok}");
+        }
+        for (bad, word) in [
+            ("../../x", "'.'"),
+            ("/tmp/x", "path separator"),
+            ("a/b", "path separator"),
+            ("a\\b", "path separator"),
+            ("..", "'.'"),
+            (".hidden", "'.'"),
+            ("", "empty"),
+            ("a b", "' '"),
+            ("tab\there", "control"),
+        ] {
+            let e = check_plain_name(bad).unwrap_err();
+            assert!(e.contains(word), "{bad}: {e}");
+        }
+        assert!(check_plain_name(&"x".repeat(MAX_NAME_BYTES + 1)).is_err());
+    }
 
     #[test]
     fn suffix_is_never_doubled() {

@@ -26,9 +26,15 @@ pub struct PointsInput {
     pub columns: Option<ColumnMap>,
     /// "error" (default) stops at the first bad row; "skip" drops and counts them.
     pub on_bad_row: Option<String>,
-    /// What the values are: "potential" (disturbing potential in m² s⁻², turned into
-    /// dimensionless coefficients with GM and R) or "value" (kept as is, the default).
+    /// What the values are: "value" (kept as is, the default), "potential" (disturbing
+    /// potential in m² s⁻², turned into dimensionless coefficients with GM and R), or for fit
+    /// steps any quantity `kugel fit --quantity` takes (geoid, gravity-disturbance,
+    /// gravity-anomaly, radial-gradient, br, btheta, blambda, x, y, z, f), in the units
+    /// `kugel evaluate` writes. A `quantity` column overrides it row by row.
     pub quantity: Option<String>,
+    /// Geodetic latitudes and `height_m` above this ellipsoid (grs80, wgs84, custom:…) instead
+    /// of geocentric latitudes and `altitude_km` above the body's sphere (fit steps).
+    pub ellipsoid: Option<String>,
     /// Units of the values, for labels (defaults from `quantity`).
     pub units: Option<String>,
 }
@@ -57,6 +63,12 @@ pub struct ColumnMap {
     pub lon: Option<String>,
     pub value: Option<String>,
     pub sigma: Option<String>,
+    /// Per-row quantity, altitude above the sphere (km), height above the ellipsoid (m) and
+    /// time (decimal year) columns; each optional.
+    pub quantity: Option<String>,
+    pub altitude_km: Option<String>,
+    pub height_m: Option<String>,
+    pub time: Option<String>,
 }
 
 impl Input {

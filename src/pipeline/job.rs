@@ -6,9 +6,11 @@ use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
 use super::config::{Config, Input, InputKind, Step, StepKind, OUTPUT_FORMATS};
+use super::input_spec::PointsInput;
 use super::step_spec::FitStep;
 use super::{dag, estimate, file_names, schema, suggest};
 use crate::error::{Error, Result};
+use crate::observe::points::{BadRowPolicy, ColumnNames, PointReadOptions};
 
 /// What a named product holds.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -90,7 +92,15 @@ impl Job {
             kinds.insert(name.clone(), input_product(input.kind()));
             deps.insert(name.clone(), Vec::new());
         }
+        for name in config.inputs.keys() {
+            if let Err(e) = file_names::check_plain_name(name) {
+                problems.push(format!("inputs.{name}: {e}"));
+            }
+        }
         for (name, step) in &config.steps {
+            if let Err(e) = file_names::check_plain_name(name) {
+                problems.push(format!("steps.{name}: {e}"));
+            }
             if config.inputs.contains_key(name) {
                 problems.push(format!(
                     "steps.{name}: an input has the same name; rename one"
@@ -106,6 +116,7 @@ impl Job {
             check_step(name, step, &kinds, &base_dir, &mut problems);
         }
         check_file_names(&config, &mut problems);
+        check_output_folder(&config, &base_dir, &mut problems);
         let levels = match dag::levels(&deps) {
             Ok(l) => l,
             Err(e) => {
@@ -117,6 +128,23 @@ impl Job {
             return Err(problem_list(path, &problems));
         }
         let model_lmax = model_degrees(&config, &levels);
+        let mut known_lmax = model_lmax.clone();
+        for (name, input) in &config.inputs {
+            if let Input::Model(m) = input {
+                if let Some(l) = crate::io::model::netcdf::declared_lmax(&base_dir.join(&m.path)) {
+                    known_lmax.insert(name.clone(), l);
+                }
+            }
+        }
+        check_fit_ranges(&config, &known_lmax, &mut problems);
+        for (name, input) in &config.inputs {
+            if let Input::Points(p) = input {
+                check_point_columns(name, p, &base_dir, &mut problems);
+            }
+        }
+        if !problems.is_empty() {
+            return Err(problem_list(path, &problems));
+        }
         let mut point_counts = BTreeMap::new();
         for (name, input) in &config.inputs {
             if let Input::Points(p) = input {
@@ -301,21 +329,150 @@ fn check_body_and_output(config: &Config, problems: &mut Vec<String>) {
 }
 
 /// Refuses two steps that would write a file of the same name (e.g. a fit `x`, writing
-/// `x_model.nc`, beside a fit `x_model`), and a step file named like the run report.
+/// `x_model.nc`, beside a fit `x_model`), and a step file named like the run report. Names
+/// are compared ignoring case, since the output folder may be on a file system that does.
 fn check_file_names(config: &Config, problems: &mut Vec<String>) {
-    let mut writer: BTreeMap<String, &str> = BTreeMap::new();
-    writer.insert("report.html".into(), "the run report");
+    let mut writer: BTreeMap<String, (String, &str)> = BTreeMap::new();
+    writer.insert(
+        "report.html".into(),
+        ("report.html".into(), "the run report"),
+    );
     for (name, step) in &config.steps {
         for file in file_names::planned_files(name, step, &config.output) {
-            match writer.get(&file) {
-                Some(other) => problems.push(format!(
-                    "steps.{name}: would write {file}, as {other} does; rename the step"
+            let key = file.to_lowercase();
+            match writer.get(&key) {
+                Some((other_file, other)) => problems.push(format!(
+                    "steps.{name}: would write {file}, as {other} writes {other_file}; rename the step"
                 )),
                 None => {
-                    writer.insert(file, name);
+                    writer.insert(key, (file, name));
                 }
             }
         }
+    }
+}
+
+/// The output folder must be a folder (or not exist yet) and must not hold any input: the run
+/// replaces files inside it.
+fn check_output_folder(config: &Config, base: &Path, problems: &mut Vec<String>) {
+    let out = base.join(&config.output.folder);
+    let kind = crate::io::atomic::TargetKind::of(&out);
+    use crate::io::atomic::TargetKind as K;
+    match kind {
+        K::Absent | K::Directory => {}
+        K::SymbolicLink if out.is_dir() => {}
+        other => {
+            problems.push(format!(
+                "output.folder: {} is {}, not a folder",
+                out.display(),
+                other.describe()
+            ));
+            return;
+        }
+    }
+    let Some(out_canonical) = canonical_folder(&out) else {
+        return;
+    };
+    for (name, input) in &config.inputs {
+        let path = base.join(input.path());
+        let Ok(input_canonical) = path.canonicalize() else {
+            continue;
+        };
+        if input_canonical.starts_with(&out_canonical) {
+            problems.push(format!(
+                "output.folder: {} holds the input '{name}' ({}); choose another folder so inputs are never overwritten",
+                out.display(),
+                path.display()
+            ));
+        }
+    }
+}
+
+/// The canonical form of a folder that may not exist yet: its nearest existing ancestor,
+/// canonicalised, joined with the rest.
+fn canonical_folder(path: &Path) -> Option<PathBuf> {
+    let mut rest = Vec::new();
+    let mut p = path.to_path_buf();
+    loop {
+        if let Ok(c) = p.canonicalize() {
+            return Some(
+                rest.iter()
+                    .rev()
+                    .fold(c, |acc: PathBuf, part| acc.join(part)),
+            );
+        }
+        rest.push(p.file_name()?.to_os_string());
+        p = p.parent()?.to_path_buf();
+        if p.as_os_str().is_empty() {
+            p = PathBuf::from(".");
+        }
+    }
+}
+
+/// A spectrum's `fit_range` must lie within the band limit of its model, when that is known
+/// before the run (model steps, and NetCDF model inputs from their header; text tables are
+/// only known once read).
+fn check_fit_ranges(
+    config: &Config,
+    model_lmax: &BTreeMap<String, usize>,
+    problems: &mut Vec<String>,
+) {
+    for (name, step) in &config.steps {
+        if let Step::Spectrum(s) = step {
+            if let (Some([_, b]), Some(&l)) = (s.fit_range, model_lmax.get(&s.model)) {
+                if b > l {
+                    problems.push(format!(
+                        "steps.{name}.fit_range: ends at degree {b}, beyond the band limit {l} of model '{}'",
+                        s.model
+                    ));
+                }
+            }
+        }
+    }
+}
+
+/// The columns a CSV point input names must be in its header (read now, as the run would).
+fn check_point_columns(name: &str, input: &PointsInput, base: &Path, problems: &mut Vec<String>) {
+    let path = base.join(&input.path);
+    match crate::observe::points::has_netcdf_signature(&path) {
+        Ok(false) => {}
+        _ => return,
+    }
+    let options = point_read_options(name, input);
+    if let Err(e) = crate::observe::points::csv::read_csv_records(&path, &options) {
+        problems.push(format!("inputs.{name}.columns: {e}"));
+    }
+}
+
+/// How the run reads a point input: its column names, bad-row policy, and hints that name the
+/// config keys.
+pub(crate) fn point_read_options(name: &str, input: &PointsInput) -> PointReadOptions {
+    let mut columns = ColumnNames::default();
+    if let Some(c) = &input.columns {
+        for (slot, given) in [
+            (&mut columns.lat, &c.lat),
+            (&mut columns.lon, &c.lon),
+            (&mut columns.value, &c.value),
+            (&mut columns.sigma, &c.sigma),
+            (&mut columns.quantity, &c.quantity),
+            (&mut columns.altitude_km, &c.altitude_km),
+            (&mut columns.height_m, &c.height_m),
+            (&mut columns.time, &c.time),
+        ] {
+            if let Some(g) = given {
+                *slot = g.clone();
+            }
+        }
+    }
+    let on_bad_row = match input.on_bad_row.as_deref() {
+        Some("skip") => BadRowPolicy::Skip,
+        _ => BadRowPolicy::Error,
+    };
+    PointReadOptions {
+        columns,
+        on_bad_row,
+        column_hint: Some(format!("inputs.{name}.columns")),
+        ..Default::default()
     }
 }
 
@@ -335,13 +492,41 @@ fn check_input(name: &str, input: &Input, base: &Path, problems: &mut Vec<String
             problems,
         );
     }
+    let known: &[&str] = match input {
+        Input::Points(_) => FIT_QUANTITIES,
+        _ => &["value", "potential"],
+    };
     check_choice(
         &format!("inputs.{name}.quantity"),
         input.quantity(),
-        &["value", "potential"],
+        known,
         problems,
     );
+    if let Input::Points(p) = input {
+        if let Some(e) = &p.ellipsoid {
+            if let Err(e) = crate::field::Ellipsoid::parse(e) {
+                problems.push(format!("inputs.{name}.ellipsoid: {e}"));
+            }
+        }
+    }
 }
+
+/// Quantities a point input may hold (those a fit takes).
+pub const FIT_QUANTITIES: &[&str] = &[
+    "value",
+    "potential",
+    "geoid",
+    "gravity-disturbance",
+    "gravity-anomaly",
+    "radial-gradient",
+    "br",
+    "btheta",
+    "blambda",
+    "x",
+    "y",
+    "z",
+    "f",
+];
 
 /// Accepted gridding `method` values.
 pub const GRID_METHODS: &[&str] = &["kernel", "nearest"];
@@ -407,7 +592,44 @@ fn check_step(
             }
         }
         Step::Fit(s) => {
-            need("input", &s.input, P::Points);
+            match (&s.input, &s.inputs) {
+                (Some(_), Some(_)) => problems.push(format!(
+                    "{}: give either input or inputs, not both",
+                    at("inputs")
+                )),
+                (None, None) => problems.push(format!(
+                    "{}: missing; this fit step needs input = \"NAME\" or inputs = [\"A\", \"B\"]",
+                    at("input")
+                )),
+                _ => {}
+            }
+            let names = s.input_names();
+            for n in &names {
+                need(
+                    if s.input.is_some() { "input" } else { "inputs" },
+                    n,
+                    P::Points,
+                );
+            }
+            if let Some(w) = &s.weights {
+                if w.len() != names.len() || w.iter().any(|v| !(v.is_finite() && *v > 0.0)) {
+                    problems.push(format!(
+                        "{}: {} positive weight factors needed, one per input, got {w:?}",
+                        at("weights"),
+                        names.len()
+                    ));
+                }
+            }
+            if let Some(n) = &s.normal_field {
+                if let Err(e) = crate::field::NormalField::parse(n) {
+                    problems.push(format!("{}: {e}", at("normal_field")));
+                }
+            }
+            if let Some(r) = &s.robust {
+                if let Err(e) = crate::observe::fit::Robust::parse(r) {
+                    problems.push(format!("{}: {e}", at("robust")));
+                }
+            }
             check_degree(&at("lmax"), s.lmax, problems);
             if s.lmax > FitStep::MAX_DEGREE {
                 problems.push(format!(

@@ -18,6 +18,8 @@ macro_rules! config_kinds {
         $(#[$meta])*
         #[derive(Debug, Clone, serde::Deserialize)]
         #[serde(tag = "kind")]
+        // one value per config table, read once: the size of the largest kind does not matter
+        #[allow(clippy::large_enum_variant)]
         pub enum $enum {
             $( $(#[$vmeta])* #[serde(rename = $name)] $variant($spec), )+
         }

@@ -15,7 +15,7 @@ use crate::error::Result;
 use crate::io::grid::read::{read_grid, GridReadOptions};
 use crate::io::model::read_model;
 use crate::io::provenance::Provenance;
-use crate::observe::points::{read_points, BadRowPolicy, ColumnNames, PointReadOptions};
+use crate::observe::points::read_points;
 use crate::progress::Progress;
 use crate::report::html::Block;
 
@@ -42,36 +42,19 @@ pub struct RunSummary {
     pub steps: Vec<StepRow>,
     pub files: Vec<OutputFile>,
     pub seconds: f64,
+    /// What was cleaned up before the run (leftovers of interrupted runs, a stale lock).
+    pub notes: Vec<String>,
 }
 
 /// Runs `job`, reporting one unit of progress per step. On failure nothing is left in the
 /// output folder but what was there before.
 pub fn run_job(job: &Job, options: &RunOptions, progress: &dyn Progress) -> Result<RunSummary> {
     crate::memory::check_fits("this job (see the memory estimate)", job.memory.peak_bytes)?;
-    let inputs: Vec<std::path::PathBuf> = job
-        .config
-        .inputs
-        .keys()
-        .filter_map(|n| job.input_path(n))
-        .collect();
-    for input in &inputs {
-        let out_dir = job
-            .output_dir
-            .canonicalize()
-            .unwrap_or_else(|_| job.output_dir.clone());
-        if input
-            .canonicalize()
-            .map(|p| p.starts_with(&out_dir))
-            .unwrap_or(false)
-        {
-            return Err(crate::Error::invalid(format!(
-                "output.folder {} contains the input {}; choose another folder so inputs are never overwritten",
-                job.output_dir.display(),
-                input.display()
-            )));
-        }
-    }
     let mut staging = Staging::create(&job.output_dir)?;
+    let notes = std::mem::take(&mut staging.notes);
+    for n in &notes {
+        progress.note(n);
+    }
     match run_staged(job, options, progress, &mut staging) {
         Ok((steps, seconds)) => {
             let files = staging.commit()?;
@@ -79,6 +62,7 @@ pub fn run_job(job: &Job, options: &RunOptions, progress: &dyn Progress) -> Resu
                 steps,
                 files,
                 seconds,
+                notes,
             })
         }
         Err(e) => {
@@ -215,36 +199,16 @@ fn load_input(job: &Job, name: &str, input: &Input) -> Result<(Product, Vec<Bloc
     let path = job.input_path(name).unwrap_or_default();
     match input {
         Input::Points(input) => {
-            let mut columns = ColumnNames::default();
-            if let Some(c) = &input.columns {
-                for (slot, given) in [
-                    (&mut columns.lat, &c.lat),
-                    (&mut columns.lon, &c.lon),
-                    (&mut columns.value, &c.value),
-                    (&mut columns.sigma, &c.sigma),
-                ] {
-                    if let Some(g) = given {
-                        *slot = g.clone();
-                    }
-                }
-            }
-            let on_bad_row = match input.on_bad_row.as_deref() {
-                Some("skip") => BadRowPolicy::Skip,
-                _ => BadRowPolicy::Error,
-            };
-            let options = PointReadOptions {
-                columns,
-                on_bad_row,
-                ..Default::default()
-            };
+            let options = super::job::point_read_options(name, input);
             let (set, read) = read_points(&path, &options)?;
             let quantity = input.quantity.clone().unwrap_or_else(|| "value".into());
             let units = input.units.clone().unwrap_or_else(|| {
-                if quantity == "potential" {
-                    "m2 s-2".into()
-                } else {
-                    "1".into()
-                }
+                quantity
+                    .parse::<crate::field::Quantity>()
+                    .ok()
+                    .and_then(|q| q.units())
+                    .unwrap_or("1")
+                    .into()
             });
             let style = crate::report::raster::maps::MapStyle {
                 title: format!("{name}: observations"),

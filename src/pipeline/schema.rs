@@ -235,11 +235,11 @@ mod tests {
 
     #[test]
     fn missing_required_keys_are_all_reported() {
-        let p = problems("[steps.a]\nkind = \"fit\"\nlmax = 3\n[steps.b]\nkind = \"filter\"\nfilter = \"gauss:100\"\n");
+        let p = problems("[steps.a]\nkind = \"analyze\"\nlmax = 3\n[steps.b]\nkind = \"filter\"\nfilter = \"gauss:100\"\n");
         assert_eq!(
             p,
             vec![
-                "steps.a.input: missing; this fit step needs it",
+                "steps.a.input: missing; this analyze step needs it",
                 "steps.b.model: missing; this filter step needs it"
             ]
         );

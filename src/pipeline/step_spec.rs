@@ -46,8 +46,24 @@ pub struct GridStep {
 
 #[derive(Debug, Clone, Deserialize)]
 pub struct FitStep {
-    /// The point set to fit.
-    pub input: String,
+    /// The point set to fit (or `inputs` for several).
+    pub input: Option<String>,
+    /// Several point sets fitted together, each with its own quantity and columns (set on the
+    /// input) and weight factor (`weights`).
+    pub inputs: Option<Vec<String>>,
+    /// Weight factor per input, in the order of `inputs` (default 1 each).
+    pub weights: Option<Vec<f64>>,
+    /// Internal degrees held at zero, e.g. [0, 1].
+    pub fix_degrees: Option<Vec<usize>>,
+    /// Normal field taken off potential and radial-gradient observations (grs80, wgs84,
+    /// custom:…) and added back to the model.
+    pub normal_field: Option<String>,
+    /// Magnetic: external-source coefficients to this degree (1 to 3).
+    pub external_lmax: Option<usize>,
+    /// Magnetic: linear secular variation about this epoch (decimal year); needs times.
+    pub epoch: Option<f64>,
+    /// Robust reweighting, "huber:C".
+    pub robust: Option<String>,
     /// Band limit of the model (at most [`FitStep::MAX_DEGREE`]).
     pub lmax: usize,
     /// "none" (default), "damping:λ", "kaula:A,p", "kaula:A,p:gcv" or "gcv", as in
@@ -59,6 +75,15 @@ impl FitStep {
     /// Highest degree of a least-squares fit; beyond it the (L+1)² unknowns make the normal
     /// matrix too large, and gridding is the tool.
     pub const MAX_DEGREE: usize = 300;
+
+    /// The point sets fitted, in order.
+    pub fn input_names(&self) -> Vec<&str> {
+        match (&self.input, &self.inputs) {
+            (Some(i), _) => vec![i.as_str()],
+            (None, Some(list)) => list.iter().map(String::as_str).collect(),
+            (None, None) => Vec::new(),
+        }
+    }
 
     /// The regularization written, or the default `none`.
     pub fn regularization_spec(&self) -> &str {
@@ -138,7 +163,7 @@ impl Step {
     pub fn uses(&self) -> Vec<&str> {
         match self {
             Step::Grid(s) => vec![s.input.as_str()],
-            Step::Fit(s) => vec![s.input.as_str()],
+            Step::Fit(s) => s.input_names(),
             Step::Analyze(s) => vec![s.input.as_str()],
             Step::Spectrum(s) => vec![s.model.as_str()],
             Step::Compare(s) => s.models.iter().map(String::as_str).collect(),
@@ -172,7 +197,19 @@ mod tests {
         // the keys come from the structs: spot-check a few and that no kind is left empty
         assert_eq!(
             StepKind::Fit.keys(),
-            ["kind", "input", "lmax", "regularization"]
+            [
+                "kind",
+                "input",
+                "inputs",
+                "weights",
+                "fix_degrees",
+                "normal_field",
+                "external_lmax",
+                "epoch",
+                "robust",
+                "lmax",
+                "regularization"
+            ]
         );
         assert!(StepKind::Synthesize.keys().contains(&"altitude_km"));
         assert!(!StepKind::Synthesize.keys().contains(&"altitude_m"));

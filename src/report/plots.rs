@@ -7,6 +7,7 @@
 
 pub mod axis;
 pub mod panel;
+pub mod regional;
 pub mod svg;
 
 use crate::spectral::spectrum::trim_number;

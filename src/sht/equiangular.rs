@@ -137,6 +137,21 @@ pub fn equiangular_grid(nlat: usize, nlon: usize, layout: EquiangularLayout) -> 
 /// The node-registered grid with spacing `step_deg` in latitude and longitude, both poles
 /// included (`regular:1` is 181 × 360). 180/step must be a whole number.
 pub fn regular_grid_by_step(step_deg: f64) -> Result<Grid> {
+    let (nlat, nlon) = regular_grid_shape_by_step(step_deg)?;
+    crate::memory::check_fits(
+        &format!("the regular grid of {step_deg} degrees ({nlat} x {nlon})"),
+        (nlat * nlon * 16.0) as u64,
+    )?;
+    let (nlat, nlon) = (
+        super::budget::as_count(nlat, "grid rows")?,
+        super::budget::as_count(nlon, "grid columns")?,
+    );
+    Ok(equiangular_grid(nlat, nlon, EquiangularLayout::Nodes))
+}
+
+/// (rows, columns) of [`regular_grid_by_step`] without building it (in f64: a tiny step gives
+/// a huge but finite shape, for the memory check to refuse).
+pub fn regular_grid_shape_by_step(step_deg: f64) -> Result<(f64, f64)> {
     if !(step_deg.is_finite() && step_deg > 0.0 && step_deg <= 90.0) {
         return Err(Error::invalid(format!(
             "grid step {step_deg} degrees: expected a step in (0, 90]"
@@ -150,11 +165,7 @@ pub fn regular_grid_by_step(step_deg: f64) -> Result<Grid> {
              choose a step such as 1, 0.5, 0.25 or 2"
         )));
     }
-    let nlat = r as usize + 1;
-    let nlon = 2 * r as usize;
-    let cells = (nlat * nlon) as u64;
-    crate::memory::check_fits("the regular grid", cells * 8 * 2)?;
-    Ok(equiangular_grid(nlat, nlon, EquiangularLayout::Nodes))
+    Ok((r + 1.0, 2.0 * r))
 }
 
 #[cfg(test)]

@@ -103,18 +103,31 @@ impl GaussGrid {
 }
 
 /// Smallest n ≥ `min` whose only prime factors are 2, 3 and 5.
+///
+/// Panics only if no such length fits in a `usize` (min beyond about 1.8e19); see
+/// [`checked_fft_friendly_length`].
 pub fn fft_friendly_length(min: usize) -> usize {
-    let mut n = min.max(1);
-    loop {
-        let mut r = n;
-        for p in [2, 3, 5] {
-            while r % p == 0 {
-                r /= p;
+    checked_fft_friendly_length(min).expect("a 2-3-5-smooth length of this size fits a usize")
+}
+
+/// Smallest n ≥ `min` of the form 2^a 3^b 5^c, or `None` when it does not fit in a `usize`.
+/// Enumerates the O(log³ min) candidates instead of stepping through the integers (the gaps
+/// between such numbers grow with their size).
+pub fn checked_fft_friendly_length(min: usize) -> Option<usize> {
+    let target = min.max(1) as u128;
+    let mut best = u128::MAX;
+    let mut p5: u128 = 1;
+    while p5 < 2 * target {
+        let mut p35 = p5;
+        while p35 < 2 * target {
+            let mut n = p35;
+            while n < target {
+                n *= 2;
             }
+            best = best.min(n);
+            p35 *= 3;
         }
-        if r == 1 {
-            return n;
-        }
-        n += 1;
+        p5 *= 5;
     }
+    usize::try_from(best).ok()
 }

@@ -3,7 +3,10 @@
 //!
 //! - [`legendre`] — P_l, associated functions in every normalisation (both phases), columns,
 //!   all (l, m), θ-derivatives; stable to any degree (extended exponents near the poles).
-//! - [`gauss_legendre`] — nodes and weights (Newton in θ, double-double weights).
+//! - [`gauss_legendre`] — nodes and weights in O(n) (Bogaert's expansion polished on the
+//!   Stieltjes series), with the O(n²) Newton rule kept as its reference.
+//! - [`budget`] — memory needs of a transform job from its shapes alone, checked before
+//!   anything is built.
 //! - [`grid`] — grid descriptions; [`plan`] — the reusable [`TransformPlan`], which runs blocked
 //!   SIMD kernels (private to this module) chosen once per plan from runtime CPU detection
 //!   ([`KernelPath`] names them and lets tests and benchmarks force one); [`reference`](mod@reference) — the
@@ -17,6 +20,7 @@
 // explicitly; everything else here is checked to be free of it.
 #![deny(unsafe_code)]
 
+pub mod budget;
 pub mod equiangular;
 pub mod gauss_legendre;
 pub mod grid;
@@ -29,4 +33,4 @@ pub mod reference;
 pub use grid::{GaussGrid, Grid, GridKind};
 pub use kernel::KernelPath;
 pub use plan::TransformPlan;
-pub use points::{evaluate_points, PointValue};
+pub use points::{evaluate_points, evaluate_points_with_path, PointValue};

@@ -10,6 +10,9 @@
 //!   south rings together when the grid is symmetric, with the recursion computed on the fly
 //!   (no tables of P̄_lm). The kernel variant (instruction set, lane width, fused
 //!   multiply–add) is chosen once, when the plan is built, from runtime CPU detection.
+//!   Several fields on the same grid (`synthesise_many`, `analyse_many`) share each P̄_lm:
+//!   the recursion runs once per (order, block of rings, chunk of degrees) and every field
+//!   only adds its own sums.
 //! - Fourier stage: rayon over rings, one real FFT each (realfft), per-thread scratch.
 //! - Synthesis keeps each ring's half-spectrum inside its own output row (2L + 1 ≤ nlon reals)
 //!   and transforms the row in place, so no nlat × (L+1) complex array is held beside the grid.
@@ -30,8 +33,8 @@ use crate::memory;
 
 use super::grid::Grid;
 use super::kernel::{
-    build_lanes, is_symmetric, AnalysisJob, CoefficientSums, FourierGrids, KernelPath, KernelSet,
-    Lane, OrderScratch, SynthJob,
+    build_lanes, is_symmetric, order_major, AnalysisJob, CoefficientSums, FourierGrids, KernelPath,
+    KernelSet, Lane, OrderScratch, SynthJob,
 };
 use super::legendre::recursion::sectoral_factors;
 use super::legendre::{order_one_over_sin_at_pole, Pole};
@@ -146,19 +149,27 @@ impl TransformPlan {
         self.symmetric
     }
 
-    /// Bytes a synthesis needs beyond its input (output grid, converted input, scratch).
+    /// Bytes a synthesis needs beyond its input (output grids, converted input, scratch),
+    /// for `outputs` output grids of one field each.
     pub fn synthesis_bytes(&self, outputs: usize) -> u64 {
+        self.synthesis_bytes_many(outputs, 1)
+    }
+
+    /// Bytes a synthesis of `fields` fields at once needs beyond its inputs, for `outputs`
+    /// output grids in all (one per field, or two per field for gradients).
+    pub fn synthesis_bytes_many(&self, outputs: usize, fields: usize) -> u64 {
         let (nlat, nlon) = self.grid.shape();
-        synthesis_memory_bytes(self.lmax, nlat, nlon, outputs)
+        synthesis_memory_bytes_many(self.lmax, nlat, nlon, outputs, fields)
     }
 
     /// Bytes an analysis needs beyond its input (coefficients, ring spectra, scratch).
     pub fn analysis_bytes(&self) -> u64 {
-        analysis_memory_bytes(self.lmax, self.grid.nlon, self.lanes.len())
+        self.analysis_bytes_many(1)
     }
 
-    fn analysis_chunk_lanes(&self) -> usize {
-        analysis_chunk_lanes(self.lmax, self.lanes.len())
+    /// Bytes an analysis of `fields` fields at once needs beyond its inputs.
+    pub fn analysis_bytes_many(&self, fields: usize) -> u64 {
+        analysis_memory_bytes_many(self.lmax, self.grid.nlon, self.lanes.len(), fields)
     }
 
     /// Analyses a field (nlat × nlon, rows north to south) into `geodesy` coefficients.
@@ -166,12 +177,42 @@ impl TransformPlan {
         self.analyse_rings(field, 0..self.grid.nlat())
     }
 
+    /// Analyses several fields of this grid in one pass: each P̄_lm is computed once and
+    /// applied to every field. The result of field k equals [`TransformPlan::analyse`] of that
+    /// field to within a few ulp (the partial sums per degree are the same, only their
+    /// grouping into rayon tasks is not guaranteed; see `tests/sht/many_fields.rs`).
+    pub fn analyse_many(&self, fields: &[&Array2<f64>]) -> Result<Vec<Coefficients>> {
+        self.analyse_rings_many(fields, 0..self.grid.nlat())
+    }
+
     /// The contribution of rows `rings` to the analysis of `field`: summing the results over
     /// disjoint ring ranges that cover the grid gives [`TransformPlan::analyse`] (a seam for
     /// sharding work across machines).
     pub fn analyse_rings(&self, field: &Array2<f64>, rings: Range<usize>) -> Result<Coefficients> {
-        let (nlat, nlon) = field.dim();
-        self.grid.check_shape(nlat, nlon)?;
+        let mut out = self.analyse_rings_many(&[field], rings)?;
+        Ok(out.pop().expect("one field in, one out"))
+    }
+
+    /// [`TransformPlan::analyse_rings`] of several fields in one pass.
+    pub fn analyse_rings_many(
+        &self,
+        fields: &[&Array2<f64>],
+        rings: Range<usize>,
+    ) -> Result<Vec<Coefficients>> {
+        if fields.is_empty() {
+            return Ok(Vec::new());
+        }
+        let nlat = self.grid.nlat();
+        let nlon = self.grid.nlon;
+        for (k, field) in fields.iter().enumerate() {
+            let (rows, cols) = field.dim();
+            self.grid.check_shape(rows, cols).map_err(|e| match e {
+                Error::ShapeMismatch(msg) if fields.len() > 1 => {
+                    Error::ShapeMismatch(format!("field {}: {msg}", k + 1))
+                }
+                other => other,
+            })?;
+        }
         if rings.end > nlat || rings.start > rings.end {
             return Err(Error::invalid(format!(
                 "ring range {}..{} is outside the grid's {nlat} rows",
@@ -184,60 +225,82 @@ impl TransformPlan {
                 self.grid.max_exact_degree, self.lmax, self.grid.max_exact_degree
             )));
         }
-        if let Some((idx, v)) = field.indexed_iter().find(|(_, v)| !v.is_finite()) {
-            return Err(Error::invalid(format!(
-                "field value at row {}, column {} is not finite ({v}); mask or fill gaps before analysis",
-                idx.0, idx.1
-            )));
+        for (k, field) in fields.iter().enumerate() {
+            if let Some((idx, v)) = field.indexed_iter().find(|(_, v)| !v.is_finite()) {
+                let which = if fields.len() > 1 {
+                    format!("field {}: ", k + 1)
+                } else {
+                    String::new()
+                };
+                return Err(Error::invalid(format!(
+                    "{which}field value at row {}, column {} is not finite ({v}); mask or fill gaps before analysis",
+                    idx.0, idx.1
+                )));
+            }
         }
+        let nf = fields.len();
         memory::check_fits(
-            &format!("analysis to degree {} on a {nlat} x {nlon} grid", self.lmax),
-            self.analysis_bytes(),
+            &format!(
+                "analysis of {nf} field(s) to degree {} on a {nlat} x {nlon} grid",
+                self.lmax
+            ),
+            self.analysis_bytes_many(nf),
         )?;
         let lanes: Vec<Lane> = if rings == (0..nlat) {
             self.lanes.clone()
         } else {
             self.lanes_for_rows(&rings)
         };
-        let field = field.as_standard_layout();
-        let data = field.as_slice().expect("standard layout");
+        let fields: Vec<_> = fields.iter().map(|f| f.as_standard_layout()).collect();
+        let data: Vec<&[f64]> = fields
+            .iter()
+            .map(|f| f.as_slice().expect("standard layout"))
+            .collect();
         let lmax = self.lmax;
         let stride = lmax + 1;
-        let mut out = Coefficients::zeros(lmax, Normalization::Geodesy);
-        let chunk_lanes = self.analysis_chunk_lanes();
-        let mut spectra = vec![Complex64::new(0.0, 0.0); chunk_lanes.min(lanes.len()) * 2 * stride];
+        let mut out = vec![Coefficients::zeros(lmax, Normalization::Geodesy); nf];
+        let chunk_lanes = analysis_chunk_lanes(lmax, lanes.len(), nf);
+        let per_field = chunk_lanes.min(lanes.len()) * 2 * stride;
+        let mut spectra = vec![Complex64::new(0.0, 0.0); nf * per_field];
         let scale = 1.0 / (2.0 * nlon as f64);
-        let (c_out, s_out) = out.packed_mut();
-        let mut sums = CoefficientSums::new(c_out, s_out, lmax);
+        let mut sums = CoefficientSums::new(out.iter_mut().map(|c| c.packed_mut()).collect(), lmax);
         for chunk in lanes.chunks(chunk_lanes.max(1)) {
             // Fourier stage: weighted, rotated half-spectra of the chunk's rings.
-            let used = &mut spectra[..chunk.len() * 2 * stride];
-            used.par_chunks_mut(2 * stride)
-                .zip(chunk.par_iter())
-                .for_each_init(
-                    || RingScratch::new(&*self.forward, &*self.inverse),
-                    |rs, (dst, lane)| {
-                        let (north, south) = dst.split_at_mut(stride);
-                        self.ring_spectrum(data, lane.north, scale, rs, north);
-                        match lane.south {
-                            Some(row) => self.ring_spectrum(data, row, scale, rs, south),
-                            None => south.iter_mut().for_each(|z| *z = Complex64::new(0.0, 0.0)),
-                        }
-                    },
-                );
-            // Legendre stage: one task per order.
+            let used = chunk.len() * 2 * stride;
+            for (k, dst) in spectra.chunks_mut(per_field).enumerate() {
+                dst[..used]
+                    .par_chunks_mut(2 * stride)
+                    .zip(chunk.par_iter())
+                    .for_each_init(
+                        || RingScratch::new(&*self.forward, &*self.inverse),
+                        |rs, (dst, lane)| {
+                            let (north, south) = dst.split_at_mut(stride);
+                            self.ring_spectrum(data[k], lane.north, scale, rs, north);
+                            match lane.south {
+                                Some(row) => self.ring_spectrum(data[k], row, scale, rs, south),
+                                None => {
+                                    south.iter_mut().for_each(|z| *z = Complex64::new(0.0, 0.0))
+                                }
+                            }
+                        },
+                    );
+            }
+            // Legendre stage: one task per order, every field at once.
+            let field_spectra: Vec<&[Complex64]> =
+                spectra.chunks(per_field).map(|s| &s[..used]).collect();
             let job = AnalysisJob {
                 lmax,
                 lanes: chunk,
                 sectoral_factors: &self.sectoral_factors,
-                spectra: used,
+                spectra: &field_spectra,
             };
             let kernels = self.kernels;
             sums.for_each_order(
-                || OrderScratch::new(lmax),
+                || OrderScratch::new(lmax, nf),
                 |sc, orders| kernels.analyse(&job, sc, orders),
             );
         }
+        drop(sums);
         Ok(out)
     }
 
@@ -283,6 +346,13 @@ impl TransformPlan {
         self.synthesise_orders(coeffs, 0..self.lmax + 1)
     }
 
+    /// Synthesises several coefficient sets on the plan's grid in one pass: each P̄_lm is
+    /// computed once and applied to every set. Field k is bit-identical to
+    /// [`TransformPlan::synthesise`] of set k (the same sums in the same order).
+    pub fn synthesise_many(&self, coeffs: &[&Coefficients]) -> Result<Vec<Array2<f64>>> {
+        self.synthesise_orders_many(coeffs, 0..self.lmax + 1)
+    }
+
     /// The part of the synthesis carried by orders `orders`: summing the fields over disjoint
     /// order ranges gives [`TransformPlan::synthesise`] (a seam for sharding).
     pub fn synthesise_orders(
@@ -290,52 +360,84 @@ impl TransformPlan {
         coeffs: &Coefficients,
         orders: Range<usize>,
     ) -> Result<Array2<f64>> {
-        let g = self.prepared(coeffs, 1)?;
-        let mut out = self.allocate_grid()?;
-        self.legendre_synthesis(&g, orders, false, &mut out, None);
-        self.inverse_rings(&mut out);
+        let mut out = self.synthesise_orders_many(&[coeffs], orders)?;
+        Ok(out.pop().expect("one field in, one out"))
+    }
+
+    fn synthesise_orders_many(
+        &self,
+        coeffs: &[&Coefficients],
+        orders: Range<usize>,
+    ) -> Result<Vec<Array2<f64>>> {
+        let g = self.prepared_many(coeffs, 1)?;
+        let mut out = (0..g.len())
+            .map(|_| self.allocate_grid())
+            .collect::<Result<Vec<_>>>()?;
+        self.legendre_synthesis(&g, orders, false, out.iter_mut().collect());
+        out.iter_mut().for_each(|f| self.inverse_rings(f));
         Ok(out)
     }
 
     /// ∂f/∂θ and (1/sin θ) ∂f/∂λ on the plan's grid. On pole rows (sin θ = 0) both are the
     /// limits along each meridian λ_k (only order 1 contributes there).
     pub fn synthesise_gradient(&self, coeffs: &Coefficients) -> Result<(Array2<f64>, Array2<f64>)> {
-        let g = self.prepared(coeffs, 2)?;
-        let mut d_theta = self.allocate_grid()?;
-        let mut d_lambda = self.allocate_grid()?;
-        self.legendre_synthesis(
-            &g,
-            0..self.lmax + 1,
-            true,
-            &mut d_theta,
-            Some(&mut d_lambda),
-        );
-        self.pole_gradient_rows(&g, &mut d_theta, &mut d_lambda);
-        self.inverse_rings(&mut d_theta);
-        self.inverse_rings(&mut d_lambda);
-        Ok((d_theta, d_lambda))
+        let mut out = self.synthesise_gradient_many(&[coeffs])?;
+        Ok(out.pop().expect("one field in, one out"))
+    }
+
+    /// [`TransformPlan::synthesise_gradient`] of several coefficient sets in one pass (each
+    /// P̄_lm computed once); bit-identical to the single-set call for each set.
+    pub fn synthesise_gradient_many(
+        &self,
+        coeffs: &[&Coefficients],
+    ) -> Result<Vec<(Array2<f64>, Array2<f64>)>> {
+        let g = self.prepared_many(coeffs, 2)?;
+        let mut grids = (0..2 * g.len())
+            .map(|_| self.allocate_grid())
+            .collect::<Result<Vec<_>>>()?;
+        self.legendre_synthesis(&g, 0..self.lmax + 1, true, grids.iter_mut().collect());
+        let mut out = Vec::with_capacity(g.len());
+        let mut grids = grids.into_iter();
+        for gk in &g {
+            let mut d_theta = grids.next().expect("two grids per field");
+            let mut d_lambda = grids.next().expect("two grids per field");
+            self.pole_gradient_rows(gk, &mut d_theta, &mut d_lambda);
+            self.inverse_rings(&mut d_theta);
+            self.inverse_rings(&mut d_lambda);
+            out.push((d_theta, d_lambda));
+        }
+        Ok(out)
     }
 
     fn allocate_grid(&self) -> Result<Array2<f64>> {
         Ok(Array2::zeros(self.grid.shape()))
     }
 
-    /// The input as `geodesy` coefficients of the plan's degree, borrowed when it already is.
-    fn prepared<'c>(
+    /// The inputs as `geodesy` coefficients of the plan's degree (borrowed when they already
+    /// are), after checking that `outputs_per_field` grids per input fit in memory.
+    fn prepared_many<'c>(
         &self,
-        coeffs: &'c Coefficients,
-        outputs: usize,
-    ) -> Result<Cow<'c, Coefficients>> {
-        coeffs.check_finite()?;
+        coeffs: &[&'c Coefficients],
+        outputs_per_field: usize,
+    ) -> Result<Vec<Cow<'c, Coefficients>>> {
+        for c in coeffs {
+            c.check_finite()?;
+        }
+        let nf = coeffs.len();
         memory::check_fits(
             &format!(
-                "synthesis to degree {} on a {} x {} grid",
+                "synthesis of {nf} field(s) to degree {} on a {} x {} grid",
                 self.lmax,
                 self.grid.nlat(),
                 self.grid.nlon
             ),
-            self.synthesis_bytes(outputs),
+            self.synthesis_bytes_many(outputs_per_field * nf, nf),
         )?;
+        coeffs.iter().map(|c| self.prepared(c)).collect()
+    }
+
+    /// One input as `geodesy` coefficients of the plan's degree, borrowed when it already is.
+    fn prepared<'c>(&self, coeffs: &'c Coefficients) -> Result<Cow<'c, Coefficients>> {
         if coeffs.normalization == Normalization::Geodesy
             && !coeffs.condon_shortley
             && coeffs.lmax() == self.lmax
@@ -350,13 +452,14 @@ impl TransformPlan {
         }))
     }
 
+    /// The Legendre stage of a synthesis of every set in `g`: values of set k into `out[k]`,
+    /// or for gradients ∂/∂θ into `out[2k]` and (1/sin θ) ∂/∂λ into `out[2k + 1]`.
     fn legendre_synthesis(
         &self,
-        g: &Coefficients,
+        g: &[Cow<'_, Coefficients>],
         orders: Range<usize>,
         grad: bool,
-        out0: &mut Array2<f64>,
-        out1: Option<&mut Array2<f64>>,
+        out: Vec<&mut Array2<f64>>,
     ) {
         let interior: Vec<Lane>;
         let lanes: &[Lane] = if grad {
@@ -365,28 +468,47 @@ impl TransformPlan {
         } else {
             &self.lanes
         };
+        let columns: Vec<(Vec<f64>, Vec<f64>)> = g
+            .par_iter()
+            .map(|c| {
+                (
+                    order_major(c.c_packed(), self.lmax),
+                    order_major(c.s_packed(), self.lmax),
+                )
+            })
+            .collect();
+        let fields: Vec<(&[f64], &[f64])> = columns
+            .iter()
+            .map(|(c, s)| (c.as_slice(), s.as_slice()))
+            .collect();
         let job = SynthJob {
             lmax: self.lmax,
             lanes,
             sectoral_factors: &self.sectoral_factors,
-            c: g.c_packed(),
-            s: g.s_packed(),
+            fields: &fields,
             rotation: &self.rotation,
         };
         let lmax = self.lmax;
         let (nlat, nlon) = self.grid.shape();
         let orders = orders.start.min(lmax + 1)..orders.end.min(lmax + 1);
+        assert_eq!(
+            out.len(),
+            g.len() * if grad { 2 } else { 1 },
+            "output grids"
+        );
         let mut grids = FourierGrids::new(
-            out0.as_slice_mut().expect("standard layout"),
-            out1.map(|a| a.as_slice_mut().expect("standard layout")),
+            out.into_iter()
+                .map(|a| a.as_slice_mut().expect("standard layout"))
+                .collect(),
             nlat,
             nlon,
             lmax,
         );
         let kernels = self.kernels;
+        let nf = g.len();
         grids.for_each_order(
             orders,
-            || OrderScratch::new(lmax),
+            || OrderScratch::new(lmax, nf),
             |sc, columns| kernels.synth(grad, &job, sc, columns),
         );
     }
@@ -488,27 +610,46 @@ pub fn plan_memory_bytes(lmax: usize, nlat: usize, nlon: usize) -> u64 {
 /// Bytes a synthesis to `lmax` on an nlat × nlon grid needs beyond its input, for `outputs`
 /// grids ([`TransformPlan::synthesis_bytes`] of such a plan).
 pub fn synthesis_memory_bytes(lmax: usize, nlat: usize, nlon: usize, outputs: usize) -> u64 {
+    synthesis_memory_bytes_many(lmax, nlat, nlon, outputs, 1)
+}
+
+/// As [`synthesis_memory_bytes`] for `fields` coefficient sets at once (`outputs` grids in
+/// all).
+pub fn synthesis_memory_bytes_many(
+    lmax: usize,
+    nlat: usize,
+    nlon: usize,
+    outputs: usize,
+    fields: usize,
+) -> u64 {
     let threads = rayon::current_num_threads() as u64;
+    // the converted input and its order-major copy, per field
     (outputs * nlat * nlon * 8) as u64
-        + (2 * packed_len(lmax) * 8) as u64
-        + threads * (OrderScratch::bytes(lmax) + (nlon as u64) * 48)
+        + (fields * 4 * packed_len(lmax) * 8) as u64
+        + threads * (OrderScratch::bytes(lmax, fields) + (nlon as u64) * 48)
 }
 
 /// Bytes an analysis to `lmax` needs beyond its input, for a grid of `nlon` longitudes whose
 /// rings form `lanes` lanes (nlat, or ⌈nlat/2⌉ for a grid symmetric about the equator)
 /// ([`TransformPlan::analysis_bytes`] of such a plan).
 pub fn analysis_memory_bytes(lmax: usize, nlon: usize, lanes: usize) -> u64 {
-    let threads = rayon::current_num_threads() as u64;
-    (2 * packed_len(lmax) * 8) as u64
-        + analysis_chunk_lanes(lmax, lanes) as u64 * 2 * (lmax as u64 + 1) * 16
-        + threads * (OrderScratch::bytes(lmax) + (nlon as u64) * 48)
+    analysis_memory_bytes_many(lmax, nlon, lanes, 1)
 }
 
-/// Lanes whose ring spectra an analysis holds at once: as many as fit in
-/// `ANALYSIS_CHUNK_BYTES`, a multiple of 16, no more than the grid has.
-fn analysis_chunk_lanes(lmax: usize, lanes: usize) -> usize {
-    let per_lane = 2 * (lmax + 1) * 16;
-    let w = 16; // a multiple of every path's lane count
+/// As [`analysis_memory_bytes`] for `fields` fields at once.
+pub fn analysis_memory_bytes_many(lmax: usize, nlon: usize, lanes: usize, fields: usize) -> u64 {
+    let threads = rayon::current_num_threads() as u64;
+    let fields64 = fields as u64;
+    fields64 * (2 * packed_len(lmax) * 8) as u64
+        + fields64 * analysis_chunk_lanes(lmax, lanes, fields) as u64 * 2 * (lmax as u64 + 1) * 16
+        + threads * (OrderScratch::bytes(lmax, fields) + (nlon as u64) * 48)
+}
+
+/// Lanes whose ring spectra an analysis of `fields` fields holds at once: as many as fit in
+/// `ANALYSIS_CHUNK_BYTES` for all fields together, a multiple of 32, no more than the grid has.
+fn analysis_chunk_lanes(lmax: usize, lanes: usize, fields: usize) -> usize {
+    let per_lane = 2 * (lmax + 1) * 16 * fields.max(1);
+    let w = 32; // a multiple of every path's lane count
     let chunk = (ANALYSIS_CHUNK_BYTES / per_lane).max(w) / w * w;
     chunk.min(lanes.div_ceil(w) * w)
 }

@@ -5,6 +5,13 @@
 //! three-column relation, so the result holds at any degree and at the poles. At a pole,
 //! (1/sin θ) ∂f/∂λ is the limit along the meridian λ (only order 1 contributes).
 //! Points run in parallel; the cost is O(L²) per point.
+//!
+//! Points go through in groups of 16, one SIMD lane per point: every group streams the order
+//! tables once and the 16 column recursions run side by side. The group code is compiled three
+//! times, for the instruction sets of the transform kernels (`KernelPath`: AVX-512, AVX2 + FMA,
+//! portable), and the widest one this CPU has is chosen at run time; the AVX copies fuse their
+//! multiply–adds. The portable copy is the reference the others are tested against
+//! (`tests/sht/points.rs`).
 
 use rayon::prelude::*;
 
@@ -13,6 +20,7 @@ use crate::error::{Error, Result};
 
 use crate::coeffs::packed_len;
 
+use super::kernel::KernelPath;
 use super::legendre::recursion::{a_lm, b_lm, column_start, sectoral, sectoral_factors};
 use super::legendre::{order_one_over_sin_at_pole, ColatitudeCos, Pole};
 
@@ -28,6 +36,22 @@ pub struct PointValue {
 
 /// Evaluates `coeffs` (any normalisation) at points given as (colatitude, longitude) in radians.
 pub fn evaluate_points(coeffs: &Coefficients, points: &[(f64, f64)]) -> Result<Vec<PointValue>> {
+    evaluate_points_with_path(coeffs, points, KernelPath::detect())
+}
+
+/// As [`evaluate_points`] on a given instruction-set path (refused when this CPU lacks it), for
+/// testing each compiled copy against the portable one.
+pub fn evaluate_points_with_path(
+    coeffs: &Coefficients,
+    points: &[(f64, f64)],
+    path: KernelPath,
+) -> Result<Vec<PointValue>> {
+    if !path.is_supported() {
+        return Err(Error::invalid(format!(
+            "this CPU cannot run the {} kernels",
+            path.name()
+        )));
+    }
     coeffs.check_finite()?;
     if let Some((i, p)) = points.iter().enumerate().find(|(_, (t, l))| {
         !t.is_finite() || !l.is_finite() || *t < 0.0 || *t > std::f64::consts::PI
@@ -46,7 +70,7 @@ pub fn evaluate_points(coeffs: &Coefficients, points: &[(f64, f64)]) -> Result<V
         .par_chunks(GROUP)
         .map_init(
             || PointScratch::<GROUP>::new(g.lmax()),
-            |sc, group| evaluate_group(&table, sc, group),
+            |sc, group| evaluate_group_on(path, &table, sc, group),
         )
         .flatten_iter()
         .collect();
@@ -54,7 +78,7 @@ pub fn evaluate_points(coeffs: &Coefficients, points: &[(f64, f64)]) -> Result<V
         rest.par_chunks(4)
             .map_init(
                 || PointScratch::<4>::new(g.lmax()),
-                |sc, group| evaluate_group(&table, sc, group),
+                |sc, group| evaluate_group::<4, false>(&table, sc, group),
             )
             .flatten_iter()
             .collect::<Vec<_>>(),
@@ -160,7 +184,8 @@ impl<const G: usize> PointScratch<G> {
 /// run side by side; plain multiply and add, since a software `mul_add` would cost more than
 /// the point.
 #[allow(clippy::too_many_arguments)]
-fn group_column<const G: usize>(
+#[inline(always)]
+fn group_column<const G: usize, const FUSED: bool>(
     t: &OrderTable,
     m: usize,
     x: &[f64; G],
@@ -207,14 +232,62 @@ fn group_column<const G: usize>(
         l += 1;
         let (al, bl) = (a[l], b[l]);
         for i in 0..G {
-            let next = (al * x[i] * p1[i] - bl * p0[i]) + al * x_lo[i] * p1[i];
+            let next = if FUSED {
+                (al * x[i]).mul_add(p1[i], (al * x_lo[i]).mul_add(p1[i], -bl * p0[i]))
+            } else {
+                (al * x[i] * p1[i] - bl * p0[i]) + al * x_lo[i] * p1[i]
+            };
             p0[i] = p1[i];
             p1[i] = next;
         }
     }
 }
 
-fn evaluate_group<const G: usize>(
+/// One full group on `path` (supported by this CPU, checked by the caller).
+fn evaluate_group_on(
+    path: KernelPath,
+    t: &OrderTable,
+    sc: &mut PointScratch<GROUP>,
+    group: &[(f64, f64)],
+) -> Vec<PointValue> {
+    match path {
+        // SAFETY (both arms): `evaluate_points_with_path` refused the path unless
+        // `is_supported()` (runtime CPU detection) confirmed avx512f, avx2 and fma, or avx2
+        // and fma, on this CPU; that is all the target features of the called copy.
+        #[cfg(target_arch = "x86_64")]
+        #[allow(unsafe_code)]
+        KernelPath::Avx512 => unsafe { evaluate_group_avx512(t, sc, group) },
+        #[cfg(target_arch = "x86_64")]
+        #[allow(unsafe_code)]
+        KernelPath::Avx2Fma => unsafe { evaluate_group_avx2(t, sc, group) },
+        _ => evaluate_group::<GROUP, { super::kernel::PORTABLE_FUSED }>(t, sc, group),
+    }
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx2,fma")]
+#[allow(unsafe_code)]
+unsafe fn evaluate_group_avx512(
+    t: &OrderTable,
+    sc: &mut PointScratch<GROUP>,
+    group: &[(f64, f64)],
+) -> Vec<PointValue> {
+    evaluate_group::<GROUP, true>(t, sc, group)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+#[allow(unsafe_code)]
+unsafe fn evaluate_group_avx2(
+    t: &OrderTable,
+    sc: &mut PointScratch<GROUP>,
+    group: &[(f64, f64)],
+) -> Vec<PointValue> {
+    evaluate_group::<GROUP, true>(t, sc, group)
+}
+
+#[inline(always)]
+fn evaluate_group<const G: usize, const FUSED: bool>(
     t: &OrderTable,
     sc: &mut PointScratch<G>,
     group: &[(f64, f64)],
@@ -231,10 +304,10 @@ fn evaluate_group<const G: usize>(
     }
     let poles: [Option<Pole>; G] = std::array::from_fn(|i| Pole::at(pt(i).0));
     let mut out = [PointValue::default(); G];
-    group_column(t, 0, &x, &x_lo, &u, &mut sc.starts, &mut sc.here);
+    group_column::<G, FUSED>(t, 0, &x, &x_lo, &u, &mut sc.starts, &mut sc.here);
     for m in 0..=lmax {
         if m < lmax {
-            group_column(t, m + 1, &x, &x_lo, &u, &mut sc.starts, &mut sc.above);
+            group_column::<G, FUSED>(t, m + 1, &x, &x_lo, &u, &mut sc.starts, &mut sc.above);
         }
         let n = lmax - m + 1;
         let (c, s) = (t.run(&t.c, m), t.run(&t.s, m));
@@ -253,10 +326,17 @@ fn evaluate_group<const G: usize>(
                 } else {
                     0.5 * (fd[k] * below[k + 1][i] - fu[k] * up[i])
                 };
-                ac[i] += ck * p;
-                as_[i] += sk * p;
-                dc[i] += ck * d;
-                ds[i] += sk * d;
+                if FUSED {
+                    ac[i] = ck.mul_add(p, ac[i]);
+                    as_[i] = sk.mul_add(p, as_[i]);
+                    dc[i] = ck.mul_add(d, dc[i]);
+                    ds[i] = sk.mul_add(d, ds[i]);
+                } else {
+                    ac[i] += ck * p;
+                    as_[i] += sk * p;
+                    dc[i] += ck * d;
+                    ds[i] += sk * d;
+                }
             }
         }
         let mf = m as f64;

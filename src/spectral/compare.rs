@@ -15,9 +15,10 @@
 //!   (2l+1, 2l+1) dof (two independent χ²(2l+1)/(2l+1) estimates; correlated models make it
 //!   conservative).
 //! - Difference degree variance D_l = Σ_m ((C^A − C^B)² + (S^A − S^B)²).
-//! - Agreement: the first degree l ≥ 1 with D_l > S^A_l is where the models stop agreeing;
-//!   "agree up to" is the degree before it (the whole common range when there is none).
-//!   Degrees where the reference has no power at all are skipped.
+//! - Agreement (symmetric, docs/conventions.md §5): degree l ≥ 1 agrees when
+//!   D_l < min(S^A_l, S^B_l); degrees where neither model has power are skipped; "agree up to"
+//!   is the last degree before the first disagreeing one (the whole common range when there is
+//!   none). Swapping A and B gives the same result, and a zero model agrees with nothing.
 
 use super::comparable::make_comparable;
 use super::degree_power::{
@@ -75,10 +76,11 @@ pub struct Comparison {
     /// (errors taken as independent between the models).
     pub difference_error_degree_variance: Option<Vec<f64>>,
     pub half_wavelength_km: Vec<f64>,
-    /// Last degree before the difference first exceeds the reference's power ("agree up to").
+    /// Last degree before the first one where the difference power reaches either model's
+    /// power ("agree up to"; symmetric, see [`agreement_degree`]).
     pub agreement_degree: Option<usize>,
     pub agreement_half_wavelength_km: Option<f64>,
-    /// The first degree ≥ 1 where D_l > S^A_l, if any.
+    /// The first degree ≥ 1 where D_l ≥ min(S^A_l, S^B_l), if any.
     pub first_disagreement_degree: Option<usize>,
     /// What was done to make the models comparable.
     pub notes: Vec<String>,
@@ -102,19 +104,23 @@ fn ratio_or_nan(num: f64, den: f64) -> f64 {
     }
 }
 
-/// Degree at which models stop agreeing: (agree up to, first disagreement).
+/// Degree at which two models stop agreeing: (agree up to, first disagreement), from both
+/// models' degree variances and their difference degree variance (docs/conventions.md §5).
 ///
-/// Degrees where the reference carries no power at all (degree 1 of a model in a
-/// centre-of-mass frame, say) give no signal to compare against and are skipped.
+/// Degree l ≥ 1 agrees when `difference[l] < min(power_a[l], power_b[l])`. Degrees where
+/// neither model has power give nothing to compare and are skipped; where only one has
+/// power the degree disagrees. Symmetric in `power_a` and `power_b`.
 pub fn agreement_degree(
-    reference_power: &[f64],
+    power_a: &[f64],
+    power_b: &[f64],
     difference: &[f64],
 ) -> (Option<usize>, Option<usize>) {
-    let lmax = reference_power.len().saturating_sub(1);
-    let has_signal = |l: usize| reference_power[l] > 0.0;
-    match (1..=lmax).find(|&l| has_signal(l) && difference[l] > reference_power[l]) {
+    let lmax = power_a.len().min(power_b.len()).saturating_sub(1);
+    let has_signal = |l: usize| power_a[l] > 0.0 || power_b[l] > 0.0;
+    let agrees = |l: usize| difference[l] < power_a[l].min(power_b[l]);
+    match (1..=lmax).find(|&l| has_signal(l) && !agrees(l)) {
         Some(first) => ((1..first).rev().find(|&l| has_signal(l)), Some(first)),
-        None if lmax >= 1 => (Some(lmax), None),
+        None if (1..=lmax).any(has_signal) => (Some(lmax), None),
         None => (None, None),
     }
 }
@@ -152,7 +158,7 @@ impl Comparison {
             .collect();
         let admittance = (0..=lmax).map(|l| ratio_or_nan(sab[l], sb[l])).collect();
         let radius = pair.reference.reference_radius_m;
-        let (agree, first) = agreement_degree(&sa, &diff);
+        let (agree, first) = agreement_degree(&sa, &sb, &diff);
         let difference_error = match (
             error_sum_of_squares(&pair.reference),
             error_sum_of_squares(&pair.other),
@@ -300,15 +306,15 @@ impl Comparison {
         );
         match (self.agreement_degree, self.first_disagreement_degree) {
             (Some(l), None) => out += &format!(
-                "agree up to degree {l} (half-wavelength {:.0} km): difference power stays below the reference's power over the whole common range\n",
+                "agree up to degree {l} (half-wavelength {:.0} km): difference power stays below both models' powers over the whole common range\n",
                 self.half_wavelength_km[l]
             ),
             (Some(l), Some(first)) => out += &format!(
-                "agree up to degree {l} (half-wavelength {:.0} km); from degree {first} the difference power exceeds the reference's power\n",
+                "agree up to degree {l} (half-wavelength {:.0} km); from degree {first} the difference power reaches one model's power\n",
                 self.half_wavelength_km[l]
             ),
-            (None, Some(first)) => out += &format!("no agreement: difference power exceeds the reference's power already at degree {first}\n"),
-            (None, None) => out += "too few degrees to judge agreement\n",
+            (None, Some(first)) => out += &format!("no agreement: difference power reaches one model's power already at degree {first}\n"),
+            (None, None) => out += "too few degrees with power to judge agreement\n",
         }
         let significant = (1..=self.lmax)
             .filter(|&l| self.correlation[l] > self.correlation_threshold[l])
@@ -328,21 +334,41 @@ mod tests {
 
     #[test]
     fn agreement_rule() {
-        // D exceeds S^A first at degree 4 → agree up to 3
+        // D reaches min(S^A, S^B) first at degree 4 → agree up to 3
         let sa = [1.0, 1.0, 1.0, 1.0, 1.0, 1.0];
+        let sb = [1.0, 1.2, 0.8, 1.0, 1.0, 1.0];
         let d = [5.0, 0.1, 0.2, 0.9, 1.5, 0.5];
-        assert_eq!(agreement_degree(&sa, &d), (Some(3), Some(4)));
-        assert_eq!(agreement_degree(&sa, &[0.0; 6]), (Some(5), None));
+        assert_eq!(agreement_degree(&sa, &sb, &d), (Some(3), Some(4)));
+        assert_eq!(agreement_degree(&sb, &sa, &d), (Some(3), Some(4)));
+        assert_eq!(agreement_degree(&sa, &sa, &[0.0; 6]), (Some(5), None));
         assert_eq!(
-            agreement_degree(&sa, &[0.0, 2.0, 0.0, 0.0, 0.0, 0.0]),
+            agreement_degree(&sa, &sa, &[0.0, 2.0, 0.0, 0.0, 0.0, 0.0]),
             (None, Some(1))
         );
-        // a degree without reference power is skipped, not counted as disagreement
-        let sa0 = [1.0, 0.0, 1.0, 1.0, 1.0, 1.0];
-        let d0 = [0.0, 1e-9, 0.1, 2.0, 0.0, 0.0];
-        assert_eq!(agreement_degree(&sa0, &d0), (Some(2), Some(3)));
-        let d1 = [0.0, 1e-9, 2.0, 0.0, 0.0, 0.0];
-        assert_eq!(agreement_degree(&sa0, &d1), (None, Some(2)));
+        // the smaller power decides: 0.85 > 0.8 at degree 2
+        let d2 = [0.0, 0.1, 0.85, 0.1, 0.1, 0.1];
+        assert_eq!(agreement_degree(&sa, &sb, &d2), (Some(1), Some(2)));
+        assert_eq!(agreement_degree(&sb, &sa, &d2), (Some(1), Some(2)));
+    }
+
+    #[test]
+    fn a_zero_model_agrees_with_nothing_either_way() {
+        let sa = [1.0, 1.0, 1.0, 1.0];
+        let zero = [0.0; 4];
+        // the difference of A and zero is A itself
+        assert_eq!(agreement_degree(&sa, &zero, &sa), (None, Some(1)));
+        assert_eq!(agreement_degree(&zero, &sa, &sa), (None, Some(1)));
+        // two zero models: nothing to judge
+        assert_eq!(agreement_degree(&zero, &zero, &zero), (None, None));
+    }
+
+    #[test]
+    fn degrees_without_power_in_either_model_are_skipped() {
+        let sa = [1.0, 0.0, 1.0, 1.0, 1.0, 1.0];
+        let d0 = [0.0, 0.0, 0.1, 2.0, 0.0, 0.0];
+        assert_eq!(agreement_degree(&sa, &sa, &d0), (Some(2), Some(3)));
+        let d1 = [0.0, 0.0, 2.0, 0.0, 0.0, 0.0];
+        assert_eq!(agreement_degree(&sa, &sa, &d1), (None, Some(2)));
     }
 
     #[test]

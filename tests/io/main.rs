@@ -2,6 +2,8 @@
 //! One test binary per area; each module below was a test file of its own.
 
 mod equiangular;
+mod files_as_written;
 mod grid_read;
+mod mutated_files;
 mod netcdf_files;
 mod text_parser_props;

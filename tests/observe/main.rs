@@ -2,6 +2,8 @@
 //! One test binary per area; each module below was a test file of its own.
 
 mod fit;
+mod fitting;
+mod functionals;
 mod gridding;
 mod points;
 mod spatial;

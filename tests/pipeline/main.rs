@@ -2,4 +2,5 @@
 //! One test binary per area; each module below was a test file of its own.
 
 mod config;
+mod config_fuzz;
 mod steps;

@@ -80,7 +80,21 @@ fn each_kind_accepts_exactly_its_documented_keys() {
             StepKind::Grid,
             &["input", "lmax", "method", "radius_km", "neighbours", "gaps"],
         ),
-        (StepKind::Fit, &["input", "lmax", "regularization"]),
+        (
+            StepKind::Fit,
+            &[
+                "input",
+                "inputs",
+                "weights",
+                "fix_degrees",
+                "normal_field",
+                "external_lmax",
+                "epoch",
+                "robust",
+                "lmax",
+                "regularization",
+            ],
+        ),
         (StepKind::Analyze, &["input", "lmax"]),
         (StepKind::Spectrum, &["model", "confidence", "fit_range"]),
         (
@@ -224,7 +238,19 @@ fn two_steps_writing_the_same_file_are_refused() {
     )
     .unwrap_err();
     assert!(
-        err.contains("steps.x_model: would write x_model.nc, as x does; rename the step"),
+        err.contains(
+            "steps.x_model: would write x_model.nc, as x writes x_model.nc; rename the step"
+        ),
+        "{err}"
+    );
+    // names differing only in case clash on case-insensitive file systems
+    let err = load(
+        tmp.path(),
+        "[steps.Ridge]\nkind = \"fit\"\ninput = \"pts\"\nlmax = 3\n[steps.ridge]\nkind = \"fit\"\ninput = \"pts\"\nlmax = 3\n",
+    )
+    .unwrap_err();
+    assert!(
+        err.contains("steps.ridge: would write ridge_model.nc, as Ridge writes Ridge_model.nc"),
         "{err}"
     );
 }

@@ -3,8 +3,11 @@
 
 mod common;
 mod errors;
+mod gauss_legendre_fast;
 mod kernel_accuracy;
 mod legendre;
+mod many_fields;
 mod points;
 mod quadrature;
+mod rotation;
 mod roundtrip;

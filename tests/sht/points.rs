@@ -110,3 +110,56 @@ fn order_and_ring_ranges_add_up_to_the_whole() {
         .fold(0.0f64, |m, (a, b)| m.max((a - b).abs()));
     assert!(e < 1e-13, "{e}");
 }
+
+#[test]
+fn every_instruction_set_path_matches_the_portable_points() {
+    // The AVX copies of the point groups (fused multiply–add) against the portable copy
+    // (separate multiply and add unless the target fuses), at L = 300 with points from pole to
+    // pole, both poles and a partial last group. Tolerance as for the grouped-vs-column check:
+    // 1e-12 of the value scale away from the poles; within sin θ < 0.05 the recursion's own
+    // rounding grows like L^1.5 ulp (double characteristic root at x = 1): 4 ε L^1.5 there.
+    use kugel::sht::{evaluate_points_with_path, KernelPath};
+    let lmax = 300;
+    let c = sample(lmax, 21);
+    let mut pts: Vec<(f64, f64)> = (0..45)
+        .map(|i| {
+            let t = i as f64 / 44.0;
+            (
+                std::f64::consts::PI * t * t * (3.0 - 2.0 * t),
+                0.41 * i as f64 - 3.0,
+            )
+        })
+        .collect();
+    pts.push((1e-4, 0.3));
+    let reference = evaluate_points_with_path(&c, &pts, KernelPath::Portable).unwrap();
+    let scale = reference.iter().fold(0.0f64, |m, v| {
+        m.max(v.value.abs())
+            .max(v.d_theta.abs())
+            .max(v.d_lambda_over_sin.abs())
+    });
+    assert!(scale > 0.0);
+    let mut compared = 0;
+    for path in KernelPath::available() {
+        let got = evaluate_points_with_path(&c, &pts, path).unwrap();
+        for (k, ((theta, _), (a, b))) in pts.iter().zip(got.iter().zip(&reference)).enumerate() {
+            let rel = if theta.sin() < 0.05 {
+                4.0 * f64::EPSILON * (lmax as f64).powf(1.5)
+            } else {
+                1e-12
+            };
+            for (x, y) in [
+                (a.value, b.value),
+                (a.d_theta, b.d_theta),
+                (a.d_lambda_over_sin, b.d_lambda_over_sin),
+            ] {
+                assert!(
+                    (x - y).abs() <= rel * scale,
+                    "{}: point {k} (θ = {theta}): {x} vs {y}",
+                    path.name()
+                );
+            }
+        }
+        compared += 1;
+    }
+    assert!(compared >= 1);
+}

@@ -10,5 +10,6 @@ mod filter_wiener;
 mod lowes;
 mod plots;
 mod quantiles;
+mod regional;
 mod spectrum;
 mod support;

@@ -83,9 +83,30 @@ impl FieldOptions {
 
 /// Reads a model and truncates (or zero-pads) it to `lmax` when asked.
 pub fn read_model_truncated(path: &Path, lmax: Option<usize>) -> anyhow::Result<Coefficients> {
-    let model = kugel::io::model::read_model(path)?;
+    if let Some(l) = lmax {
+        // before the file is read: a typed degree alone can be refused
+        kugel::memory::check_coefficients_fit("the model truncated or padded to --lmax", l)?;
+    }
+    resize_model(path, kugel::io::model::read_model(path)?, lmax)
+}
+
+/// Truncates or zero-pads a model read from `path` to `lmax` when asked, refusing first when
+/// the padded copy would not fit in memory.
+pub fn resize_model(
+    path: &Path,
+    model: Coefficients,
+    lmax: Option<usize>,
+) -> anyhow::Result<Coefficients> {
     Ok(match lmax {
-        Some(l) => model.resized(l),
+        Some(l) => {
+            // refuse before the zero-padded copy is allocated
+            let arrays = if model.sigmas().is_some() { 4.0 } else { 2.0 };
+            kugel::memory::check_fits(
+                &format!("{} padded or cut to degree {l}", path.display()),
+                kugel::sht::budget::coefficient_set_bytes(l, arrays / 2.0) as u64,
+            )?;
+            model.resized(l)
+        }
         None => model,
     })
 }
@@ -150,26 +171,5 @@ pub fn target_surface(
     radius_km: Option<f64>,
 ) -> kugel::Result<kugel::field::TargetSurface> {
     use kugel::field::TargetSurface;
-    Ok(match (altitude_km, radius_km) {
-        (Some(_), Some(_)) => {
-            return Err(Error::invalid(
-                "give either --altitude-km or --radius-km, not both",
-            ))
-        }
-        (Some(h), None) if h.is_finite() => TargetSurface::Altitude {
-            altitude_m: h * 1e3,
-        },
-        (None, Some(r)) if r.is_finite() && r > 0.0 => TargetSurface::Radius { radius_m: r * 1e3 },
-        (None, None) => TargetSurface::ReferenceSphere,
-        (Some(h), None) => {
-            return Err(Error::invalid(format!(
-                "--altitude-km must be finite, got {h}"
-            )))
-        }
-        (None, Some(r)) => {
-            return Err(Error::invalid(format!(
-                "--radius-km must be positive, got {r}"
-            )))
-        }
-    })
+    TargetSurface::from_km(altitude_km, radius_km, "--altitude-km", "--radius-km")
 }

@@ -9,7 +9,8 @@ use crate::commands::CommandContext;
 /// How point files are read; shared by `kugel grid` and `kugel fit`.
 #[derive(Debug, Clone, clap::Args)]
 pub struct PointInputArgs {
-    /// Column (CSV) or variable (NetCDF) names, e.g. `lat=LAT,lon=LON,value=G,sigma=ERR`.
+    /// Column (CSV) or variable (NetCDF) names, e.g. `lat=LAT,lon=LON,value=G,sigma=ERR`
+    /// (also quantity, altitude_km, height_m, time for `kugel fit`).
     #[arg(long, value_name = "KEY=NAME,...")]
     pub columns: Option<String>,
     /// What to do with rows that fail validation: `error` (default) or `skip` (skip and count).
@@ -26,10 +27,21 @@ pub struct PointInputArgs {
 impl PointInputArgs {
     /// Reads and validates the points, printing the read report unless quiet.
     pub fn read(&self, path: &Path, ctx: &CommandContext) -> anyhow::Result<PointSet> {
+        self.read_with_columns(path, None, ctx)
+    }
+
+    /// As [`PointInputArgs::read`] with a column map that replaces `--columns`.
+    pub fn read_with_columns(
+        &self,
+        path: &Path,
+        columns: Option<&ColumnNames>,
+        ctx: &CommandContext,
+    ) -> anyhow::Result<PointSet> {
         let options = PointReadOptions {
-            columns: match &self.columns {
-                Some(spec) => ColumnNames::parse(spec)?,
-                None => ColumnNames::default(),
+            columns: match (columns, &self.columns) {
+                (Some(c), _) => c.clone(),
+                (None, Some(spec)) => ColumnNames::parse(spec)?,
+                (None, None) => ColumnNames::default(),
             },
             on_bad_row: self.on_bad_row.parse::<BadRowPolicy>()?,
             ..Default::default()

@@ -55,6 +55,7 @@ pub fn synthetic_points(n: usize, seed: u64) -> PointSet {
         value,
         sigma: Some(vec![0.01; n]),
         source_lines: (0..n).collect(),
+        extras: Default::default(),
     }
 }
 

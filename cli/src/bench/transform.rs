@@ -1,5 +1,11 @@
 //! `kugel bench --case transform`: synthesis then analysis on the Gauss grid of degree L with
-//! seeded N(0, 1) coefficients; median times over K repeats, round-trip error and peak memory.
+//! seeded N(0, 1) coefficients; median times over the repeats, round-trip error, peak memory,
+//! and the machine's FMA peak measured in the same run (`fma_peak`), against which both
+//! directions are stated as fractions (rate = 2·(L+1)³·fields / time).
+//!
+//! With `fields` = K > 1, K coefficient sets are transformed on the same plan and the times are
+//! for all K together, by the plan's many-field transforms (`synthesise_many`, `analyse_many`:
+//! each Legendre value is computed once and applied to the K fields).
 
 use std::time::Instant;
 
@@ -7,12 +13,17 @@ use rand::SeedableRng;
 use rand_distr::{Distribution, StandardNormal};
 
 use kugel::coeffs::{Coefficients, Normalization};
+use kugel::sht::budget::{check_transform_job, gauss_grid_shape};
 use kugel::sht::{GaussGrid, TransformPlan};
+
+use super::fma_peak::measure_fma_peak;
 
 /// What the transform benchmark measures.
 #[derive(Debug, Clone)]
 pub struct TransformBenchArgs {
     pub lmax: usize,
+    /// Coefficient sets transformed together (K ≥ 1).
+    pub fields: usize,
     pub threads: usize,
     pub repeat: usize,
     pub json: bool,
@@ -29,6 +40,11 @@ pub struct TransformBenchResult {
     pub threads: usize,
     pub kernel: String,
     pub repeat: usize,
+    /// Coefficient sets transformed per direction; `synthesis_s` and `analysis_s` are for all
+    /// of them together.
+    pub fields: usize,
+    /// How the K fields are transformed.
+    pub fields_method: &'static str,
     /// Gauss–Legendre nodes and weights with the grid (part of `plan_s`), seconds.
     pub gauss_grid_s: f64,
     pub plan_s: f64,
@@ -38,6 +54,14 @@ pub struct TransformBenchResult {
     /// 2 (L+1)³ / t for each direction, GFLOP/s (the rate measure).
     pub synthesis_gflops: f64,
     pub analysis_gflops: f64,
+    /// All-thread FP64 FMA rate of this machine, measured in this run (see `fma_peak`).
+    pub fma_peak_gflops: f64,
+    /// The instruction set of the FMA loop (the kernels' own).
+    pub fma_peak_kernel: String,
+    /// `synthesis_gflops` / `fma_peak_gflops`.
+    pub synthesis_peak_fraction: f64,
+    /// `analysis_gflops` / `fma_peak_gflops`.
+    pub analysis_peak_fraction: f64,
     pub peak_rss_mb: f64,
 }
 
@@ -64,23 +88,49 @@ fn median(mut v: Vec<f64>) -> f64 {
     v[v.len() / 2]
 }
 
+/// The pool size a benchmark runs with: all cores for 0, else `requested`, refused beyond
+/// four times the cores (more threads only measure the scheduler, and a huge count would
+/// spend minutes creating them).
+pub fn bench_threads(requested: usize) -> anyhow::Result<usize> {
+    let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
+    let limit = 4 * cores;
+    if requested > limit {
+        return Err(kugel::Error::invalid(format!(
+            "--threads {requested}: at most {limit} on this machine (4 x its {cores} cores; 0 = all cores)"
+        ))
+        .into());
+    }
+    Ok(if requested == 0 { cores } else { requested })
+}
+
 /// Runs the benchmark in a pool of `threads` threads.
 pub fn run_transform_bench(args: &TransformBenchArgs) -> anyhow::Result<TransformBenchResult> {
-    let threads = if args.threads == 0 {
-        std::thread::available_parallelism().map_or(1, |n| n.get())
-    } else {
-        args.threads
-    };
+    let threads = bench_threads(args.threads)?;
+    let fields = args.fields.max(1);
+    let lmax = args.lmax;
+    // refuse before any node, table or grid exists: K fields, K inputs and K outputs
+    check_transform_job(
+        &format!("the transform benchmark with {fields} field(s)"),
+        lmax,
+        gauss_grid_shape(lmax),
+        fields as f64,
+        2.0 * fields as f64,
+    )?;
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(threads)
         .build()?;
     pool.install(|| {
-        let lmax = args.lmax;
         let say = |msg: String| {
             if !args.quiet && !args.json {
                 eprintln!("{msg}");
             }
         };
+        let peak = measure_fma_peak(3, 0.2);
+        say(format!(
+            "FMA peak {:.1} GFLOP/s on {threads} threads ({} loop)",
+            peak.gflops,
+            peak.path.name()
+        ));
         let t = Instant::now();
         let grid = GaussGrid::new(lmax);
         let gauss_grid_s = t.elapsed().as_secs_f64();
@@ -92,18 +142,33 @@ pub fn run_transform_bench(args: &TransformBenchArgs) -> anyhow::Result<Transfor
             grid.nlon,
             plan.kernel_path().name()
         ));
-        let input = random_coefficients(lmax, args.seed);
+        let inputs: Vec<Coefficients> = (0..fields)
+            .map(|k| random_coefficients(lmax, args.seed.wrapping_add(k as u64)))
+            .collect();
         let (mut ts, mut ta) = (Vec::new(), Vec::new());
-        let mut err = 0.0;
+        let mut err = 0.0f64;
         for k in 0..args.repeat.max(1) {
             let t = Instant::now();
-            let field = plan.synthesise(&input)?;
+            let refs: Vec<&Coefficients> = inputs.iter().collect();
+            let grids = if fields == 1 {
+                vec![plan.synthesise(refs[0])?]
+            } else {
+                plan.synthesise_many(&refs)?
+            };
             ts.push(t.elapsed().as_secs_f64());
             let t = Instant::now();
-            let back = plan.analyse(&field)?;
+            let back = if fields == 1 {
+                vec![plan.analyse(&grids[0])?]
+            } else {
+                plan.analyse_many(&grids.iter().collect::<Vec<_>>())?
+            };
             ta.push(t.elapsed().as_secs_f64());
-            drop(field);
-            err = relative_error(&input, &back);
+            drop(grids);
+            err = inputs
+                .iter()
+                .zip(&back)
+                .map(|(a, b)| relative_error(a, b))
+                .fold(0.0, f64::max);
             say(format!(
                 "  repeat {}: synthesis {:.3} s, analysis {:.3} s, round-trip error {err:.2e}",
                 k + 1,
@@ -112,7 +177,7 @@ pub fn run_transform_bench(args: &TransformBenchArgs) -> anyhow::Result<Transfor
             ));
         }
         let (s, a) = (median(ts), median(ta));
-        let flops = 2.0 * ((lmax + 1) as f64).powi(3) / 1e9;
+        let flops = fields as f64 * 2.0 * ((lmax + 1) as f64).powi(3) / 1e9;
         Ok(TransformBenchResult {
             lmax,
             nlat: grid.nlat(),
@@ -120,6 +185,12 @@ pub fn run_transform_bench(args: &TransformBenchArgs) -> anyhow::Result<Transfor
             threads,
             kernel: plan.kernel_path().name().to_string(),
             repeat: args.repeat.max(1),
+            fields,
+            fields_method: if fields == 1 {
+                "single"
+            } else {
+                "many-field transforms (one Legendre pass for all fields)"
+            },
             gauss_grid_s,
             plan_s,
             synthesis_s: s,
@@ -127,6 +198,10 @@ pub fn run_transform_bench(args: &TransformBenchArgs) -> anyhow::Result<Transfor
             roundtrip_rel_err: err,
             synthesis_gflops: flops / s,
             analysis_gflops: flops / a,
+            fma_peak_gflops: peak.gflops,
+            fma_peak_kernel: peak.path.name().to_string(),
+            synthesis_peak_fraction: flops / s / peak.gflops,
+            analysis_peak_fraction: flops / a / peak.gflops,
             peak_rss_mb: kugel::memory::peak_rss_mib().unwrap_or(f64::NAN),
         })
     })
@@ -157,12 +232,22 @@ pub fn print_result(r: &TransformBenchResult, json: bool) -> anyhow::Result<()> 
         println!("{}", serde_json::to_string(r)?);
     } else {
         println!(
-            "lmax {}  grid {} x {}  threads {}  kernels {}",
-            r.lmax, r.nlat, r.nlon, r.threads, r.kernel
+            "lmax {}  grid {} x {}  threads {}  kernels {}  fields {} ({})",
+            r.lmax, r.nlat, r.nlon, r.threads, r.kernel, r.fields, r.fields_method
         );
         println!(
-            "synthesis {:.3} s ({:.1} GFLOP/s equiv.)  analysis {:.3} s ({:.1} GFLOP/s equiv.)  (median of {})",
-            r.synthesis_s, r.synthesis_gflops, r.analysis_s, r.analysis_gflops, r.repeat
+            "synthesis {:.3} s ({:.1} GFLOP/s equiv., {:.2} of peak)  analysis {:.3} s ({:.1} GFLOP/s equiv., {:.2} of peak)  (median of {})",
+            r.synthesis_s,
+            r.synthesis_gflops,
+            r.synthesis_peak_fraction,
+            r.analysis_s,
+            r.analysis_gflops,
+            r.analysis_peak_fraction,
+            r.repeat
+        );
+        println!(
+            "FMA peak {:.1} GFLOP/s ({} loop, all threads, measured in this run)",
+            r.fma_peak_gflops, r.fma_peak_kernel
         );
         println!(
             "round-trip relative error {:.2e}  peak RSS {:.0} MiB",
@@ -198,6 +283,7 @@ mod tests {
     fn small_bench_runs_and_reports_round_trip() {
         let r = run_transform_bench(&TransformBenchArgs {
             lmax: 31,
+            fields: 2,
             threads: 2,
             repeat: 1,
             json: true,
@@ -205,7 +291,10 @@ mod tests {
             quiet: true,
         })
         .unwrap();
-        assert_eq!((r.nlat, r.threads), (32, 2));
+        assert_eq!((r.nlat, r.threads, r.fields), (32, 2, 2));
         assert!(r.roundtrip_rel_err < 1e-13, "{}", r.roundtrip_rel_err);
+        assert!(r.fma_peak_gflops > 0.0 && r.synthesis_peak_fraction > 0.0);
+        let expected = r.synthesis_gflops / r.fma_peak_gflops;
+        assert!((r.synthesis_peak_fraction - expected).abs() <= 1e-12 * expected);
     }
 }

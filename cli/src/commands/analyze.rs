@@ -53,7 +53,10 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     let normalization: Normalization = args.normalization.parse().context("--normalization")?;
     if let Some(r) = args.reference_radius_m {
         if !(r.is_finite() && r > 0.0) {
-            anyhow::bail!("--reference-radius-m {r} must be a positive radius in metres");
+            return Err(kugel::Error::invalid(format!(
+                "--reference-radius-m {r} must be a positive radius in metres"
+            ))
+            .into());
         }
     }
     let opts = GridReadOptions {
@@ -110,10 +113,10 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     prov.normalization = Some(normalization.name().to_string());
     write_model(&args.output, &model, &prov)?;
     if !ctx.quiet {
-        eprintln!(
+        crate::outputs::wrote(format!(
             "wrote {} (degree {lmax}, {normalization})",
             args.output.display()
-        );
+        ));
     }
     Ok(())
 }

@@ -3,6 +3,7 @@
 
 use super::CommandContext;
 use crate::bench::observe::{run_fit_bench, run_gridding_bench, ObserveBenchArgs};
+use crate::bench::points::{print_points_result, run_points_bench, PointsBenchArgs};
 use crate::bench::transform::{print_result, run_transform_bench, TransformBenchArgs};
 
 /// Which benchmark to run.
@@ -14,6 +15,8 @@ pub enum Case {
     Grid,
     /// Least-squares fit of scattered observations.
     Fit,
+    /// Synthesis (values and gradients) of a degree-L model at scattered points.
+    Points,
 }
 
 #[derive(Debug, clap::Args)]
@@ -21,9 +24,13 @@ pub struct Args {
     /// Band limit (maximum degree) L.
     #[arg(long)]
     pub lmax: usize,
-    /// Worker threads (default: all cores).
+    /// Worker threads (default: all cores; at most four times the cores).
     #[arg(long, default_value_t = 0)]
     pub threads: usize,
+    /// Coefficient sets transformed together on one plan (transform case); the times are for
+    /// all of them.
+    #[arg(long, default_value_t = 1)]
+    pub fields: usize,
     /// Repeats; the median time is reported.
     #[arg(long, default_value_t = 3)]
     pub repeat: usize,
@@ -33,7 +40,7 @@ pub struct Args {
     /// What to benchmark.
     #[arg(long, value_enum, default_value_t = Case::Transform)]
     pub case: Case,
-    /// Number of scattered points (grid and fit cases).
+    /// Number of scattered points (grid, fit and points cases).
     #[arg(long, default_value_t = 100_000)]
     pub points: usize,
     /// Seed of the random inputs.
@@ -43,12 +50,16 @@ pub struct Args {
 
 pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     if args.repeat == 0 {
-        anyhow::bail!("--repeat must be at least 1");
+        return Err(kugel::Error::invalid("--repeat must be at least 1").into());
+    }
+    if args.fields == 0 {
+        return Err(kugel::Error::invalid("--fields must be at least 1").into());
     }
     match args.case {
         Case::Transform => {
             let r = run_transform_bench(&TransformBenchArgs {
                 lmax: args.lmax,
+                fields: args.fields,
                 threads: args.threads,
                 repeat: args.repeat,
                 json: args.json,
@@ -56,6 +67,16 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
                 quiet: ctx.quiet,
             })?;
             print_result(&r, args.json)
+        }
+        Case::Points => {
+            let r = run_points_bench(&PointsBenchArgs {
+                points: args.points,
+                lmax: args.lmax,
+                threads: args.threads,
+                repeat: args.repeat,
+                seed: args.seed,
+            })?;
+            print_points_result(&r, args.json)
         }
         Case::Grid | Case::Fit => {
             let o = ObserveBenchArgs {

@@ -5,10 +5,14 @@
 use std::path::PathBuf;
 
 use super::CommandContext;
+use crate::args::RegionArgs;
+use crate::progress_bar::TerminalProgress;
 use crate::tables::{display_name, TableOutputs};
 use kugel::io::model::read_model;
 use kugel::io::provenance::Provenance;
+use kugel::regional::localised_comparison;
 use kugel::report::plots::comparison_svg;
+use kugel::report::plots::regional::localised_comparison_svg;
 use kugel::spectral::{CompareOptions, Comparison};
 
 #[derive(Debug, clap::Args)]
@@ -36,6 +40,8 @@ pub struct Args {
     /// Plot title.
     #[arg(long)]
     pub title: Option<String>,
+    #[command(flatten)]
+    pub region: RegionArgs,
 }
 
 pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
@@ -47,6 +53,9 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     outputs.check(&[&args.reference, &args.other])?;
     let a = read_model(&args.reference)?;
     let b = read_model(&args.other)?;
+    if args.region.region.is_some() {
+        return run_localised(args, ctx, &outputs, &a, &b);
+    }
     let options = CompareOptions {
         confidence: args.confidence,
         force: args.force,
@@ -74,6 +83,72 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     outputs.write(&table, &provenance, || comparison_svg(&cmp, &title))?;
     if !ctx.quiet {
         outputs.report(&cmp.summary());
+    }
+    Ok(())
+}
+
+/// `--region`: localised cross-power, correlation and admittance inside the region.
+fn run_localised(
+    args: &Args,
+    ctx: &CommandContext,
+    outputs: &TableOutputs,
+    a: &kugel::Coefficients,
+    b: &kugel::Coefficients,
+) -> anyhow::Result<()> {
+    let progress = TerminalProgress::new(ctx.quiet);
+    let result = (|| -> anyhow::Result<_> {
+        let (set, choice) = args
+            .region
+            .taper_set(a.lmax().min(b.lmax()), &progress)?
+            .expect("region given");
+        let cmp = localised_comparison(a, b, &set, choice, &progress)?;
+        Ok((set, cmp))
+    })();
+    progress.finish();
+    let (set, cmp) = result?;
+    let (na, nb) = (display_name(&args.reference), display_name(&args.other));
+    let mut table = cmp.to_table();
+    table.attribute(
+        "title",
+        format!(
+            "localised comparison of {na} (reference) and {nb} in {}",
+            set.region
+        ),
+    );
+    table.number_attribute("shannon_number", set.shannon_number);
+    let mut provenance = Provenance::from_command_line(ctx.command_line.clone());
+    provenance.add_input(&args.reference)?;
+    provenance.add_input(&args.other)?;
+    provenance.lmax = Some(cmp.lmax);
+    provenance.normalization = Some("geodesy".into());
+    let title = args
+        .title
+        .clone()
+        .unwrap_or_else(|| format!("{na} vs {nb} in {}", set.region));
+    outputs.write(&table, &provenance, || {
+        localised_comparison_svg(&cmp, &title)
+    })?;
+    if !ctx.quiet {
+        let reliable: Vec<usize> = (0..=cmp.lmax).filter(|l| cmp.reliable[*l]).collect();
+        let mean_r = if reliable.is_empty() {
+            f64::NAN
+        } else {
+            reliable
+                .iter()
+                .map(|l| cmp.correlation.value[*l])
+                .sum::<f64>()
+                / reliable.len() as f64
+        };
+        outputs.report(&format!(
+            "localised comparison in {}: {} windows of degree {}, Shannon number {:.2}; mean correlation over the reliable degrees {}..{}: {:.3}\n",
+            set.region,
+            cmp.taper_count,
+            cmp.lmax_window,
+            set.shannon_number,
+            cmp.lmax_window,
+            cmp.lmax.saturating_sub(cmp.lmax_window),
+            mean_r
+        ));
     }
     Ok(())
 }

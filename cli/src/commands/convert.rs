@@ -8,8 +8,11 @@ use anyhow::Context;
 use super::CommandContext;
 use crate::args::OnOff;
 use kugel::coeffs::Normalization;
+use kugel::complex_coeffs::ComplexCoefficients;
+use kugel::error::Error;
 use kugel::io::atomic::refuse_overwrite_of_input;
-use kugel::io::model::{read_model_with_report, write_model};
+use kugel::io::model::complex_text::write_complex_text;
+use kugel::io::model::{is_netcdf_path, read_model_with_report, write_model};
 use kugel::io::provenance::Provenance;
 
 #[derive(Debug, clap::Args)]
@@ -29,6 +32,12 @@ pub struct Args {
     /// Normalisation of a text table that has no `normalization =` header line.
     #[arg(long, value_name = "N")]
     pub assume_normalization: Option<String>,
+    /// Form of the output: real (C, S for m ≥ 0) or complex (a_lm for m = −l..l, a text table
+    /// with `coefficient_form = complex`, its normalisation and phase in the header; see
+    /// docs/conventions.md). Complex tables are read back by every command as the real set of
+    /// the same field.
+    #[arg(long, value_name = "real|complex", default_value = "real")]
+    pub form: String,
 }
 
 pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
@@ -54,11 +63,12 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         } else if let Some(n) = &args.assume_normalization {
             let n: Normalization = n.parse().context("--assume-normalization")?;
             if n != model.normalization {
-                anyhow::bail!(
+                return Err(kugel::Error::invalid(format!(
                     "{} states normalization {} but --assume-normalization says {n}",
                     args.input.display(),
                     model.normalization
-                );
+                ))
+                .into());
             }
         }
         if r.missing_pairs > 0 && !ctx.quiet {
@@ -79,20 +89,42 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         None if target != model.normalization => target.default_condon_shortley(),
         None => model.condon_shortley,
     };
+    let complex = match args.form.trim().to_ascii_lowercase().as_str() {
+        "real" => false,
+        "complex" => true,
+        other => {
+            return Err(
+                Error::invalid(format!("--form '{other}': expected real or complex")).into(),
+            )
+        }
+    };
+    if complex && is_netcdf_path(&args.output) {
+        return Err(Error::invalid(format!(
+            "--form complex writes a text table; {} names a NetCDF file (choose a .txt name)",
+            args.output.display()
+        ))
+        .into());
+    }
     let out = model.converted(target, phase)?;
     let mut prov = Provenance::from_command_line(&ctx.command_line);
     prov.add_input(&args.input)?;
     prov.lmax = Some(out.lmax());
     prov.normalization = Some(out.normalization.name().to_string());
-    write_model(&args.output, &out, &prov)?;
+    if complex {
+        let set = ComplexCoefficients::from_real(&model, target, phase)?;
+        write_complex_text(&args.output, &set, &prov)?;
+    } else {
+        write_model(&args.output, &out, &prov)?;
+    }
     if !ctx.quiet {
-        eprintln!(
-            "wrote {} (degree {}, {}, Condon–Shortley phase {})",
+        crate::outputs::wrote(format!(
+            "wrote {} ({}degree {}, {}, Condon–Shortley phase {})",
             args.output.display(),
+            if complex { "complex form, " } else { "" },
             out.lmax(),
             out.normalization,
             if out.condon_shortley { "on" } else { "off" }
-        );
+        ));
     }
     Ok(())
 }

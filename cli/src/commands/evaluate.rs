@@ -96,12 +96,12 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         .with_context(|| format!("writing {}", args.output.display()))?;
     field_options::print_cautions(&request.quantities);
     if !ctx.quiet {
-        eprintln!(
+        crate::outputs::wrote(format!(
             "wrote {} points x {} quantities to {}",
             points.len(),
             request.quantities.len(),
             args.output.display()
-        );
+        ));
     }
     Ok(())
 }

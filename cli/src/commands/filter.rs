@@ -147,15 +147,18 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
             .push(("kugel_continuation".to_string(), text));
     }
 
+    // one run, one outcome: the model and its weights table are published together
+    // (`outputs::all_or_nothing`), so a failing table withdraws the model too
     write_model(&args.output, &model, &provenance)?;
-    say(format!("wrote {}", args.output.display()));
-    if let Some(path) = &args.weights {
-        // one run, one outcome: without its weights table the model output is withdrawn too
-        if let Err(e) = table.write(path, &provenance) {
-            let _ = std::fs::remove_file(&args.output);
-            return Err(e.into());
+    let announce = |line: String| {
+        if !ctx.quiet {
+            crate::outputs::announce(crate::outputs::Stream::Stdout, line);
         }
-        say(format!("wrote {}", path.display()));
+    };
+    announce(format!("wrote {}", args.output.display()));
+    if let Some(path) = &args.weights {
+        table.write(path, &provenance)?;
+        announce(format!("wrote {}", path.display()));
     }
     Ok(())
 }

@@ -11,7 +11,8 @@ use kugel::io::provenance::Provenance;
 use kugel::observe::degree_choice::default_lmax_with_index;
 use kugel::observe::gaps::{GapPolicy, DEFAULT_GAP_ITERATIONS, DEFAULT_GAP_TOLERANCE};
 use kugel::observe::gridding::{
-    default_radius_km, grid_points_with_progress, GriddingMethod, GriddingOptions,
+    default_radius_km, grid_points_with_progress, gridding_memory_bytes, GriddingMethod,
+    GriddingOptions,
 };
 use kugel::observe::spatial::SphereIndex;
 
@@ -54,6 +55,13 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     kugel::io::atomic::refuse_overwrite_of_input(&args.output, &[&args.points])?;
     let lon_convention: LonConvention = args.lon_range.parse()?;
     let body_radius_m = args.input.body_radius_m()?;
+    if let Some(l) = args.lmax {
+        // the size first: a grid that cannot fit is refused before the points are read
+        kugel::memory::check_fits(
+            &format!("the L = {l} Gauss grid"),
+            gridding_memory_bytes(0, l),
+        )?;
+    }
     let points = args.input.read(&args.points, ctx)?;
     let lmax = match args.lmax {
         Some(l) => l,
@@ -148,7 +156,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         },
     )?;
     if !ctx.quiet {
-        eprintln!("wrote {}", args.output.display());
+        crate::outputs::wrote(format!("wrote {}", args.output.display()));
     }
     Ok(())
 }

@@ -10,9 +10,11 @@ pub mod filter;
 pub mod fit;
 pub mod grid;
 pub mod make_demo;
+pub mod rotate;
 pub mod run;
 pub mod spectrum;
 pub mod synthesize;
+pub mod tapers;
 
 /// Context shared by every command: the command line as typed (for `history` attributes) and
 /// the verbosity.

@@ -44,6 +44,9 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     progress.finish();
     let summary = summary?;
     if !ctx.quiet {
+        for n in &summary.notes {
+            eprintln!("note: {}: {n}", job.output_dir.display());
+        }
         print!("{}", summary_table(&summary, &job));
     }
     Ok(())

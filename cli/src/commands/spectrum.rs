@@ -6,10 +6,14 @@ use std::path::PathBuf;
 use anyhow::Context;
 
 use super::CommandContext;
+use crate::args::RegionArgs;
+use crate::progress_bar::TerminalProgress;
 use crate::tables::{display_name, TableOutputs};
 use kugel::error::Error;
 use kugel::io::model::read_model;
 use kugel::io::provenance::Provenance;
+use kugel::regional::{expected_localised_spectrum, localised_spectrum};
+use kugel::report::plots::regional::localised_spectrum_svg;
 use kugel::report::plots::spectrum_svg;
 use kugel::spectral::{Spectrum, SpectrumOptions};
 
@@ -39,6 +43,8 @@ pub struct Args {
     /// Plot title (default: the model's file name).
     #[arg(long)]
     pub title: Option<String>,
+    #[command(flatten)]
+    pub region: RegionArgs,
 }
 
 /// Parses "LMIN-LMAX" (e.g. "10-200") for the option named `option`.
@@ -76,6 +82,9 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         r => r.map(|km| km * 1000.0),
     };
     let model = read_model(&args.model)?;
+    if args.region.region.is_some() {
+        return run_localised(args, ctx, &outputs, &model);
+    }
     let options = SpectrumOptions {
         confidence: args.confidence,
         fit_range,
@@ -97,6 +106,63 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     outputs.write(&table, &provenance, || spectrum_svg(&spectrum, &title))?;
     if !ctx.quiet {
         outputs.report(&spectrum.summary());
+    }
+    Ok(())
+}
+
+/// `--region`: the multitaper estimate inside the region, with the expected localised
+/// spectrum of the model's own global spectrum for comparison.
+fn run_localised(
+    args: &Args,
+    ctx: &CommandContext,
+    outputs: &TableOutputs,
+    model: &kugel::Coefficients,
+) -> anyhow::Result<()> {
+    let progress = TerminalProgress::new(ctx.quiet);
+    let result = (|| -> anyhow::Result<_> {
+        let (set, choice) = args
+            .region
+            .taper_set(model.lmax(), &progress)?
+            .expect("region given");
+        let local = localised_spectrum(model, &set, choice, &progress)?;
+        let global = kugel::spectral::degree_variance(model);
+        let expected = expected_localised_spectrum(&global, &local.window_power, local.lmax)?;
+        Ok((set, local, expected))
+    })();
+    progress.finish();
+    let (set, local, expected) = result?;
+    let name = display_name(&args.model);
+    let mut table = local.to_table(Some(&expected));
+    table.attribute(
+        "title",
+        format!(
+            "localised degree-variance spectrum of {name} in {}",
+            set.region
+        ),
+    );
+    table.number_attribute("shannon_number", set.shannon_number);
+    let mut provenance = Provenance::from_command_line(ctx.command_line.clone());
+    provenance.add_input(&args.model)?;
+    provenance.lmax = Some(local.lmax);
+    provenance.normalization = Some("geodesy".into());
+    let title = args
+        .title
+        .clone()
+        .unwrap_or_else(|| format!("Localised spectrum of {name}"));
+    outputs.write(&table, &provenance, || {
+        localised_spectrum_svg(&local, Some(&expected), &title)
+    })?;
+    if !ctx.quiet {
+        outputs.report(&format!(
+            "localised spectrum of {name} in {}: {} windows of degree {} (concentration ≥ {:.4}), Shannon number {:.2}; degrees {}..{} reliable\n",
+            set.region,
+            local.taper_count,
+            local.lmax_window,
+            local.concentrations.iter().cloned().fold(1.0, f64::min),
+            set.shannon_number,
+            local.lmax_window,
+            local.lmax - local.lmax_window
+        ));
     }
     Ok(())
 }

@@ -49,21 +49,49 @@ pub struct Args {
     pub field: FieldOptions,
 }
 
-/// Parses `gauss` or `regular:STEP_DEG` into an engine grid for band limit `lmax`.
-pub fn parse_grid_spec(spec: &str, lmax: usize) -> kugel::Result<Grid> {
-    let spec = spec.trim();
-    if spec.eq_ignore_ascii_case("gauss") {
-        return Ok(GaussGrid::new(lmax));
+/// A `--grid` value: `gauss` or `regular:STEP_DEG`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum GridSpec {
+    Gauss,
+    Regular { step_deg: f64 },
+}
+
+impl GridSpec {
+    pub fn parse(spec: &str) -> kugel::Result<GridSpec> {
+        let spec = spec.trim();
+        if spec.eq_ignore_ascii_case("gauss") {
+            return Ok(GridSpec::Gauss);
+        }
+        if let Some(step) = spec.strip_prefix("regular:") {
+            let step_deg: f64 = step.trim().parse().map_err(|_| {
+                Error::invalid(format!("--grid {spec}: '{step}' is not a step in degrees"))
+            })?;
+            return Ok(GridSpec::Regular { step_deg });
+        }
+        Err(Error::invalid(format!(
+            "--grid '{spec}': expected gauss or regular:STEP_DEG (e.g. regular:1)"
+        )))
     }
-    if let Some(step) = spec.strip_prefix("regular:") {
-        let step: f64 = step.trim().parse().map_err(|_| {
-            Error::invalid(format!("--grid {spec}: '{step}' is not a step in degrees"))
-        })?;
-        return kugel::sht::equiangular::regular_grid_by_step(step);
+
+    /// (rows, columns) for band limit `lmax`, without building the grid.
+    pub fn shape(self, lmax: usize) -> kugel::Result<(f64, f64)> {
+        match self {
+            GridSpec::Gauss => Ok(kugel::sht::budget::gauss_grid_shape(lmax)),
+            GridSpec::Regular { step_deg } => {
+                kugel::sht::equiangular::regular_grid_shape_by_step(step_deg)
+            }
+        }
     }
-    Err(Error::invalid(format!(
-        "--grid '{spec}': expected gauss or regular:STEP_DEG (e.g. regular:1)"
-    )))
+
+    /// The engine grid for band limit `lmax`.
+    pub fn build(self, lmax: usize) -> kugel::Result<Grid> {
+        match self {
+            GridSpec::Gauss => Ok(GaussGrid::new(lmax)),
+            GridSpec::Regular { step_deg } => {
+                kugel::sht::equiangular::regular_grid_by_step(step_deg)
+            }
+        }
+    }
 }
 
 pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
@@ -71,8 +99,14 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     let parsed = args.field.parse()?;
     let surface = field_options::target_surface(args.altitude_km, args.radius_km)?;
     let lon_convention: LonConvention = args.lon_range.parse()?;
-    let model = field_options::read_model_truncated(&args.model, args.field.lmax)?;
-    let grid = parse_grid_spec(&args.grid, model.lmax())?;
+    let grid_spec = GridSpec::parse(&args.grid)?;
+    let model = kugel::io::model::read_model(&args.model)?;
+    // everything the synthesis will hold, estimated before the model is padded or any grid,
+    // node or table is built
+    let lmax = args.field.lmax.unwrap_or(model.lmax());
+    kugel::field::synthesis::check_synthesis_job(lmax, &parsed.quantities, grid_spec.shape(lmax)?)?;
+    let model = field_options::resize_model(&args.model, model, args.field.lmax)?;
+    let grid = grid_spec.build(model.lmax())?;
     if let Some(w) = field_options::total_potential_warning(&model, &parsed) {
         eprintln!("{w}");
     }
@@ -153,13 +187,13 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     for (path, png) in &pictures {
         kugel::io::atomic::write_bytes_atomic(path, png)?;
         if !ctx.quiet {
-            eprintln!("wrote {}", path.display());
+            crate::outputs::wrote(format!("wrote {}", path.display()));
         }
     }
     field_options::print_cautions(&request.quantities);
     if !ctx.quiet {
         let (nlat, nlon) = grid.shape();
-        eprintln!(
+        crate::outputs::wrote(format!(
             "wrote {} on a {nlat} x {nlon} grid at radius {:.3} km to {}",
             request
                 .quantities
@@ -169,7 +203,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
                 .join(", "),
             radius_m / 1e3,
             args.output.display()
-        );
+        ));
     }
     Ok(())
 }

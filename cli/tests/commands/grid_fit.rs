@@ -108,11 +108,8 @@ fn fit_writes_model_with_sigmas() {
     let points = write_points(dir.path(), false);
     let out = dir.path().join("m.nc");
     let args = fit::Args {
-        points,
-        lmax: 4,
-        output: out.clone(),
         regularization: "damping:1e-6".into(),
-        input: input_args(),
+        ..fit::Args::for_points(points, 4, out.clone(), input_args())
     };
     fit::run(&args, &ctx()).unwrap();
     let model = kugel::io::model::read_model(&out).unwrap();

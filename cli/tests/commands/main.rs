@@ -3,9 +3,15 @@
 //! prints and exits with. One test binary for all subcommands.
 
 mod analyze_convert;
+mod bad_inputs;
+mod determinism;
 mod evaluate;
 mod filter;
+mod fit_functionals;
 mod grid_fit;
+mod interrupts;
+mod refusals;
+mod regional;
 mod run_config;
 mod run_end_to_end;
 mod spectrum_compare;

@@ -4,6 +4,8 @@
 
 use std::f64::consts::PI;
 
+use ndarray::Array2;
+
 use crate::error::{Error, Result};
 use crate::sht::equiangular::{self, EquiangularLayout};
 use crate::sht::{gauss_legendre, Grid, GridKind};
@@ -170,6 +172,12 @@ pub fn longitude_axis(lon_deg: &[f64], what: &str) -> Result<LongitudeAxis> {
     if let Some((i, v)) = lon_deg.iter().enumerate().find(|(_, v)| !v.is_finite()) {
         return Err(Error::invalid(format!("{what}[{i}] = {v} is not finite")));
     }
+    if n_all == 1 {
+        return Err(Error::invalid(format!(
+            "{what} holds the single longitude {}: one meridian is not a global grid",
+            lon_deg[0]
+        )));
+    }
     // unwrap into a monotonic sequence: at most one jump of about ∓360
     let mut unwrapped = lon_deg.to_vec();
     let ascending = n_all < 2 || {
@@ -258,6 +266,38 @@ pub fn engine_grid(lat: &LatitudeAxis, lon: &LongitudeAxis) -> Grid {
         lon0_rad: lon.lon0_rad,
         max_exact_degree: lat.max_degree.min(nlon.saturating_sub(1) / 2),
     }
+}
+
+/// The engine-order field (rows north→south, columns eastwards from `lon.lon0_rad`) of a
+/// user's values, `at(i, k)` being the value at file latitude row `i` and longitude column `k`.
+///
+/// This is the one reordering copy of a user's grid: the file reader and the Python bindings
+/// both build their engine field with it.
+pub fn engine_order_field(
+    lat: &LatitudeAxis,
+    lon: &LongitudeAxis,
+    at: impl Fn(usize, usize) -> f64,
+) -> Array2<f64> {
+    let mut field = Array2::zeros((lat.order.len(), lon.order.len()));
+    for (r, &i) in lat.order.iter().enumerate() {
+        for (c, &k) in lon.order.iter().enumerate() {
+            field[[r, c]] = at(i, k);
+        }
+    }
+    field
+}
+
+/// The first infinite value of an engine-order field as (file latitude row, file longitude
+/// column), for an error message that points at the user's own indices.
+pub fn first_infinite(
+    field: &Array2<f64>,
+    lat: &LatitudeAxis,
+    lon: &LongitudeAxis,
+) -> Option<(usize, usize)> {
+    field
+        .indexed_iter()
+        .find(|(_, v)| v.is_infinite())
+        .map(|((r, c), _)| (lat.order[r], lon.order[c]))
 }
 
 #[cfg(test)]

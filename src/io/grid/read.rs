@@ -13,7 +13,9 @@ use std::path::{Path, PathBuf};
 use ndarray::Array2;
 use netcdf_reader::{NcFile, NcSliceInfo, NcSliceInfoElem, NcVariable};
 
-use super::layout::{engine_grid, latitude_axis, longitude_axis};
+use super::layout::{
+    engine_grid, engine_order_field, first_infinite, latitude_axis, longitude_axis,
+};
 use crate::error::{Error, Result};
 use crate::io::netcdf_common as nc;
 use crate::sht::{Grid, GridKind};
@@ -242,10 +244,17 @@ fn choose_variable<'a>(
 }
 
 fn read_coordinate(file: &NcFile, path: &Path, v: &NcVariable) -> Result<Vec<f64>> {
-    let data = file
-        .read_variable_unpacked(v.name())
-        .map_err(|e| nc::read_error(path, v.name(), e))?;
-    Ok(data.iter().copied().collect())
+    let data = nc::read_cf_values(file, path, v.name(), None)?;
+    if let Some(i) = data.values.iter().position(|x| x.is_nan()) {
+        return Err(Error::format(
+            path,
+            format!(
+                "coordinate variable '{}' has a missing or unwritten value at index {i}; coordinates must all be given",
+                v.name()
+            ),
+        ));
+    }
+    Ok(data.values)
 }
 
 /// Reads a user's global grid; see the module documentation for the rules.
@@ -328,8 +337,14 @@ pub fn read_grid(path: &Path, options: &GridReadOptions) -> Result<UserGrid> {
         }
     }
 
+    // sizes first: against memory and against what the file can hold, before any read
+    let shape: Vec<u64> = dims.iter().map(|d| d.size).collect();
+    let selected = dims[lat_pos].size.saturating_mul(dims[lon_pos].size);
+    nc::check_declared_size(path, &name, &shape, selected, 4)?;
+    for (axis, v) in [(lat_pos, lat_var), (lon_pos, lon_var)] {
+        nc::check_declared_size(path, v.name(), &[dims[axis].size], dims[axis].size, 1)?;
+    }
     let (nlat_file, nlon_file) = (dims[lat_pos].size as usize, dims[lon_pos].size as usize);
-    crate::memory::check_fits("reading the grid", (nlat_file * nlon_file * 8 * 3) as u64)?;
     let lat = read_coordinate(&file, path, lat_var)?;
     let lon = read_coordinate(&file, path, lon_var)?;
     let globals = file
@@ -349,10 +364,24 @@ pub fn read_grid(path: &Path, options: &GridReadOptions) -> Result<UserGrid> {
         notes.push("dropped the duplicated wrap-around longitude column".to_string());
     }
 
-    let raw = file
-        .read_variable_slice_unpacked_masked(&name, &NcSliceInfo { selections })
-        .map_err(|e| nc::read_error(path, &name, e))?;
-    let values: Vec<f64> = raw.iter().copied().collect();
+    let decoded = nc::read_cf_values(&file, path, &name, Some(&NcSliceInfo { selections }))?;
+    if let Some(first) = decoded.first_unwritten {
+        let (i, k) = if lat_pos < lon_pos {
+            (first / nlon_file.max(1), first % nlon_file.max(1))
+        } else {
+            (first % nlat_file.max(1), first / nlat_file.max(1))
+        };
+        return Err(Error::format(
+            path,
+            format!(
+                "variable '{name}' has {} cell(s) that were never written (they hold the NetCDF default fill value and the variable declares no _FillValue), the first at latitude {}, longitude {}; write every cell or declare _FillValue to mark gaps",
+                decoded.unwritten,
+                lat.get(i).copied().unwrap_or(f64::NAN),
+                lon.get(k).copied().unwrap_or(f64::NAN)
+            ),
+        ));
+    }
+    let values = decoded.values;
     if values.len() != nlat_file * nlon_file {
         return Err(Error::format(
             path,
@@ -372,22 +401,15 @@ pub fn read_grid(path: &Path, options: &GridReadOptions) -> Result<UserGrid> {
         }
     };
     let grid = engine_grid(&lat_axis, &lon_axis);
-    let (nlat, nlon) = grid.shape();
-    let mut field = Array2::zeros((nlat, nlon));
-    for (r, &i) in lat_axis.order.iter().enumerate() {
-        for (c, &k) in lon_axis.order.iter().enumerate() {
-            let v = at(i, k);
-            if v.is_infinite() {
-                return Err(Error::format(
-                    path,
-                    format!(
-                        "variable '{name}' holds an infinite value at latitude {}, longitude {}",
-                        lat[i], lon[k]
-                    ),
-                ));
-            }
-            field[[r, c]] = v;
-        }
+    let field = engine_order_field(&lat_axis, &lon_axis, at);
+    if let Some((i, k)) = first_infinite(&field, &lat_axis, &lon_axis) {
+        return Err(Error::format(
+            path,
+            format!(
+                "variable '{name}' holds an infinite value at latitude {}, longitude {}",
+                lat[i], lon[k]
+            ),
+        ));
     }
     if lon_axis.dropped_wrap_column {
         // the file column left out of the eastward order is the duplicate of the first one

@@ -7,6 +7,7 @@
 use std::io::Read;
 use std::path::Path;
 
+pub mod complex_text;
 pub mod netcdf;
 pub mod text;
 
@@ -35,6 +36,59 @@ pub fn has_netcdf_magic(path: &Path) -> Result<bool> {
     Ok((n >= 3 && &head[..3] == b"CDF") || (n >= 8 && head == *b"\x89HDF\r\n\x1a\n"))
 }
 
+/// The checks every model passes whatever its format, with messages naming the file and the
+/// attribute: every C and S finite, S_l0 = 0, sigmas (when present) finite and non-negative,
+/// reference radius finite and positive, GM (when present) finite and positive. A model that
+/// fails them would give silently wrong or sign-flipped quantities.
+pub fn validate_model(coeffs: &Coefficients, path: &Path) -> Result<()> {
+    let fmt = |m: String| Error::format(path, m);
+    let r = coeffs.reference_radius_m;
+    if !(r.is_finite() && r > 0.0) {
+        return Err(fmt(format!(
+            "reference radius (attribute reference_radius_m) is {r}; expected a positive radius in metres"
+        )));
+    }
+    if let Some(gm) = coeffs.gm_m3_s2 {
+        if !(gm.is_finite() && gm > 0.0) {
+            return Err(fmt(format!(
+                "GM (attribute gm_m3_s2) is {gm}; expected a positive number of m3 s-2, or leave it out"
+            )));
+        }
+    }
+    for (l, m, c, s) in coeffs.iter() {
+        if !c.is_finite() {
+            return Err(fmt(format!(
+                "coefficient C at degree {l}, order {m} is not finite ({c})"
+            )));
+        }
+        if !s.is_finite() {
+            return Err(fmt(format!(
+                "coefficient S at degree {l}, order {m} is not finite ({s})"
+            )));
+        }
+        if m == 0 && s != 0.0 {
+            return Err(fmt(format!(
+                "coefficient S at degree {l}, order 0 is {s}; S_l0 must be 0"
+            )));
+        }
+    }
+    if let Some((cs, ss)) = coeffs.sigmas() {
+        for (which, sig) in [("C_sigma", cs), ("S_sigma", ss)] {
+            for l in 0..=coeffs.lmax() {
+                for m in 0..=l {
+                    let v = sig[crate::coeffs::packed_index(l, m)];
+                    if !(v.is_finite() && v >= 0.0) {
+                        return Err(fmt(format!(
+                            "{which} at degree {l}, order {m} is {v}; a standard error must be finite and not negative"
+                        )));
+                    }
+                }
+            }
+        }
+    }
+    Ok(())
+}
+
 /// Writes a model: NetCDF-4 when the extension says so, else a text table.
 pub fn write_model(path: &Path, coeffs: &Coefficients, provenance: &Provenance) -> Result<()> {
     if is_netcdf_path(path) {
@@ -55,7 +109,19 @@ pub fn read_model_with_report(path: &Path) -> Result<(Coefficients, Option<TextM
             "the name ends in a NetCDF extension but the file has no NetCDF or HDF5 signature (truncated or not NetCDF)",
         ))
     } else {
+        let bytes = std::fs::read(path).map_err(|e| Error::io(path, e))?;
+        let text = String::from_utf8_lossy(&bytes);
+        if complex_text::is_complex_table(&text) {
+            // a complex set (m = −l..l) is read as the real set of the same field
+            let set = complex_text::parse_complex_text(&text, path)?;
+            let real = set
+                .to_real()
+                .and_then(|r| r.converted(set.normalization, set.condon_shortley))
+                .map_err(|e| Error::format(path, e.to_string()))?;
+            return Ok((real, None));
+        }
         let (c, r) = read_model_text(path)?;
+        validate_model(&c, path)?;
         Ok((c, Some(r)))
     }
 }

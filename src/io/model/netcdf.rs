@@ -151,7 +151,23 @@ fn square_from_packed(packed: &[f64], l1: usize) -> Vec<f64> {
     out
 }
 
+/// The band limit a NetCDF model file declares (its `degree` dimension), read from the header
+/// only; `None` when the file is not a readable NetCDF model. For checks before a run.
+pub fn declared_lmax(path: &Path) -> Option<usize> {
+    if !super::has_netcdf_magic(path).ok()? {
+        return None;
+    }
+    let file = nc::open(path).ok()?;
+    let n = file.dimension("degree").ok()?.size;
+    usize::try_from(n).ok()?.checked_sub(1)
+}
+
 /// Reads a NetCDF model file written by kugel or by anyone following the layout above.
+///
+/// Values are read as the file means them (`netcdf_common::read_cf_values`: packing with
+/// `scale_factor`/`add_offset`, `_FillValue`/`missing_value`); a coefficient that is missing,
+/// masked or never written is refused naming (l, m), since a model has no gaps. The model
+/// then passes the validation every format shares ([`super::validate_model`]).
 pub fn read_model_netcdf(path: &Path) -> Result<Coefficients> {
     let file = nc::open(path)?;
     let globals = file
@@ -159,14 +175,15 @@ pub fn read_model_netcdf(path: &Path) -> Result<Coefficients> {
         .map_err(|e| Error::format(path, format!("cannot read global attributes: {e}")))?
         .to_vec();
     let fmt = |msg: String| Error::format(path, msg);
+    let global_number = |name: &str| nc::number_checked(path, &globals, "global", name);
 
-    let norm_text = nc::text(&globals, "normalization").ok_or_else(|| {
+    let norm_text = nc::text_checked(path, &globals, "global", "normalization")?.ok_or_else(|| {
         fmt("global attribute 'normalization' is missing (expected geodesy, schmidt, orthonormal or unnormalized)".into())
     })?;
     let normalization: Normalization = norm_text
         .parse()
         .map_err(|e| fmt(format!("global attribute 'normalization': {e}")))?;
-    let phase = nc::number(&globals, "condon_shortley_phase").ok_or_else(|| {
+    let phase = global_number("condon_shortley_phase")?.ok_or_else(|| {
         fmt("global attribute 'condon_shortley_phase' is missing (expected 0 or 1)".into())
     })?;
     let condon_shortley = match phase {
@@ -178,17 +195,16 @@ pub fn read_model_netcdf(path: &Path) -> Result<Coefficients> {
             )))
         }
     };
-    let reference_radius_m = nc::number(&globals, "reference_radius_m")
-        .ok_or_else(|| fmt("global attribute 'reference_radius_m' is missing".into()))?;
-    if !(reference_radius_m.is_finite() && reference_radius_m > 0.0) {
-        return Err(fmt(format!(
-            "global attribute 'reference_radius_m' is {reference_radius_m}; expected a positive radius in metres"
-        )));
-    }
+    let reference_radius_m = global_number("reference_radius_m")?.ok_or_else(|| {
+        fmt("global attribute 'reference_radius_m' is missing (the model's reference radius in metres)".into())
+    })?;
+    let gm_m3_s2 = global_number("gm_m3_s2")?;
+    let attr_lmax = global_number("lmax")?;
+    let units = nc::text_checked(path, &globals, "global", "units")?;
 
     let (c_sq, l1, transposed) = read_square(&file, path, "C", true)?.expect("required");
     let lmax = l1 - 1;
-    if let Some(attr_lmax) = nc::number(&globals, "lmax") {
+    if let Some(attr_lmax) = attr_lmax {
         if attr_lmax != lmax as f64 {
             return Err(fmt(format!(
                 "global attribute 'lmax' is {attr_lmax} but variable 'C' has degrees 0..{lmax}"
@@ -219,6 +235,14 @@ pub fn read_model_netcdf(path: &Path) -> Result<Coefficients> {
             }
         })
         .collect::<Result<_>>()?;
+    for l in 0..l1 {
+        let s_l0 = packed[1][packed_index(l, 0)];
+        if s_l0 != 0.0 {
+            return Err(fmt(format!(
+                "variable 'S' holds {s_l0} at degree {l}, order 0; S_l0 must be 0 (sin 0λ = 0), so the file's layout differs from this one"
+            )));
+        }
+    }
     let mut coeffs =
         Coefficients::from_packed(lmax, packed[0].clone(), packed[1].clone(), normalization)?;
     match (packed[2].is_empty(), packed[3].is_empty()) {
@@ -232,17 +256,11 @@ pub fn read_model_netcdf(path: &Path) -> Result<Coefficients> {
     }
     coeffs.condon_shortley = condon_shortley;
     coeffs.reference_radius_m = reference_radius_m;
-    coeffs.gm_m3_s2 = nc::number(&globals, "gm_m3_s2");
-    coeffs.units = nc::text(&globals, "units").unwrap_or_else(|| "1".to_string());
+    coeffs.gm_m3_s2 = gm_m3_s2;
+    coeffs.units = units.unwrap_or_else(|| "1".to_string());
     coeffs.attributes = carried_attributes(&globals);
-    check_finite_named(&coeffs, path)?;
+    super::validate_model(&coeffs, path)?;
     Ok(coeffs)
-}
-
-fn check_finite_named(coeffs: &Coefficients, path: &Path) -> Result<()> {
-    coeffs
-        .check_finite()
-        .map_err(|e| Error::format(path, format!("{e}")))
 }
 
 fn carried_attributes(globals: &[netcdf_reader::NcAttribute]) -> BTreeMap<String, String> {
@@ -297,11 +315,9 @@ fn read_square(
             ),
         ));
     }
-    let data = file
-        .read_variable_as_f64(name)
-        .map_err(|e| nc::read_error(path, name, e))?;
-    let values: Vec<f64> = data.iter().copied().collect();
-    Ok(Some((values, shape[0] as usize, transposed)))
+    nc::check_declared_size(path, name, &shape, shape[0].saturating_mul(shape[1]), 3)?;
+    let decoded = nc::read_cf_values(file, path, name, None)?;
+    Ok(Some((decoded.values, shape[0] as usize, transposed)))
 }
 
 /// Square (degree, order) array → packed triangle; entries with m > l must be 0 (a non-zero
@@ -331,6 +347,11 @@ fn packed_from_square(
                         format!("variable '{name}' has a non-zero entry {v} at degree {l}, order {m} > degree; entries with m > l must be 0"),
                     ));
                 }
+            } else if v.is_nan() {
+                return Err(Error::format(
+                    path,
+                    format!("variable '{name}' has no value at degree {l}, order {m} (NaN, a fill or missing value, or never written); a model has no gaps"),
+                ));
             } else {
                 out[packed_index(l, m)] = v;
             }

@@ -247,6 +247,13 @@ fn build(
                 format!("S_{{{},0}} = {} but S_l0 must be 0", r.l, r.values[1]),
             ));
         }
+        if let Some(v) = r.values.get(2..).and_then(|s| s.iter().find(|v| **v < 0.0)) {
+            return Err(line_error(
+                path,
+                r.line,
+                format!("sigma {v} is negative; a standard error must not be negative"),
+            ));
+        }
         coeffs.set(r.l, r.m, r.values[0], r.values[1]);
         if with_sigma {
             let i = packed_index(r.l, r.m);
@@ -257,8 +264,8 @@ fn build(
     if with_sigma {
         coeffs.set_sigmas(cs, ss)?;
     }
-    if let Some(r) = header_number(path, &headers, "reference_radius_m")? {
-        if r <= 0.0 {
+    match header_number(path, &headers, "reference_radius_m")? {
+        Some(r) if r <= 0.0 => {
             let line = headers["reference_radius_m"].1;
             return Err(line_error(
                 path,
@@ -266,9 +273,26 @@ fn build(
                 format!("reference_radius_m = {r}: expected a positive radius in metres"),
             ));
         }
-        coeffs.reference_radius_m = r;
+        Some(r) => coeffs.reference_radius_m = r,
+        // no default radius: any quantity, continuation or comparison would silently use it
+        None => {
+            return Err(Error::format(
+                path,
+                "no reference_radius_m header line; add one, e.g. `reference_radius_m = 6378136.3` (the model's reference radius in metres)",
+            ))
+        }
     }
-    coeffs.gm_m3_s2 = header_number(path, &headers, "gm_m3_s2")?;
+    if let Some(gm) = header_number(path, &headers, "gm_m3_s2")? {
+        if gm <= 0.0 {
+            let line = headers["gm_m3_s2"].1;
+            return Err(line_error(
+                path,
+                line,
+                format!("gm_m3_s2 = {gm}: expected a positive number of m3 s-2"),
+            ));
+        }
+        coeffs.gm_m3_s2 = Some(gm);
+    }
     if let Some((u, _)) = headers.get("units") {
         coeffs.units = u.clone();
     }

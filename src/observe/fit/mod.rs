@@ -1,14 +1,28 @@
-//! Weighted, regularised least-squares fit of scattered observations straight to
+//! Weighted, regularised least-squares fit of observations of functionals (values, gravity
+//! quantities, magnetic components and intensity), each at its own radius and time, straight to
 //! spherical-harmonic coefficients up to degree L.
 //!
-//! Minimises (y − Ax)ᵀ W (y − Ax) + λ xᵀ P x with W = diag(1/σ²) (unit weights without σ),
-//! A the design matrix ([`design`]), P diagonal:
+//! Minimises (y − Ax)ᵀ W (y − Ax) + λ xᵀ P x with W = diag(f_d/σ²) (f_d the data set's weight
+//! factor; unit weights without σ), A the observation equations ([`functional`]), P diagonal:
 //! - `None`: P = 0;
 //! - `Damping(λ)`: Tikhonov damping, P = I (Tikhonov 1963, Soviet Math. Dokl. 4:1035);
 //! - `Kaula { a, p }`: a prior per-coefficient RMS σ_l = a·l^−p (Kaula 1966, *Theory of Satellite
 //!   Geodesy*; degree 0 uses σ_0 = a), P = diag(1/σ_l²), λ = 1 (the Bayesian prior itself);
 //! - `Gcv`: P = I with λ from generalised cross-validation ([`gcv`]);
 //! - `KaulaGcv { a, p }`: the Kaula prior scaled by a λ chosen by GCV.
+//!
+//! **Units of the prior.** The prior always refers to the model's own coefficients in the
+//! model's own normalisation: dimensionless `geodesy` potential coefficients for gravity
+//! quantities (observations are divided by nothing: the rows carry GM/R), Schmidt Gauss
+//! coefficients in nT for magnetic ones, `geodesy` coefficients in the data's units for plain
+//! values. Rates (secular variation, per year) and external coefficients get the Kaula RMS of
+//! their degree as well, so that GCV sees a positive prior everywhere.
+//!
+//! **Nonlinear and robust fits.** Total intensity F is linearised at the current model and the
+//! fit repeated (Gauss–Newton) until the largest change of a coefficient is below
+//! [`GAUSS_NEWTON_TOLERANCE`] of the largest coefficient; `--robust huber:C` reweights each
+//! row by min(1, C/|r/σ|) (Huber 1981, *Robust Statistics*) and repeats (iteratively
+//! reweighted least squares) until no weight changes by more than 1e-6.
 //!
 //! Posterior covariance C = σ̂₀² (N + λP)⁻¹. **Scaling:** when the points carry σ the formal
 //! covariance is reported unscaled (σ̂₀² = 1; judge the σ by χ²/dof); without σ, unit weights
@@ -23,14 +37,22 @@ use crate::coeffs::Coefficients;
 use crate::error::{Error, Result};
 
 pub mod design;
+pub mod functional;
 pub mod gcv;
 pub mod normal;
+pub mod observation;
+pub mod parameters;
+pub mod robust;
 pub mod solve;
 
-use self::design::UnknownLayout;
+use self::functional::{ModelSpace, RowBuilder};
 use self::gcv::GcvSpectrum;
-use self::normal::{assemble, predict};
+use self::normal::assemble_rows;
+pub use self::observation::{DataSet, Observation, ObservationSet};
+use self::parameters::ParameterLayout;
+pub use self::robust::Robust;
 use self::solve::solve;
+use crate::field::{NormalField, Quantity};
 use crate::observe::gridding::EARTH_MEAN_RADIUS_M;
 use crate::observe::points::PointSet;
 use crate::observe::spatial::SphereIndex;
@@ -105,13 +127,12 @@ impl Regularization {
         }
     }
 
-    /// Diagonal of P for the unknowns of `layout` (empty for `None`).
-    fn prior(&self, layout: &UnknownLayout) -> Vec<f64> {
+    /// Diagonal of P for unknowns of the given degrees.
+    fn prior(&self, degrees: &[usize]) -> Vec<f64> {
         match *self {
-            Regularization::None => vec![0.0; layout.len()],
-            Regularization::Damping(_) | Regularization::Gcv => vec![1.0; layout.len()],
-            Regularization::Kaula { a, p } | Regularization::KaulaGcv { a, p } => layout
-                .degrees()
+            Regularization::None => vec![0.0; degrees.len()],
+            Regularization::Damping(_) | Regularization::Gcv => vec![1.0; degrees.len()],
+            Regularization::Kaula { a, p } | Regularization::KaulaGcv { a, p } => degrees
                 .iter()
                 .map(|&l| {
                     let rms = a * (l.max(1) as f64).powf(-p);
@@ -122,7 +143,7 @@ impl Regularization {
     }
 }
 
-/// Options of [`fit`].
+/// Options of [`fit`] (plain values on a sphere).
 #[derive(Debug, Clone, PartialEq)]
 pub struct FitOptions {
     pub regularization: Regularization,
@@ -139,11 +160,88 @@ impl Default for FitOptions {
     }
 }
 
+/// Largest relative change of the coefficients at which the Gauss–Newton iteration of an F
+/// fit stops.
+pub const GAUSS_NEWTON_TOLERANCE: f64 = 1e-9;
+/// Most passes of the Gauss–Newton / reweighting loop.
+pub const MAX_ITERATIONS: usize = 30;
+
+/// Everything a fit of an [`ObservationSet`] needs besides the observations.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FitSetup {
+    pub lmax: usize,
+    pub regularization: Regularization,
+    /// What the coefficients are (and R, GM).
+    pub space: ModelSpace,
+    /// Internal degrees held at zero (e.g. 0 and 1 for a disturbing potential in a
+    /// centre-of-mass frame). Degree 0 of a magnetic model is always fixed.
+    pub fixed_degrees: Vec<usize>,
+    /// Normal field whose potential and radial gradient are taken off `potential` and
+    /// `radial-gradient` observations; it is added back to the model written. The other gravity
+    /// quantities (geoid, gravity disturbance, gravity anomaly) are already relative to a
+    /// normal field and are used as given.
+    pub normal_field: NormalField,
+    /// External-source coefficients to this degree (magnetic, ≤ 3).
+    pub external_lmax: Option<usize>,
+    /// Linear secular variation about this epoch (decimal year), magnetic.
+    pub secular_epoch_year: Option<f64>,
+    /// Model at which total-intensity rows are first linearised (Schmidt, nT).
+    pub start: Option<Coefficients>,
+    /// Robust reweighting of the rows.
+    pub robust: Option<Robust>,
+}
+
+impl FitSetup {
+    /// A fit of plain values to degree `lmax` on a sphere of `reference_radius_m`.
+    pub fn generic(lmax: usize, reference_radius_m: f64, regularization: Regularization) -> Self {
+        FitSetup {
+            lmax,
+            regularization,
+            space: ModelSpace::Generic { reference_radius_m },
+            fixed_degrees: Vec::new(),
+            normal_field: NormalField::None,
+            external_lmax: None,
+            secular_epoch_year: None,
+            start: None,
+            robust: None,
+        }
+    }
+}
+
+/// χ² of one data set.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DataSetSummary {
+    pub name: String,
+    pub observations: usize,
+    /// Σ w r² over the set (with the final robust weights).
+    pub chi2: f64,
+    /// chi2 / observations.
+    pub chi2_per_observation: f64,
+    /// sqrt(mean r²), unweighted, in the units of the set's values.
+    pub residual_rms: f64,
+}
+
+/// One pass of the Gauss–Newton / reweighting loop.
+#[derive(Debug, Clone, PartialEq)]
+pub struct IterationReport {
+    pub iteration: usize,
+    /// max |Δx| / max |x| against the previous pass (infinite on the first).
+    pub relative_change: f64,
+    pub chi2_per_dof: f64,
+    /// Rows whose robust weight is below 1.
+    pub downweighted_rows: usize,
+}
+
 /// Outcome of a fit.
 #[derive(Debug, Clone)]
 pub struct FitResult {
-    /// Coefficients (`geodesy`, no phase) with C_sigma/S_sigma.
+    /// Coefficients with C_sigma/S_sigma (`geodesy` for values and gravity, `schmidt` in nT
+    /// for magnetic fits), with the normal field added back when one was used.
     pub model: Coefficients,
+    /// Rates of change per year with their sigmas, when secular variation was fitted.
+    pub rates: Option<Coefficients>,
+    /// External-source coefficients with their sigmas, when fitted.
+    pub external: Option<Coefficients>,
     /// sqrt(mean of r²), unweighted, in the units of the values.
     pub residual_rms: f64,
     /// Σ w r² / (n − tr H).
@@ -154,24 +252,39 @@ pub struct FitResult {
     pub lambda: f64,
     /// Effective number of parameters tr H.
     pub effective_parameters: f64,
+    /// Number of free unknowns solved for.
+    pub unknowns: usize,
     /// Whether C_sigma/S_sigma were scaled by the a-posteriori variance factor.
     pub sigmas_scaled: bool,
-    /// Residuals y − Ax per point.
+    /// Residuals y − model per observation.
     pub residuals: Vec<f64>,
+    /// χ² per data set, in the order of [`ObservationSet::datasets`].
+    pub datasets: Vec<DataSetSummary>,
+    /// The passes of the Gauss–Newton / reweighting loop (one for a linear, plain fit).
+    pub iterations: Vec<IterationReport>,
+    /// Rows down-weighted by the robust weights in the final pass.
+    pub downweighted_rows: usize,
     pub warnings: Vec<String>,
 }
 
 /// Bytes the fit needs: N, its regularised copy, L⁻¹ (and the eigenvectors for GCV).
 pub fn fit_memory_bytes(lmax: usize, regularization: &Regularization) -> u64 {
-    let u = ((lmax + 1) * (lmax + 1)) as u64;
+    let l1 = (lmax as u64).saturating_add(1);
+    unknowns_memory_bytes(crate::memory::saturating_product(&[l1, l1]), regularization)
+}
+
+/// As [`fit_memory_bytes`] for `u` unknowns (saturating: any size can be estimated).
+pub fn unknowns_memory_bytes(u: u64, regularization: &Regularization) -> u64 {
+    use crate::memory::saturating_product as product;
     let matrices = match regularization {
         Regularization::Gcv | Regularization::KaulaGcv { .. } => 5,
         _ => 3,
     };
-    matrices * u * u * 8 + u * 512 * 8 * 2
+    product(&[matrices, u, u, 8]).saturating_add(product(&[u, 512, 8, 2]))
 }
 
-/// Fits the points to all coefficients up to `lmax` (no progress output).
+/// Fits the points (plain values on the sphere of `options.body_radius_m`) to all
+/// coefficients up to `lmax` (no progress output).
 pub fn fit(points: &PointSet, lmax: usize, options: &FitOptions) -> Result<FitResult> {
     fit_with_progress(points, lmax, options, &Silent)
 }
@@ -192,92 +305,405 @@ pub fn fit_with_progress(
             options.body_radius_m
         )));
     }
-    let layout = UnknownLayout::new(lmax);
-    let u = layout.len();
+    let set = ObservationSet::from_points(points, Quantity::Value, options.body_radius_m);
+    let setup = FitSetup::generic(lmax, options.body_radius_m, options.regularization);
+    fit_observations_with_progress(&set, &setup, progress)
+}
+
+/// Fits observations of functionals (no progress output).
+pub fn fit_observations(set: &ObservationSet, setup: &FitSetup) -> Result<FitResult> {
+    fit_observations_with_progress(set, setup, &Silent)
+}
+
+/// Where an observation came from, for messages.
+pub fn describe_source(set: &ObservationSet, o: &Observation) -> String {
+    let name = set
+        .datasets
+        .get(o.dataset)
+        .map_or("observations", |d| d.name.as_str());
+    format!("{name}: line {}", o.source_line)
+}
+
+/// Checks the observations against the setup; each refusal names the data set and line.
+pub fn check_observations(set: &ObservationSet, setup: &FitSetup) -> Result<()> {
+    if set.is_empty() {
+        return Err(Error::invalid("the fit needs observations with values"));
+    }
+    let r_ref = setup.space.reference_radius_m();
+    if !(r_ref.is_finite() && r_ref > 0.0) {
+        return Err(Error::invalid(format!(
+            "reference radius {r_ref} m is not a positive number"
+        )));
+    }
+    let magnetic = matches!(setup.space, ModelSpace::Magnetic { .. });
+    if !magnetic && (setup.external_lmax.is_some() || setup.secular_epoch_year.is_some()) {
+        return Err(Error::invalid(
+            "external terms and secular variation belong to magnetic fits (quantities br, btheta, blambda, x, y, z, f)",
+        ));
+    }
+    if setup.external_lmax.is_some_and(|l| !(1..=3).contains(&l)) {
+        return Err(Error::invalid(format!(
+            "--external-lmax {} must lie in 1..=3",
+            setup.external_lmax.unwrap_or(0)
+        )));
+    }
+    if setup.normal_field != NormalField::None && !matches!(setup.space, ModelSpace::Gravity(_)) {
+        return Err(Error::invalid(
+            "--normal-field applies to fits of gravity quantities only",
+        ));
+    }
+    for o in &set.observations {
+        let at = || describe_source(set, o);
+        setup
+            .space
+            .check_quantity(o.quantity)
+            .map_err(|e| Error::invalid(format!("{}: {e}", at())))?;
+        let p = &o.position;
+        if !(p.radius_m.is_finite() && p.radius_m > 0.0) {
+            return Err(Error::invalid(format!(
+                "{}: the observation lies at radius {} m; an altitude below −R (the centre of the body) is not a position",
+                at(),
+                p.radius_m
+            )));
+        }
+        if !(o.value.is_finite()) || o.sigma.is_some_and(|s| !(s.is_finite() && s > 0.0)) {
+            return Err(Error::invalid(format!(
+                "{}: value {} or sigma {:?} is not usable (finite value, sigma > 0)",
+                at(),
+                o.value,
+                o.sigma
+            )));
+        }
+        match (o.time_year, setup.secular_epoch_year) {
+            (Some(t), None) => {
+                return Err(Error::invalid(format!(
+                    "{}: the observation has a time ({t}) but the model has no time terms; pass --secular-variation --epoch YEAR, or drop the time column",
+                    at()
+                )))
+            }
+            (None, Some(_)) => {
+                return Err(Error::invalid(format!(
+                    "{}: secular variation needs a time (decimal year) for every observation; this one has none",
+                    at()
+                )))
+            }
+            _ => {}
+        }
+    }
+    let has_f = set.observations.iter().any(|o| o.quantity == Quantity::F);
+    let has_vector = set.observations.iter().any(|o| o.quantity != Quantity::F);
+    if has_f && setup.start.is_none() && !has_vector {
+        let first = set
+            .observations
+            .iter()
+            .find(|o| o.quantity == Quantity::F)
+            .expect("has F");
+        return Err(Error::invalid(format!(
+            "{}: total intensity F is nonlinear in the coefficients and needs a model to start from: pass --start MODEL, or add vector observations to the fit",
+            describe_source(set, first)
+        )));
+    }
+    Ok(())
+}
+
+/// The full unknown vector of a start model (internal block only; others zero).
+fn start_vector(
+    start: &Coefficients,
+    layout: &ParameterLayout,
+    space: &ModelSpace,
+) -> Result<Vec<f64>> {
+    let target = match space {
+        ModelSpace::Magnetic { .. } => crate::coeffs::Normalization::Schmidt,
+        _ => crate::coeffs::Normalization::Geodesy,
+    };
+    let m = start.converted(target, false)?;
+    let mut x = vec![0.0; layout.full_len()];
+    let internal = &layout.internal;
+    for l in 1..=internal.lmax.min(m.lmax()) {
+        for mm in 0..=l {
+            x[internal.c_index(l, mm)] = m.c(l, mm);
+            if mm > 0 {
+                x[internal.s_index(l, mm)] = m.s(l, mm);
+            }
+        }
+    }
+    Ok(x)
+}
+
+/// As [`fit_observations`], reporting progress while assembling.
+pub fn fit_observations_with_progress(
+    set: &ObservationSet,
+    setup: &FitSetup,
+    progress: &dyn Progress,
+) -> Result<FitResult> {
+    check_observations(set, setup)?;
+    let lmax = setup.lmax;
+    // the estimate first: nothing of the size of the degree is built before it
+    crate::memory::check_fits(
+        &format!("the normal matrix of a degree-{lmax} fit"),
+        fit_memory_bytes(lmax, &setup.regularization),
+    )?;
+    let magnetic = matches!(setup.space, ModelSpace::Magnetic { .. });
+    let mut fixed = setup.fixed_degrees.clone();
+    if magnetic && !fixed.contains(&0) {
+        fixed.push(0);
+    }
+    let layout = ParameterLayout::new(
+        lmax,
+        setup.secular_epoch_year.is_some(),
+        setup.external_lmax,
+        &fixed,
+    );
+    let u = layout.free_len();
+    if u == 0 {
+        return Err(Error::invalid(
+            "every degree is fixed: the fit has no unknowns",
+        ));
+    }
     crate::memory::check_fits(
         &format!("the normal matrix of a degree-{lmax} fit ({u} unknowns)"),
-        fit_memory_bytes(lmax, &options.regularization),
+        unknowns_memory_bytes(u as u64, &setup.regularization),
     )?;
-    let mut warnings = coverage_warnings(points, lmax, options.body_radius_m);
-
-    let normals = assemble(points, &layout, progress);
-    progress.stage("solving the normal equations", 0);
-    let prior = options.regularization.prior(&layout);
-    let lambda = match options.regularization {
-        Regularization::None => 0.0,
-        Regularization::Damping(l) => l,
-        Regularization::Kaula { .. } => 1.0,
-        Regularization::Gcv | Regularization::KaulaGcv { .. } => {
-            let spectrum = GcvSpectrum::new(
-                &normals.n,
-                &prior,
-                &normals.b,
-                normals.y_w_y,
-                normals.observations,
-            );
-            spectrum.choose().lambda
-        }
-    };
-    let solution = solve(&normals.n, &prior, lambda, &normals.b)?;
-
-    let predicted = predict(points, &layout, &solution.x);
-    let residuals: Vec<f64> = points
-        .value
+    let r_ref = setup.space.reference_radius_m();
+    let lat: Vec<f64> = set
+        .observations
         .iter()
-        .zip(&predicted)
-        .map(|(y, p)| y - p)
+        .map(|o| 90.0 - o.position.colatitude_rad.to_degrees())
         .collect();
-    let n = points.len() as f64;
-    let residual_rms = (residuals.iter().map(|r| r * r).sum::<f64>() / n).sqrt();
-    let chi2: f64 = residuals
+    let lon: Vec<f64> = set
+        .observations
         .iter()
-        .enumerate()
-        .map(|(i, r)| points.weight(i) * r * r)
-        .sum();
-    let trace_h = u as f64
-        - lambda
-            * prior
-                .iter()
-                .zip(&solution.covariance_diagonal)
-                .map(|(p, c)| p * c)
-                .sum::<f64>();
+        .map(|o| o.position.longitude_rad.to_degrees())
+        .collect();
+    let mut warnings = coverage_warnings_at(&lat, &lon, u, lmax, r_ref);
+
+    let normal_zonals = match setup.space {
+        ModelSpace::Gravity(scale) => {
+            setup
+                .normal_field
+                .zonals_for(lmax, scale.reference_radius_m, scale.gm_m3_s2)
+        }
+        _ => Vec::new(),
+    };
+    let builder = RowBuilder::new(
+        setup.space,
+        layout.clone(),
+        setup.secular_epoch_year.unwrap_or(0.0),
+        &normal_zonals,
+    );
+    let degrees: Vec<usize> = layout.free_kinds().iter().map(|&(_, l)| l).collect();
+    let prior = setup.regularization.prior(&degrees);
+    let has_f = set.observations.iter().any(|o| o.quantity == Quantity::F);
+    let mut current: Option<Vec<f64>> = match (&setup.start, has_f) {
+        (Some(start), true) => Some(start_vector(start, &layout, &setup.space)?),
+        _ => None,
+    };
+    let n_obs = set.len();
+    let base_weights: Vec<f64> = (0..n_obs).map(|i| set.weight(i)).collect();
+    let mut robust_factor = vec![1.0; n_obs];
+    let mut iterations = Vec::new();
+
+    let (solution, lambda, x_full, residuals) = loop {
+        let pass = iterations.len() + 1;
+        // Without a start model, the first pass of an F fit uses the vector rows alone.
+        let skip_f = has_f && current.is_none();
+        let lin = current.clone();
+        let normals = assemble_rows(
+            u,
+            n_obs,
+            || (builder.scratch(), vec![0.0; 0]),
+            |i, (sc, _), col| {
+                let o = &set.observations[i];
+                if skip_f && o.quantity == Quantity::F {
+                    col.iter_mut().for_each(|v| *v = 0.0);
+                    return Ok((0.0, 0.0));
+                }
+                let offset = builder.fill(o, lin.as_deref(), sc)?;
+                layout.gather(&sc.row, col);
+                Ok((base_weights[i] * robust_factor[i], o.value - offset))
+            },
+            progress,
+        )?;
+        progress.stage("solving the normal equations", 0);
+        let lambda = match setup.regularization {
+            Regularization::None => 0.0,
+            Regularization::Damping(l) => l,
+            Regularization::Kaula { .. } => 1.0,
+            Regularization::Gcv | Regularization::KaulaGcv { .. } => {
+                GcvSpectrum::new(
+                    &normals.n,
+                    &prior,
+                    &normals.b,
+                    normals.y_w_y,
+                    normals.observations,
+                )
+                .choose()
+                .lambda
+            }
+        };
+        let solution = solve(&normals.n, &prior, lambda, &normals.b)?;
+        let x_full = layout.expand(&solution.x);
+        let residuals = predict_all(&builder, set, &x_full)?;
+        let residuals: Vec<f64> = set
+            .observations
+            .iter()
+            .zip(&residuals)
+            .map(|(o, p)| o.value - p)
+            .collect();
+        let relative_change = match &current {
+            Some(prev) => {
+                let scale = x_full
+                    .iter()
+                    .fold(0.0f64, |a, v| a.max(v.abs()))
+                    .max(1e-300);
+                x_full
+                    .iter()
+                    .zip(prev)
+                    .fold(0.0f64, |a, (x, p)| a.max((x - p).abs()))
+                    / scale
+            }
+            None => f64::INFINITY,
+        };
+        let mut weights_changed = false;
+        let mut downweighted = 0;
+        if let Some(rob) = &setup.robust {
+            for i in 0..n_obs {
+                let standardised = residuals[i] * base_weights[i].sqrt();
+                let f = rob.weight(standardised);
+                weights_changed |= (f - robust_factor[i]).abs() > 1e-6;
+                robust_factor[i] = f;
+                downweighted += usize::from(f < 1.0);
+            }
+        }
+        let chi2: f64 = (0..n_obs)
+            .map(|i| base_weights[i] * robust_factor[i] * residuals[i] * residuals[i])
+            .sum();
+        let trace_h = effective_parameters(&prior, lambda, &solution.covariance_diagonal);
+        let dof = normals.observations as f64 - trace_h;
+        iterations.push(IterationReport {
+            iteration: pass,
+            relative_change,
+            chi2_per_dof: if dof > 0.5 { chi2 / dof } else { f64::NAN },
+            downweighted_rows: downweighted,
+        });
+        let nonlinear_done = !has_f || relative_change < GAUSS_NEWTON_TOLERANCE;
+        let robust_done = setup.robust.is_none() || !weights_changed;
+        let finished = (nonlinear_done && robust_done && !skip_f) || pass >= MAX_ITERATIONS;
+        if finished {
+            if pass >= MAX_ITERATIONS && !(nonlinear_done && robust_done) {
+                warnings.push(format!(
+                    "the iteration stopped after {MAX_ITERATIONS} passes without converging (last relative change {relative_change:.2e})"
+                ));
+            }
+            break (solution, lambda, x_full, residuals);
+        }
+        current = Some(x_full);
+    };
+
+    let weights: Vec<f64> = (0..n_obs)
+        .map(|i| base_weights[i] * robust_factor[i])
+        .collect();
+    let n = n_obs as f64;
+    let residual_rms = (residuals.iter().map(|r| r * r).sum::<f64>() / n).sqrt();
+    let chi2: f64 = residuals.iter().zip(&weights).map(|(r, w)| w * r * r).sum();
+    let trace_h = effective_parameters(&prior, lambda, &solution.covariance_diagonal);
     let dof = n - trace_h;
     let chi2_per_dof = if dof > 0.5 { chi2 / dof } else { f64::NAN };
     if dof <= 0.5 {
         warnings.push(format!(
-            "no degrees of freedom left ({} observations, {trace_h:.1} effective parameters): χ²/dof is undefined",
-            points.len()
+            "no degrees of freedom left ({n_obs} observations, {trace_h:.1} effective parameters): χ²/dof is undefined"
         ));
     }
-    let sigmas_scaled = points.sigma.is_none();
+    let sigmas_scaled = !set.all_have_sigma();
     let factor = if sigmas_scaled && chi2_per_dof.is_finite() {
         chi2_per_dof
     } else {
         1.0
     };
-    let sigma: Vec<f64> = solution
+    let sigma_free: Vec<f64> = solution
         .covariance_diagonal
         .iter()
         .map(|c| (c.max(0.0) * factor).sqrt())
         .collect();
+    let sigma_full = layout.expand(&sigma_free);
     if solution.condition_estimate > 1e12 {
         warnings.push(format!(
             "the normal matrix is ill-conditioned (condition ≈ {:.1e}): coefficients and their σ are unreliable; regularise or lower --lmax",
             solution.condition_estimate
         ));
     }
-    let mut model = layout.to_coefficients(&solution.x, Some(&sigma));
-    model.reference_radius_m = options.body_radius_m;
-    model.attributes.insert(
-        "fit_regularization".into(),
-        options.regularization.describe(),
-    );
+    let datasets = dataset_summaries(set, &residuals, &weights);
+    let downweighted_rows = iterations.last().map_or(0, |i| i.downweighted_rows);
+
+    let block = |offset: usize, sub: &design::UnknownLayout| -> Coefficients {
+        let n = sub.len();
+        let mut c = sub.to_coefficients(
+            &x_full[offset..offset + n],
+            Some(&sigma_full[offset..offset + n]),
+        );
+        c.reference_radius_m = r_ref;
+        if magnetic {
+            c.normalization = crate::coeffs::Normalization::Schmidt;
+            c.units = "nT".into();
+            c.attributes.insert("field_kind".into(), "magnetic".into());
+        }
+        c
+    };
+    let mut model = block(0, &layout.internal);
+    match setup.space {
+        ModelSpace::Gravity(scale) => {
+            model.gm_m3_s2 = Some(scale.gm_m3_s2);
+            model.units = "1".into();
+            for &(l, c) in &normal_zonals {
+                if l <= lmax {
+                    let current = model.c(l, 0);
+                    model.set(l, 0, current + c, 0.0);
+                }
+            }
+            if setup.normal_field != NormalField::None {
+                model.attributes.insert(
+                    "fit_normal_field_added".into(),
+                    format!(
+                        "{}: fitted as a disturbing potential, the normal potential added back",
+                        setup.normal_field
+                    ),
+                );
+            }
+        }
+        ModelSpace::Magnetic { .. } => {}
+        ModelSpace::Generic { .. } => {}
+    }
+    let rates = layout.secular_variation.then(|| {
+        let mut r = block(layout.rate_offset(), &layout.internal);
+        if magnetic {
+            r.units = "nT/year".into();
+        }
+        r
+    });
+    let external = layout
+        .external
+        .as_ref()
+        .map(|e| block(layout.external_offset(), e));
+    if let Some(epoch) = setup.secular_epoch_year {
+        model
+            .attributes
+            .insert("epoch_year".into(), format!("{epoch}"));
+    }
+    if !setup.fixed_degrees.is_empty() {
+        let list: Vec<String> = setup.fixed_degrees.iter().map(|l| l.to_string()).collect();
+        model
+            .attributes
+            .insert("fit_fixed_degrees".into(), list.join(","));
+    }
+    model
+        .attributes
+        .insert("fit_regularization".into(), setup.regularization.describe());
     model
         .attributes
         .insert("fit_lambda".into(), format!("{lambda:e}"));
     model
         .attributes
-        .insert("fit_observations".into(), points.len().to_string());
+        .insert("fit_observations".into(), n_obs.to_string());
     model
         .attributes
         .insert("fit_chi2_per_dof".into(), format!("{chi2_per_dof}"));
@@ -287,37 +713,107 @@ pub fn fit_with_progress(
     model.attributes.insert(
         "fit_sigma_convention".into(),
         if sigmas_scaled {
-            "posterior covariance diagonal scaled by the a-posteriori variance factor chi2/dof (no input sigma)".into()
+            "posterior covariance diagonal scaled by the a-posteriori variance factor chi2/dof (not every observation has sigma)".into()
         } else {
             "formal posterior covariance diagonal from the input sigma, unscaled".into()
         },
     );
     Ok(FitResult {
         model,
+        rates,
+        external,
         residual_rms,
         chi2_per_dof,
         condition_estimate: solution.condition_estimate,
         lambda,
         effective_parameters: trace_h,
+        unknowns: u,
         sigmas_scaled,
         residuals,
+        datasets,
+        iterations,
+        downweighted_rows,
         warnings,
     })
+}
+
+/// tr H = u − λ Σ P_ii [(N + λP)⁻¹]_ii.
+fn effective_parameters(prior: &[f64], lambda: f64, covariance_diagonal: &[f64]) -> f64 {
+    prior.len() as f64
+        - lambda
+            * prior
+                .iter()
+                .zip(covariance_diagonal)
+                .map(|(p, c)| p * c)
+                .sum::<f64>()
+}
+
+/// The model's value of every observation for the full unknown vector `x` (parallel).
+pub fn predict_all(builder: &RowBuilder, set: &ObservationSet, x: &[f64]) -> Result<Vec<f64>> {
+    use rayon::prelude::*;
+    set.observations
+        .par_iter()
+        .map_init(|| builder.scratch(), |sc, o| builder.predict(o, x, sc))
+        .collect()
+}
+
+fn dataset_summaries(
+    set: &ObservationSet,
+    residuals: &[f64],
+    weights: &[f64],
+) -> Vec<DataSetSummary> {
+    let mut out: Vec<DataSetSummary> = set
+        .datasets
+        .iter()
+        .map(|d| DataSetSummary {
+            name: d.name.clone(),
+            observations: 0,
+            chi2: 0.0,
+            chi2_per_observation: f64::NAN,
+            residual_rms: f64::NAN,
+        })
+        .collect();
+    let mut sum_r2 = vec![0.0; out.len()];
+    for (i, o) in set.observations.iter().enumerate() {
+        if let Some(d) = out.get_mut(o.dataset) {
+            d.observations += 1;
+            d.chi2 += weights[i] * residuals[i] * residuals[i];
+            sum_r2[o.dataset] += residuals[i] * residuals[i];
+        }
+    }
+    for (d, s) in out.iter_mut().zip(sum_r2) {
+        if d.observations > 0 {
+            d.chi2_per_observation = d.chi2 / d.observations as f64;
+            d.residual_rms = (s / d.observations as f64).sqrt();
+        }
+    }
+    out
 }
 
 /// Warnings about the data for degree L: fewer observations than unknowns, and the share of
 /// the sphere farther than the half-wavelength πR/L from any observation (measured on the
 /// Gauss grid of L, area-weighted).
 pub fn coverage_warnings(points: &PointSet, lmax: usize, body_radius_m: f64) -> Vec<String> {
-    let mut warnings = Vec::new();
     let u = (lmax + 1) * (lmax + 1);
-    if points.len() < u {
+    coverage_warnings_at(&points.lat_deg, &points.lon_deg, u, lmax, body_radius_m)
+}
+
+/// As [`coverage_warnings`] for observations at (lat, lon) in degrees and `u` unknowns.
+pub fn coverage_warnings_at(
+    lat_deg: &[f64],
+    lon_deg: &[f64],
+    u: usize,
+    lmax: usize,
+    body_radius_m: f64,
+) -> Vec<String> {
+    let mut warnings = Vec::new();
+    if lat_deg.len() < u {
         warnings.push(format!(
             "under-determined: {} observations for {u} unknowns at L = {lmax}; the fit rests on the regularisation",
-            points.len()
+            lat_deg.len()
         ));
     }
-    let index = SphereIndex::new(&points.lat_deg, &points.lon_deg);
+    let index = SphereIndex::new(lat_deg, lon_deg);
     let grid = crate::sht::GaussGrid::new(lmax.max(1));
     let half_wavelength = std::f64::consts::PI / lmax.max(1) as f64;
     let (mut gap_area, mut total) = (0.0, 0.0);

@@ -26,33 +26,67 @@ pub struct NormalEquations {
     pub observations: usize,
 }
 
-/// Assembles the normal equations for all points.
+/// Assembles the normal equations for all points (plain values on the sphere, the
+/// [`design_row`] of each point).
 pub fn assemble(
     points: &PointSet,
     layout: &UnknownLayout,
     progress: &dyn Progress,
 ) -> NormalEquations {
-    let u = layout.len();
     let table = LegendreTable::new(layout.lmax);
+    assemble_rows(
+        layout.len(),
+        points.len(),
+        || vec![0.0; packed_len(layout.lmax)],
+        |i, p, col| {
+            design_row(layout, &table, points.lat_deg[i], points.lon_deg[i], p, col);
+            Ok((points.weight(i), points.value[i]))
+        },
+        progress,
+    )
+    .expect("plain design rows do not fail")
+}
+
+/// Assembles the normal equations of `count` observations with `u` unknowns. `row(i,
+/// scratch, col)` writes observation i's design row into `col` and returns its weight and
+/// (reduced) observed value; `scratch` comes from `init`, one per thread. A weight of 0 leaves
+/// the observation out.
+pub fn assemble_rows<S, I, F>(
+    u: usize,
+    count: usize,
+    init: I,
+    row: F,
+    progress: &dyn Progress,
+) -> crate::error::Result<NormalEquations>
+where
+    I: Fn() -> S + Sync + Send,
+    F: Fn(usize, &mut S, &mut [f64]) -> crate::error::Result<(f64, f64)> + Sync + Send,
+{
     let mut n = Mat::<f64>::zeros(u, u);
     let mut b = vec![0.0; u];
     let mut y_w_y = 0.0;
     let mut block = vec![0.0; u * BLOCK_POINTS];
-    let count = points.len();
+    let mut sqrt_wy = vec![0.0; BLOCK_POINTS];
+    let mut used = 0usize;
     progress.stage("assembling normals", count.div_ceil(BLOCK_POINTS) as u64);
     for start in (0..count).step_by(BLOCK_POINTS) {
         let end = (start + BLOCK_POINTS).min(count);
         let nb = end - start;
         let cols = &mut block[..u * nb];
-        cols.par_chunks_mut(u).enumerate().for_each_init(
-            || vec![0.0; packed_len(layout.lmax)],
-            |p, (k, col)| {
-                let i = start + k;
-                design_row(layout, &table, points.lat_deg[i], points.lon_deg[i], p, col);
-                let sw = points.weight(i).sqrt();
+        let wy: crate::error::Result<Vec<(f64, f64)>> = cols
+            .par_chunks_mut(u)
+            .enumerate()
+            .map_init(&init, |scratch, (k, col)| {
+                let (w, y) = row(start + k, scratch, col)?;
+                let sw = w.sqrt();
                 col.iter_mut().for_each(|v| *v *= sw);
-            },
-        );
+                Ok((sw, sw * y))
+            })
+            .collect();
+        for (k, (sw, v)) in wy?.into_iter().enumerate() {
+            sqrt_wy[k] = v;
+            used += usize::from(sw > 0.0);
+        }
         let bmat = faer::mat::from_column_major_slice::<f64, _, _>(cols, u, nb);
         tri_matmul(
             n.as_mut(),
@@ -65,21 +99,19 @@ pub fn assemble(
             1.0,
             Parallelism::Rayon(0),
         );
-        for k in 0..nb {
-            let i = start + k;
-            let wy = points.weight(i).sqrt() * points.value[i];
+        for (k, &wy) in sqrt_wy[..nb].iter().enumerate() {
             y_w_y += wy * wy;
             let col = &cols[k * u..(k + 1) * u];
             b.iter_mut().zip(col).for_each(|(bi, a)| *bi += a * wy);
         }
         progress.advance(1);
     }
-    NormalEquations {
+    Ok(NormalEquations {
         n,
         b,
         y_w_y,
-        observations: count,
-    }
+        observations: used,
+    })
 }
 
 /// Model values A x at every point (parallel; one design row per point).
@@ -146,6 +178,7 @@ mod tests {
             value,
             sigma: Some(sigma),
             source_lines: vec![0; count],
+            extras: Default::default(),
         };
         let layout = UnknownLayout::new(5);
         let fast = assemble(&points, &layout, &crate::progress::Silent);

@@ -22,7 +22,7 @@ use std::path::{Path, PathBuf};
 use ::csv::{ByteRecord, Reader, ReaderBuilder};
 
 use super::recent_bytes::RecentBytes;
-use super::validate::{RawRecord, RecordColumns};
+use super::validate::{RawExtras, RawRecord, RecordColumns};
 use super::PointReadOptions;
 use crate::error::{Error, Result};
 
@@ -37,6 +37,10 @@ struct ColumnIndices {
     lon: usize,
     value: Option<usize>,
     sigma: Option<usize>,
+    quantity: Option<usize>,
+    altitude_km: Option<usize>,
+    height_m: Option<usize>,
+    time: Option<usize>,
 }
 
 /// The records of a CSV point file (unvalidated), read one at a time.
@@ -78,6 +82,10 @@ impl<R: Read> CsvPointRecords<R> {
                 lon: 0,
                 value: None,
                 sigma: None,
+                quantity: None,
+                altitude_km: None,
+                height_m: None,
+                time: None,
             },
             finished: false,
         };
@@ -98,6 +106,10 @@ impl<R: Read> CsvPointRecords<R> {
         RecordColumns {
             value: self.columns.value.is_some(),
             sigma: self.columns.sigma.is_some(),
+            quantity: self.columns.quantity.is_some(),
+            altitude_km: self.columns.altitude_km.is_some(),
+            height_m: self.columns.height_m.is_some(),
+            time: self.columns.time.is_some(),
         }
     }
 
@@ -195,6 +207,14 @@ impl<R: Read> CsvPointRecords<R> {
             lon: field(c.lon),
             value: c.value.map(field),
             sigma: c.sigma.map(field),
+            extras: RawExtras {
+                quantity: c
+                    .quantity
+                    .map(|k| String::from_utf8_lossy(&self.record[k]).into_owned()),
+                altitude_km: c.altitude_km.map(field),
+                height_m: c.height_m.map(field),
+                time: c.time.map(field),
+            },
         })
     }
 }
@@ -239,20 +259,48 @@ fn column_index(headers: &[String], name: &str) -> Option<usize> {
 }
 
 /// Locates the columns named in `options`; a required one that is missing is named with the
-/// header it was looked for in.
+/// header it was looked for in, and a name that matches two header columns is refused (which
+/// one was meant cannot be known).
 fn locate_columns(
     path: &Path,
     headers: &[String],
     options: &PointReadOptions,
 ) -> Result<ColumnIndices> {
     let names = &options.columns;
+    let hint = |key: &str| match &options.column_hint {
+        Some(config_key) => format!("set {config_key}.{key} = \"NAME\" in the config"),
+        None => format!("name it with --columns {key}=NAME"),
+    };
+    for name in [&names.lat, &names.lon, &names.value, &names.sigma] {
+        let matching: Vec<usize> = headers
+            .iter()
+            .enumerate()
+            .filter(|(_, h)| h.eq_ignore_ascii_case(name))
+            .map(|(i, _)| i + 1)
+            .collect();
+        if matching.len() > 1 {
+            return Err(Error::format(
+                path,
+                format!(
+                    "the header has {} columns named `{name}` (columns {}); rename all but one",
+                    matching.len(),
+                    matching
+                        .iter()
+                        .map(|i| i.to_string())
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+            ));
+        }
+    }
     let required = |key: &str, name: &str| -> Result<usize> {
         column_index(headers, name).ok_or_else(|| {
             Error::format(
                 path,
                 format!(
-                    "no `{name}` column for {key} in the header (columns: {}); name it with --columns {key}=NAME",
-                    headers.join(", ")
+                    "no `{name}` column for {key} in the header (columns: {}); {}",
+                    headers.join(", "),
+                    hint(key)
                 ),
             )
         })
@@ -266,5 +314,9 @@ fn locate_columns(
             column_index(headers, &names.value)
         },
         sigma: column_index(headers, &names.sigma),
+        quantity: column_index(headers, &names.quantity),
+        altitude_km: column_index(headers, &names.altitude_km),
+        height_m: column_index(headers, &names.height_m),
+        time: column_index(headers, &names.time),
     })
 }

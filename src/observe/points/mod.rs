@@ -2,7 +2,12 @@
 //! what was read, skipped and merged.
 //!
 //! Positions are geocentric latitude and longitude in degrees; longitudes may be given in
-//! either convention (−180..180 or 0..360).
+//! either convention (−180..180 or 0..360). A file may also carry, per row, the observed
+//! `quantity` (a name as `kugel evaluate --quantity` takes it), `altitude_km` above the
+//! reference sphere or `height_m` above an ellipsoid (then `lat` is geodetic; the fit converts
+//! it), and `time` (decimal year); these are kept in [`PointExtras`]. Rows with any of them are
+//! never merged as duplicates: two components, heights or epochs at one position are distinct
+//! observations.
 //!
 //! This folder owns point input: [`csv`] (streaming CSV reader), [`netcdf`] (NetCDF point
 //! files) and [`validate`] (the rules every record passes and the merging of duplicates).
@@ -32,6 +37,31 @@ pub struct PointSet {
     /// Line number (CSV, 1-based) or record index (NetCDF, 0-based) of each point in its
     /// source; for merged duplicates, the first occurrence.
     pub source_lines: Vec<usize>,
+    /// The optional per-row columns (each `None` when the file has no such column).
+    pub extras: PointExtras,
+}
+
+/// Optional per-row columns of a point file, each as long as the set when present.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct PointExtras {
+    /// Observed quantity per row.
+    pub quantity: Option<Vec<crate::field::Quantity>>,
+    /// Altitude above the reference sphere, km.
+    pub altitude_km: Option<Vec<f64>>,
+    /// Height above an ellipsoid, m (latitude is then geodetic).
+    pub height_m: Option<Vec<f64>>,
+    /// Time, decimal year.
+    pub time_year: Option<Vec<f64>>,
+}
+
+impl PointExtras {
+    /// Whether any optional column is present.
+    pub fn any(&self) -> bool {
+        self.quantity.is_some()
+            || self.altitude_km.is_some()
+            || self.height_m.is_some()
+            || self.time_year.is_some()
+    }
 }
 
 impl PointSet {
@@ -76,6 +106,7 @@ impl PointSet {
         let columns = RecordColumns {
             value: true,
             sigma: sigma.is_some(),
+            ..Default::default()
         };
         let records = (0..n).map(|i| {
             Ok(RawRecord {
@@ -84,6 +115,7 @@ impl PointSet {
                 lon: Ok(lon_deg[i]),
                 value: Some(Ok(value[i])),
                 sigma: sigma.as_ref().map(|s| Ok(s[i])),
+                extras: Default::default(),
             })
         });
         let options = PointReadOptions::default();
@@ -123,6 +155,12 @@ pub struct ColumnNames {
     pub value: String,
     /// Name of the σ column; when absent from the file, points carry no σ.
     pub sigma: String,
+    /// Optional columns: observed quantity, altitude above the sphere (km), height above the
+    /// ellipsoid (m), time (decimal year).
+    pub quantity: String,
+    pub altitude_km: String,
+    pub height_m: String,
+    pub time: String,
 }
 
 impl Default for ColumnNames {
@@ -132,18 +170,23 @@ impl Default for ColumnNames {
             lon: "lon".into(),
             value: "value".into(),
             sigma: "sigma".into(),
+            quantity: "quantity".into(),
+            altitude_km: "altitude_km".into(),
+            height_m: "height_m".into(),
+            time: "time".into(),
         }
     }
 }
 
 impl ColumnNames {
-    /// Parses `lat=LAT,lon=LON,value=G,sigma=ERR` (any subset; the rest keep their defaults).
+    /// Parses `lat=LAT,lon=LON,value=G,sigma=ERR,quantity=Q,altitude_km=ALT,height_m=H,time=T`
+    /// (any subset; the rest keep their defaults).
     pub fn parse(spec: &str) -> Result<ColumnNames> {
         let mut names = ColumnNames::default();
         for part in spec.split(',').map(str::trim).filter(|p| !p.is_empty()) {
             let (key, name) = part.split_once('=').ok_or_else(|| {
                 Error::invalid(format!(
-                    "--columns: `{part}` is not KEY=NAME (keys: lat, lon, value, sigma)"
+                    "--columns: `{part}` is not KEY=NAME (keys: lat, lon, value, sigma, quantity, altitude_km, height_m, time)"
                 ))
             })?;
             let name = name.trim().to_string();
@@ -157,9 +200,14 @@ impl ColumnNames {
                 "lon" => names.lon = name,
                 "value" => names.value = name,
                 "sigma" => names.sigma = name,
+                "quantity" => names.quantity = name,
+                "altitude_km" => names.altitude_km = name,
+                "height_m" => names.height_m = name,
+                "time" => names.time = name,
                 other => {
                     return Err(Error::invalid(format!(
-                        "--columns: key `{other}` is not known; expected lat, lon, value or sigma"
+                        "--columns: key `{other}` is not known; expected lat, lon, value, sigma, \
+                         quantity, altitude_km, height_m or time"
                     )))
                 }
             }
@@ -179,6 +227,9 @@ pub struct PointReadOptions {
     /// Whether observations at the same position are merged (σ-weighted mean). Turn off to
     /// keep one output row per input row.
     pub merge_duplicates: bool,
+    /// Where a user names the columns, for the hint of a missing-column message (e.g. the
+    /// config key `inputs.NAME.columns`); the command line's `--columns` when `None`.
+    pub column_hint: Option<String>,
 }
 
 impl Default for PointReadOptions {
@@ -188,6 +239,7 @@ impl Default for PointReadOptions {
             on_bad_row: BadRowPolicy::Error,
             require_value: true,
             merge_duplicates: true,
+            column_hint: None,
         }
     }
 }
@@ -239,9 +291,7 @@ impl PointReadReport {
 /// Reads a point file: NetCDF when the file starts with a NetCDF or HDF5 signature, CSV
 /// otherwise.
 pub fn read_points(path: &Path, options: &PointReadOptions) -> Result<(PointSet, PointReadReport)> {
-    let head = read_head(path)?;
-    let is_netcdf = head.starts_with(b"CDF") || head.starts_with(b"\x89HDF");
-    if is_netcdf {
+    if has_netcdf_signature(path)? {
         let (columns, records) = netcdf::read_netcdf_records(path, options)?;
         validate_records(
             path,
@@ -255,6 +305,12 @@ pub fn read_points(path: &Path, options: &PointReadOptions) -> Result<(PointSet,
         let columns = records.record_columns();
         validate_records(path, "line", columns, records, options)
     }
+}
+
+/// True when the file starts with a NetCDF classic (`CDF`) or HDF5 signature.
+pub fn has_netcdf_signature(path: &Path) -> Result<bool> {
+    let head = read_head(path)?;
+    Ok(head.starts_with(b"CDF") || head.starts_with(b"\x89HDF"))
 }
 
 fn read_head(path: &Path) -> Result<Vec<u8>> {

@@ -8,7 +8,7 @@ use netcdf_reader::NcFile;
 
 use crate::error::{Error, Result};
 
-use super::validate::{RawRecord, RecordColumns};
+use super::validate::{RawExtras, RawRecord, RecordColumns};
 use super::PointReadOptions;
 
 /// Finds a variable by case-insensitive name.
@@ -58,6 +58,11 @@ pub fn read_netcdf_records(
     let lon = locate("lon", &names.lon, true)?.unwrap_or_default();
     let value = locate("value", &names.value, options.require_value)?;
     let sigma = locate("sigma", &names.sigma, false)?;
+    // Optional numeric columns; a per-row quantity column is a CSV feature (NetCDF point
+    // files name one quantity per file, given on the command line).
+    let altitude = locate("altitude_km", &names.altitude_km, false)?;
+    let height = locate("height_m", &names.height_m, false)?;
+    let time = locate("time", &names.time, false)?;
 
     let read = |name: &str| -> Result<Vec<f64>> {
         let var = file
@@ -72,15 +77,18 @@ pub fn read_netcdf_records(
                 ),
             ));
         }
-        let data = file
-            .read_variable_unpacked_masked(name)
-            .map_err(|e| Error::format(path, format!("variable `{name}`: {e}")))?;
-        Ok(data.iter().copied().collect())
+        let shape = var.shape();
+        crate::io::netcdf_common::check_declared_size(path, name, &shape, shape[0], 4)?;
+        // fill, missing and never-written values read as NaN: bad records for the row policy
+        Ok(crate::io::netcdf_common::read_cf_values(&file, path, name, None)?.values)
     };
     let lat_v = read(&lat)?;
     let lon_v = read(&lon)?;
     let value_v = value.as_deref().map(read).transpose()?;
     let sigma_v = sigma.as_deref().map(read).transpose()?;
+    let altitude_v = altitude.as_deref().map(read).transpose()?;
+    let height_v = height.as_deref().map(read).transpose()?;
+    let time_v = time.as_deref().map(read).transpose()?;
     let n = lat_v.len();
     let mismatch = |name: &str, len: usize| {
         Error::format(
@@ -101,9 +109,24 @@ pub fn read_netcdf_records(
             return Err(mismatch(name, s.len()));
         }
     }
+    for (v, name) in [
+        (&altitude_v, &altitude),
+        (&height_v, &height),
+        (&time_v, &time),
+    ] {
+        if let (Some(v), Some(name)) = (v, name) {
+            if v.len() != n {
+                return Err(mismatch(name, v.len()));
+            }
+        }
+    }
     let columns = RecordColumns {
         value: value_v.is_some(),
         sigma: sigma_v.is_some(),
+        quantity: false,
+        altitude_km: altitude_v.is_some(),
+        height_m: height_v.is_some(),
+        time: time_v.is_some(),
     };
     let records = (0..n)
         .map(|i| RawRecord {
@@ -112,6 +135,12 @@ pub fn read_netcdf_records(
             lon: Ok(lon_v[i]),
             value: value_v.as_ref().map(|v| Ok(v[i])),
             sigma: sigma_v.as_ref().map(|s| Ok(s[i])),
+            extras: RawExtras {
+                quantity: None,
+                altitude_km: altitude_v.as_ref().map(|v| Ok(v[i])),
+                height_m: height_v.as_ref().map(|v| Ok(v[i])),
+                time: time_v.as_ref().map(|v| Ok(v[i])),
+            },
         })
         .collect();
     Ok((columns, records))

@@ -4,7 +4,9 @@
 //! - latitude is a number in [−90, 90];
 //! - longitude is a number in [−180, 360] (either convention);
 //! - the value is a finite number;
-//! - σ, where given, is a finite number > 0.
+//! - σ, where given, is a finite number > 0;
+//! - the quantity, where given, is a name `kugel evaluate --quantity` knows;
+//! - altitude, height and time, where given, are finite numbers.
 //!
 //! Observations at the same position (equal latitude and longitude after reducing longitude to
 //! [0, 360); at a pole every longitude is the same position) are merged into one point whose
@@ -17,7 +19,8 @@ use std::path::Path;
 
 use crate::error::{Error, Result};
 
-use super::{BadRowPolicy, PointReadOptions, PointReadReport, PointSet};
+use super::{BadRowPolicy, PointExtras, PointReadOptions, PointReadReport, PointSet};
+use crate::field::Quantity;
 
 /// How many bad rows an error message or report quotes.
 pub const QUOTED_BAD_ROWS: usize = 5;
@@ -34,6 +37,50 @@ pub struct RawRecord {
     pub value: Option<std::result::Result<f64, String>>,
     /// `None` when the source has no σ column.
     pub sigma: Option<std::result::Result<f64, String>>,
+    /// The optional columns (each `None` when absent from the source).
+    pub extras: RawExtras,
+}
+
+/// The optional columns of one record, before validation.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct RawExtras {
+    /// The quantity name as written.
+    pub quantity: Option<String>,
+    pub altitude_km: Option<std::result::Result<f64, String>>,
+    pub height_m: Option<std::result::Result<f64, String>>,
+    pub time: Option<std::result::Result<f64, String>>,
+}
+
+/// The optional columns of one record, validated.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+struct CheckedExtras {
+    quantity: Option<Quantity>,
+    altitude_km: Option<f64>,
+    height_m: Option<f64>,
+    time: Option<f64>,
+}
+
+fn check_extras(r: &RawExtras) -> std::result::Result<CheckedExtras, String> {
+    let finite = |name: &str,
+                  f: &Option<std::result::Result<f64, String>>|
+     -> std::result::Result<Option<f64>, String> {
+        match f {
+            None => Ok(None),
+            Some(Err(text)) => Err(format!("{name} `{text}` is not a number")),
+            Some(Ok(v)) if !v.is_finite() => Err(format!("{name} {v} is not finite")),
+            Some(Ok(v)) => Ok(Some(*v)),
+        }
+    };
+    let quantity = match &r.quantity {
+        None => None,
+        Some(text) => Some(text.parse::<Quantity>().map_err(|e| e.to_string())?),
+    };
+    Ok(CheckedExtras {
+        quantity,
+        altitude_km: finite("altitude_km", &r.altitude_km)?,
+        height_m: finite("height_m", &r.height_m)?,
+        time: finite("time", &r.time)?,
+    })
 }
 
 /// Checks one record; the error text names the field and what was expected.
@@ -92,10 +139,14 @@ fn position_key(lat: f64, lon: f64) -> (u64, u64) {
 
 /// Which optional columns the records of a source carry (known from its header or variable
 /// list before any record is read).
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub struct RecordColumns {
     pub value: bool,
     pub sigma: bool,
+    pub quantity: bool,
+    pub altitude_km: bool,
+    pub height_m: bool,
+    pub time: bool,
 }
 
 /// Validates records as they come, applies the bad-row policy and merges duplicates. `unit`
@@ -114,12 +165,14 @@ pub fn validate_records(
     };
     let mut set = PointSet::default();
     let mut sigma = Vec::new();
+    let mut extras = ExtrasBuilder::default();
     let mut bad = 0usize;
     for r in records {
         let r = r?;
         report.rows_read += 1;
-        match check_record(&r) {
-            Ok((lat, lon, v, s)) => {
+        match check_record(&r).and_then(|ok| Ok((ok, check_extras(&r.extras)?))) {
+            Ok(((lat, lon, v, s), x)) => {
+                extras.push(&x);
                 set.lat_deg.push(lat);
                 set.lon_deg.push(lon);
                 if let Some(v) = v {
@@ -159,7 +212,8 @@ pub fn validate_records(
     if !columns.value {
         set.value.clear();
     }
-    if options.merge_duplicates {
+    set.extras = extras.finish(columns);
+    if options.merge_duplicates && !set.extras.any() {
         merge_duplicates(&mut set, &mut report);
     }
     report.points = set.len();
@@ -173,6 +227,41 @@ pub fn validate_records(
         ));
     }
     Ok((set, report))
+}
+
+/// Collects the validated optional columns row by row.
+#[derive(Default)]
+struct ExtrasBuilder {
+    quantity: Vec<Quantity>,
+    altitude_km: Vec<f64>,
+    height_m: Vec<f64>,
+    time: Vec<f64>,
+}
+
+impl ExtrasBuilder {
+    fn push(&mut self, x: &CheckedExtras) {
+        if let Some(q) = x.quantity {
+            self.quantity.push(q);
+        }
+        if let Some(v) = x.altitude_km {
+            self.altitude_km.push(v);
+        }
+        if let Some(v) = x.height_m {
+            self.height_m.push(v);
+        }
+        if let Some(v) = x.time {
+            self.time.push(v);
+        }
+    }
+
+    fn finish(self, columns: RecordColumns) -> PointExtras {
+        PointExtras {
+            quantity: columns.quantity.then_some(self.quantity),
+            altitude_km: columns.altitude_km.then_some(self.altitude_km),
+            height_m: columns.height_m.then_some(self.height_m),
+            time_year: columns.time.then_some(self.time),
+        }
+    }
 }
 
 /// Merges observations at identical positions into their first occurrence (σ-weighted mean).
@@ -241,7 +330,11 @@ mod tests {
         validate_records(
             Path::new("x.csv"),
             "line",
-            RecordColumns { value: true, sigma },
+            RecordColumns {
+                value: true,
+                sigma,
+                ..Default::default()
+            },
             recs.into_iter().map(Ok),
             &PointReadOptions::default(),
         )
@@ -255,6 +348,7 @@ mod tests {
             lon: Ok(lon),
             value: Some(Ok(v)),
             sigma: s.map(Ok),
+            extras: RawExtras::default(),
         }
     }
 

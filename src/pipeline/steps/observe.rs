@@ -3,9 +3,14 @@
 use super::{ReportPart, StepEnv, StepOutcome};
 use crate::coeffs::Coefficients;
 use crate::error::{Error, Result};
+use crate::field::degree_factors::PotentialScale;
+use crate::field::quantity::QuantityFamily;
+use crate::field::{Ellipsoid, NormalField, Quantity};
 use crate::io::grid::write::{write_grid, GridFile};
 use crate::io::model::write_model;
-use crate::observe::fit::{fit as lsq_fit, FitOptions, Regularization};
+use crate::observe::fit::functional::ModelSpace;
+use crate::observe::fit::observation::PointConversion;
+use crate::observe::fit::{fit_observations, FitSetup, ObservationSet, Regularization, Robust};
 use crate::observe::gaps::GapPolicy;
 use crate::observe::gridding::{grid_points, GriddingMethod, GriddingOptions};
 use crate::observe::points::PointSet;
@@ -54,6 +59,14 @@ fn stamp(model: &mut Coefficients, points: &Points, env: &StepEnv, name: &str, h
 
 pub fn grid(name: &str, step: &GridStep, env: &StepEnv) -> Result<StepOutcome> {
     let points = env.points(&step.input)?;
+    if !matches!(points.quantity.as_str(), "value" | "potential") || points.set.extras.any() {
+        return Err(Error::invalid(format!(
+            "steps.{name}: gridding takes values or potentials on the sphere; '{}' holds {}{} — fit it with a fit step instead",
+            step.input,
+            points.quantity,
+            if points.set.extras.any() { " with per-row quantity, altitude, height or time columns" } else { "" }
+        )));
+    }
     let lmax = step.lmax;
     let (set, scale) = model_units_points(points, env)?;
     let method = match step.method.as_deref() {
@@ -168,66 +181,150 @@ fn default_radius_km(env: &StepEnv, lmax: usize) -> f64 {
     std::f64::consts::PI * env.job.config.body.radius_m / 1000.0 / lmax.max(1) as f64
 }
 
+/// The observations of a fit step: every input's points as observations of its quantity (a
+/// `quantity` column overrides it row by row), at their altitude or ellipsoidal height.
+fn fit_observations_of(step: &FitStep, env: &StepEnv) -> Result<ObservationSet> {
+    let mut set = ObservationSet::default();
+    let names = step.input_names();
+    for (k, input) in names.iter().enumerate() {
+        let points = env.points(input)?;
+        let quantity: Quantity = points.quantity.parse()?;
+        let ellipsoid = match env.job.config.inputs.get(*input) {
+            Some(crate::pipeline::input_spec::Input::Points(p)) => {
+                p.ellipsoid.as_deref().map(Ellipsoid::parse).transpose()?
+            }
+            _ => None,
+        };
+        let weight = step.weights.as_ref().map_or(1.0, |w| w[k]);
+        let d = set.add_dataset(input, weight, points.set.sigma.is_some())?;
+        let path = env.job.input_path(input).unwrap_or_else(|| (*input).into());
+        set.push_point_file(
+            &path,
+            &points.set,
+            &PointConversion {
+                default_quantity: quantity,
+                reference_radius_m: env.job.config.body.radius_m,
+                ellipsoid,
+            },
+            d,
+        )?;
+    }
+    Ok(set)
+}
+
+/// What the fitted coefficients are, from the observed quantities and the body.
+fn fit_space(set: &ObservationSet, env: &StepEnv) -> Result<ModelSpace> {
+    let body = &env.job.config.body;
+    let family = set
+        .observations
+        .iter()
+        .map(|o| o.quantity.family())
+        .find(|f| *f != QuantityFamily::Generic)
+        .unwrap_or(QuantityFamily::Generic);
+    Ok(match family {
+        QuantityFamily::Generic => ModelSpace::Generic {
+            reference_radius_m: body.radius_m,
+        },
+        QuantityFamily::Magnetic => ModelSpace::Magnetic {
+            reference_radius_m: body.radius_m,
+        },
+        QuantityFamily::Gravity => ModelSpace::Gravity(PotentialScale {
+            reference_radius_m: body.radius_m,
+            gm_m3_s2: body
+                .gm_m3_s2
+                .ok_or_else(|| Error::invalid("body.gm_m3_s2: needed to fit gravity quantities"))?,
+        }),
+    })
+}
+
 pub fn fit(name: &str, step: &FitStep, env: &StepEnv) -> Result<StepOutcome> {
-    let points = env.points(&step.input)?;
     let lmax = step.lmax;
-    let (set, scale) = model_units_points(points, env)?;
+    let set = fit_observations_of(step, env)?;
+    let space = fit_space(&set, env)?;
     let regularization = Regularization::parse(step.regularization_spec())?;
-    let options = FitOptions {
+    let setup = FitSetup {
+        lmax,
         regularization,
-        body_radius_m: env.job.config.body.radius_m,
+        space,
+        fixed_degrees: step.fix_degrees.clone().unwrap_or_default(),
+        normal_field: match &step.normal_field {
+            Some(n) => NormalField::parse(n)?,
+            None => NormalField::None,
+        },
+        external_lmax: step.external_lmax,
+        secular_epoch_year: step.epoch,
+        start: None,
+        robust: step.robust.as_deref().map(Robust::parse).transpose()?,
     };
-    let result = lsq_fit(&set, lmax, &options)?;
+    let result = fit_observations(&set, &setup)?;
     let mut model = result.model.clone();
-    stamp(
-        &mut model,
-        points,
-        env,
-        name,
-        &format!(
-            "least-squares fit to degree {lmax}, {}",
+    let first = env.points(step.input_names()[0])?;
+    if let ModelSpace::Generic { .. } = space {
+        model.units = first.units.clone();
+    }
+    model.attributes.insert(
+        "title".into(),
+        format!(
+            "{name}: least-squares fit to degree {lmax}, {}",
             regularization.describe()
         ),
     );
+    let units_of = |d: usize| -> String {
+        set.observations
+            .iter()
+            .find(|o| o.dataset == d)
+            .and_then(|o| o.quantity.units())
+            .map(str::to_string)
+            .unwrap_or_else(|| first.units.clone())
+    };
 
     let mut out = StepOutcome::default();
     let mut prov = env.provenance_for(Some(lmax), None);
+    prov.normalization = Some(model.normalization.name().to_string());
     prov.extra
         .push(("kugel_fit_regularization".into(), regularization.describe()));
-    prov.extra.push((
-        "kugel_fit_residual_rms".into(),
-        format!("{:e} {}", result.residual_rms * scale, points.units),
-    ));
     prov.extra.push((
         "kugel_fit_chi2_per_dof".into(),
         format!("{}", result.chi2_per_dof),
     ));
+    for (d, summary) in result.datasets.iter().enumerate() {
+        prov.extra.push((
+            format!("kugel_fit_residual_rms_{}", summary.name),
+            format!("{:e} {}", summary.residual_rms, units_of(d)),
+        ));
+    }
     let model_file = StepFiles(name).model_nc();
     write_model(&env.staging_dir.join(&model_file), &model, &prov)?;
     out.files.push((
         model_file,
         format!("fitted coefficients with sigmas to degree {lmax}"),
     ));
-    out.numbers.push((
-        "residual RMS".into(),
-        format!("{:.4} {}", result.residual_rms * scale, points.units),
-    ));
+    for (d, summary) in result.datasets.iter().enumerate() {
+        let label = if result.datasets.len() > 1 {
+            format!("residual RMS ({})", summary.name)
+        } else {
+            "residual RMS".into()
+        };
+        out.numbers.push((
+            label,
+            format!("{:.4} {}", summary.residual_rms, units_of(d)),
+        ));
+    }
     out.numbers
         .push(("χ²/dof".into(), format!("{:.3}", result.chi2_per_dof)));
     out.numbers
         .push(("λ".into(), format!("{:.3e}", result.lambda)));
     let rows = vec![
-        vec!["points".into(), set.len().to_string()],
-        vec!["unknowns".into(), ((lmax + 1) * (lmax + 1)).to_string()],
+        vec!["observations".into(), set.len().to_string()],
+        vec![
+            "unknowns".into(),
+            format!("{:.0}", result_unknowns(&result)),
+        ],
         vec!["regularization".into(), regularization.describe()],
         vec!["λ".into(), format!("{:.3e}", result.lambda)],
         vec![
             "effective parameters".into(),
             format!("{:.1}", result.effective_parameters),
-        ],
-        vec![
-            "residual RMS".into(),
-            format!("{:.4} {}", result.residual_rms * scale, points.units),
         ],
         vec!["χ²/dof".into(), format!("{:.3}", result.chi2_per_dof)],
         vec![
@@ -237,7 +334,14 @@ pub fn fit(name: &str, step: &FitStep, env: &StepEnv) -> Result<StepOutcome> {
     ];
     out.report.push((
         ReportPart::Models,
-        Block::Paragraph(format!("Fit '{name}' of '{}':", step.input)),
+        Block::Paragraph(format!(
+            "Fit '{name}' of {}:",
+            step.input_names()
+                .iter()
+                .map(|n| format!("'{n}'"))
+                .collect::<Vec<_>>()
+                .join(", ")
+        )),
     ));
     out.report.push((
         ReportPart::Models,
@@ -246,6 +350,46 @@ pub fn fit(name: &str, step: &FitStep, env: &StepEnv) -> Result<StepOutcome> {
             rows,
         },
     ));
+    let dataset_rows = result
+        .datasets
+        .iter()
+        .enumerate()
+        .map(|(d, s)| {
+            vec![
+                s.name.clone(),
+                s.observations.to_string(),
+                format!("{}", set.datasets[d].weight_factor),
+                format!("{:.4e}", s.chi2),
+                format!("{:.3}", s.chi2_per_observation),
+                format!("{:.4} {}", s.residual_rms, units_of(d)),
+            ]
+        })
+        .collect();
+    out.report.push((
+        ReportPart::Models,
+        Block::Table {
+            headers: vec![
+                "data set".into(),
+                "observations".into(),
+                "weight factor".into(),
+                "χ²".into(),
+                "χ²/n".into(),
+                "residual RMS".into(),
+            ],
+            rows: dataset_rows,
+        },
+    ));
+    if result.iterations.len() > 1 {
+        out.report.push((
+            ReportPart::Models,
+            Block::Paragraph(format!(
+                "{name}: {} passes (Gauss–Newton / reweighting); last relative change {:.2e}; {} rows down-weighted",
+                result.iterations.len(),
+                result.iterations.last().map_or(f64::NAN, |i| i.relative_change),
+                result.downweighted_rows
+            )),
+        ));
+    }
     for w in &result.warnings {
         out.report.push((
             ReportPart::Models,
@@ -254,4 +398,9 @@ pub fn fit(name: &str, step: &FitStep, env: &StepEnv) -> Result<StepOutcome> {
     }
     out.product = Some(Product::Model(model));
     Ok(out)
+}
+
+/// Number of free unknowns of a fit, from its effective-parameter bookkeeping.
+fn result_unknowns(result: &crate::observe::fit::FitResult) -> f64 {
+    result.unknowns as f64
 }

@@ -1,13 +1,30 @@
 //! The inner loops over degree l for one order m and one block of W lanes: the hot path of
-//! every transform. Written once, generically over the lane count `W` and the use of fused
-//! multiply–add, and compiled per instruction set in `kernel::unsafe_parts` (the fixed-size lane
-//! arrays let the compiler keep each in one or two vector registers).
+//! every transform. Written once, generically over the lane count `W`, the width of the
+//! register sets (`H`, `F`) and the use of fused multiply–add, and compiled per instruction set
+//! in `kernel::unsafe_parts` (the fixed-size lane arrays let the compiler keep each in a few
+//! vector registers).
 //!
 //! State at degree l: `p0` = P̄_{l−1,m}, `p1` = P̄_lm per lane; advancing uses
 //! P̄_{l+1,m} = a_{l+1} x P̄_lm − b_{l+1} P̄_{l−1,m} (Holmes & Featherstone 2002). Lanes enter
 //! at the degree where their column becomes representable (`Event`), before which they hold
-//! zeros. The loop is unrolled by two so that even and odd l − m accumulate into separate,
-//! independent registers.
+//! zeros.
+//!
+//! The degrees run in chunks of at most [`CHUNK`], in two passes per chunk:
+//! 1. [`recur`] runs the recursion alone and writes P̄_lm of every lane into [`Rows`], a
+//!    buffer that stays in the level-1 cache. With W lanes the step has W / (lanes per
+//!    register) independent dependency chains (two fused steps of latency each), enough to
+//!    keep both FMA pipes busy, and nothing but the recursion state competes for registers.
+//! 2. The sums read the rows back, once per field: synthesis keeps Σ C_lm P̄_lm and
+//!    Σ S_lm P̄_lm of H lanes in registers (even and odd l − m apart, [`accumulate_values`]),
+//!    analysis adds Σ_i P̄_lm(x_i) H_i into F partial sums per degree ([`accumulate_analysis`]).
+//!    K fields on the same grid share one recursion: each field costs only its sums.
+//!
+//! Every P̄_lm is the same double as in a one-pass loop (the same operations in the same
+//! order); synthesis sums in the same order too, so a field synthesised with others is
+//! bit-identical to the field synthesised alone.
+
+/// Degrees per chunk: the rows of one chunk (CHUNK + 1 rows of W doubles) stay in L1.
+pub const CHUNK: usize = 64;
 
 /// A lane joins the recursion at degree `l` with P̄_{l−1,m} = `p_prev`, P̄_lm = `p`.
 #[derive(Debug, Clone, Copy)]
@@ -20,12 +37,9 @@ pub struct Event {
 
 /// Recursion coefficients of one order, indexed by degree.
 pub struct OrderCoefficients<'a> {
-    pub m: usize,
     pub lmax: usize,
     pub a: &'a [f64],
     pub b: &'a [f64],
-    /// f_lm of the derivative relation (gradient synthesis only).
-    pub f: &'a [f64],
 }
 
 #[inline(always)]
@@ -37,7 +51,8 @@ fn fmadd<const FMA: bool>(a: f64, b: f64, c: f64) -> f64 {
     }
 }
 
-/// Per-lane sums of one block, split by parity of l − m ([0] even, [1] odd).
+/// Per-lane sums of one block and one field, split by parity of l − m ([0] even, [1] odd).
+#[derive(Clone, Copy)]
 pub struct SynthSums<const W: usize> {
     /// Σ C_lm P̄_lm and Σ S_lm P̄_lm.
     pub c: [[f64; W]; 2],
@@ -48,20 +63,18 @@ pub struct SynthSums<const W: usize> {
 }
 
 impl<const W: usize> SynthSums<W> {
-    pub fn zero() -> Self {
-        SynthSums {
-            c: [[0.0; W]; 2],
-            s: [[0.0; W]; 2],
-            dc: [[0.0; W]; 2],
-            ds: [[0.0; W]; 2],
-        }
-    }
+    pub const ZERO: Self = SynthSums {
+        c: [[0.0; W]; 2],
+        s: [[0.0; W]; 2],
+        dc: [[0.0; W]; 2],
+        ds: [[0.0; W]; 2],
+    };
 }
 
-/// Loads the events of degree `l` (from `*ev` on) into the state. Runs between segments
-/// only: its dynamic lane index would otherwise pin the state arrays to memory.
+/// Loads the events of degree `l` (from `*ev` on) into the state. Runs between chunks only:
+/// its dynamic lane index would otherwise pin the state arrays to memory.
 #[inline(always)]
-fn inject<const W: usize>(
+pub fn inject<const W: usize>(
     events: &[Event],
     ev: &mut usize,
     l: usize,
@@ -85,6 +98,9 @@ pub struct Nodes<const W: usize> {
 }
 
 /// One recursion step P̄_{l−1}, P̄_l → P̄_l, P̄_{l+1} with `a` = a_{l+1}, `b` = b_{l+1}.
+///
+/// Per lane: three multiplications (a t, a t_lo, b P̄_{l−1}) and two fused multiply–adds, of
+/// which only the two fused ones lie on the dependency chain from P̄_l to P̄_{l+1}.
 #[inline(always)]
 fn advance<const W: usize, const FMA: bool>(
     a: f64,
@@ -101,310 +117,220 @@ fn advance<const W: usize, const FMA: bool>(
     }
 }
 
-/// Sums of one parity class of l − m.
-#[derive(Clone, Copy)]
-struct Acc<const W: usize> {
-    c: [f64; W],
-    s: [f64; W],
-    dc: [f64; W],
-    ds: [f64; W],
+/// P̄ of one chunk of degrees l0..l0 + n: `rows[0]` = P̄_{l0−1,m}, `rows[k + 1]` = P̄_{l0+k,m}.
+pub struct Rows<const W: usize> {
+    pub rows: [[f64; W]; CHUNK + 1],
 }
 
-impl<const W: usize> Acc<W> {
-    const ZERO: Self = Acc {
-        c: [0.0; W],
-        s: [0.0; W],
-        dc: [0.0; W],
-        ds: [0.0; W],
-    };
-}
-
-#[inline(always)]
-#[allow(clippy::too_many_arguments, clippy::needless_range_loop)]
-fn synth_step<const W: usize, const FMA: bool, const GRAD: bool>(
-    lf: f64,
-    f: f64,
-    cl: f64,
-    sl: f64,
-    a_next: f64,
-    b_next: f64,
-    x: &Nodes<W>,
-    p0: &mut [f64; W],
-    p1: &mut [f64; W],
-    acc: &mut Acc<W>,
-) {
-    for i in 0..W {
-        acc.c[i] = fmadd::<FMA>(cl, p1[i], acc.c[i]);
-        acc.s[i] = fmadd::<FMA>(sl, p1[i], acc.s[i]);
-    }
-    if GRAD {
-        for i in 0..W {
-            // l (t + t_lo) P̄_lm − f_lm P̄_{l−1,m}: the low part of cos θ matters here too,
-            // since the difference is divided by sin θ afterwards
-            let main = fmadd::<FMA>(lf * x.t[i], p1[i], -(f * p0[i]));
-            let d = fmadd::<FMA>(lf * x.t_lo[i], p1[i], main);
-            acc.dc[i] = fmadd::<FMA>(cl, d, acc.dc[i]);
-            acc.ds[i] = fmadd::<FMA>(sl, d, acc.ds[i]);
+impl<const W: usize> Rows<W> {
+    pub fn new() -> Self {
+        Rows {
+            rows: [[0.0; W]; CHUNK + 1],
         }
     }
-    advance::<W, FMA>(a_next, b_next, x, p0, p1);
 }
 
-/// Degrees l0..l0 + n with no lane entering: the state and both parity sums travel by value
-/// and every index is static, so the whole loop runs in registers. `cur` collects the parity
-/// of l0 and is returned as the parity of l0 + n. Slices start at l0 (`a`, `b` at l0 + 1) and
-/// hold at least n entries.
+/// Pass 1: the recursion over degrees l0..l0 + n (n ≤ [`CHUNK`]), writing every P̄ into
+/// `rows`. On entry `p0`, `p1` hold P̄_{l0−1}, P̄_{l0}; on return P̄_{l0+n−1}, P̄_{l0+n}.
+/// `a`, `b` start at degree l0 + 1 and hold at least n entries.
 #[inline(always)]
-#[allow(clippy::too_many_arguments)]
-fn synth_segment<const W: usize, const FMA: bool, const GRAD: bool>(
-    l0: usize,
+pub fn recur<const W: usize, const FMA: bool>(
     n: usize,
     a: &[f64],
     b: &[f64],
+    x: &Nodes<W>,
+    p0: &mut [f64; W],
+    p1: &mut [f64; W],
+    rows: &mut Rows<W>,
+) {
+    assert!(n <= CHUNK, "chunk of {n} degrees");
+    let (a, b) = (&a[..n], &b[..n]);
+    let (mut q0, mut q1) = (*p0, *p1);
+    rows.rows[0] = q0;
+    for k in 0..n {
+        rows.rows[k + 1] = q1;
+        advance::<W, FMA>(a[k], b[k], x, &mut q0, &mut q1);
+    }
+    *p0 = q0;
+    *p1 = q1;
+}
+
+/// Lanes h·H .. (h+1)·H of a row.
+#[inline(always)]
+fn part<const W: usize, const H: usize>(row: &[f64; W], h: usize) -> [f64; H] {
+    row[h * H..(h + 1) * H]
+        .try_into()
+        .expect("H divides W and h < W / H")
+}
+
+#[inline(always)]
+fn set_part<const W: usize, const H: usize>(row: &mut [f64; W], h: usize, v: [f64; H]) {
+    row[h * H..(h + 1) * H].copy_from_slice(&v);
+}
+
+/// Pass 2 of synthesis, values: adds Σ_k C_{l0+k} P̄_{l0+k} and the same with S to the sums of
+/// one field, H lanes at a time (four sets of H lanes in registers). `par0` is the parity of
+/// l0 − m; `c`, `s` start at l0.
+#[inline(always)]
+pub fn accumulate_values<const W: usize, const H: usize, const FMA: bool>(
+    rows: &Rows<W>,
+    n: usize,
+    par0: usize,
+    c: &[f64],
+    s: &[f64],
+    sums: &mut SynthSums<W>,
+) {
+    let (c, s) = (&c[..n], &s[..n]);
+    let rows = &rows.rows[1..=n];
+    let (pe, po) = (par0, 1 - par0);
+    for h in 0..W / H {
+        let mut ce: [f64; H] = part(&sums.c[pe], h);
+        let mut se: [f64; H] = part(&sums.s[pe], h);
+        let mut co: [f64; H] = part(&sums.c[po], h);
+        let mut so: [f64; H] = part(&sums.s[po], h);
+        let mut k = 0;
+        while k + 2 <= n {
+            let r0: [f64; H] = part(&rows[k], h);
+            let r1: [f64; H] = part(&rows[k + 1], h);
+            for i in 0..H {
+                ce[i] = fmadd::<FMA>(c[k], r0[i], ce[i]);
+                se[i] = fmadd::<FMA>(s[k], r0[i], se[i]);
+                co[i] = fmadd::<FMA>(c[k + 1], r1[i], co[i]);
+                so[i] = fmadd::<FMA>(s[k + 1], r1[i], so[i]);
+            }
+            k += 2;
+        }
+        if k < n {
+            let r0: [f64; H] = part(&rows[k], h);
+            for i in 0..H {
+                ce[i] = fmadd::<FMA>(c[k], r0[i], ce[i]);
+                se[i] = fmadd::<FMA>(s[k], r0[i], se[i]);
+            }
+        }
+        set_part(&mut sums.c[pe], h, ce);
+        set_part(&mut sums.s[pe], h, se);
+        set_part(&mut sums.c[po], h, co);
+        set_part(&mut sums.s[po], h, so);
+    }
+}
+
+/// Pass 2 of gradient synthesis, the θ part: adds Σ C_l d_l and Σ S_l d_l with
+/// d_l = l (t + t_lo) P̄_lm − f_lm P̄_{l−1,m} (the low part of cos θ matters here too, since
+/// the sum is divided by sin θ afterwards). `f`, `c`, `s` start at l0.
+#[inline(always)]
+#[allow(clippy::too_many_arguments)]
+pub fn accumulate_derivative<const W: usize, const H: usize, const FMA: bool>(
+    rows: &Rows<W>,
+    n: usize,
+    l0: usize,
+    par0: usize,
     f: &[f64],
     c: &[f64],
     s: &[f64],
     x: &Nodes<W>,
-    mut p0: [f64; W],
-    mut p1: [f64; W],
-    mut cur: Acc<W>,
-    mut other: Acc<W>,
-) -> ([f64; W], [f64; W], Acc<W>, Acc<W>) {
-    let (a, b, c, s) = (&a[..n], &b[..n], &c[..n], &s[..n]);
-    let f = if GRAD { &f[..n] } else { &f[..0] };
-    let fv = |k: usize| if GRAD { f[k] } else { 0.0 };
-    let mut k = 0;
-    while k + 2 <= n {
-        let lf = (l0 + k) as f64;
-        synth_step::<W, FMA, GRAD>(
-            lf,
-            fv(k),
-            c[k],
-            s[k],
-            a[k],
-            b[k],
-            x,
-            &mut p0,
-            &mut p1,
-            &mut cur,
-        );
-        synth_step::<W, FMA, GRAD>(
-            lf + 1.0,
-            fv(k + 1),
-            c[k + 1],
-            s[k + 1],
-            a[k + 1],
-            b[k + 1],
-            x,
-            &mut p0,
-            &mut p1,
-            &mut other,
-        );
-        k += 2;
-    }
-    if k < n {
-        let lf = (l0 + k) as f64;
-        synth_step::<W, FMA, GRAD>(
-            lf,
-            fv(k),
-            c[k],
-            s[k],
-            a[k],
-            b[k],
-            x,
-            &mut p0,
-            &mut p1,
-            &mut cur,
-        );
-        std::mem::swap(&mut cur, &mut other);
-    }
-    (p0, p1, cur, other)
-}
-
-/// Synthesis sums for one order and one block: Σ_l C_lm P̄_lm(x_i) etc. per lane.
-/// `c[l]`, `s[l]` hold the coefficients of order m; `events` must be sorted by degree.
-/// `rc.a`, `rc.b` must hold lmax + 2 entries (the last is read by a final, discarded step).
-#[inline(always)]
-pub fn synth_block<const W: usize, const FMA: bool, const GRAD: bool>(
-    rc: &OrderCoefficients,
-    x: &Nodes<W>,
-    events: &[Event],
-    c: &[f64],
-    s: &[f64],
-) -> SynthSums<W> {
-    let mut out = SynthSums::<W>::zero();
-    let Some(first) = events.first() else {
-        return out;
-    };
-    let (m, lmax) = (rc.m, rc.lmax);
-    let mut p0 = [0.0; W];
-    let mut p1 = [0.0; W];
-    let (mut cur, mut other) = (Acc::<W>::ZERO, Acc::<W>::ZERO);
-    let mut ev = 0;
-    let mut l = first.l;
-    inject(events, &mut ev, l, &mut p0, &mut p1);
-    loop {
-        let l_end = if ev < events.len() {
-            events[ev].l
-        } else {
-            lmax + 1
-        };
-        let n = l_end - l;
-        (p0, p1, cur, other) = synth_segment::<W, FMA, GRAD>(
-            l,
-            n,
-            &rc.a[l + 1..],
-            &rc.b[l + 1..],
-            if GRAD { &rc.f[l..] } else { &rc.f[..0] },
-            &c[l..],
-            &s[l..],
-            x,
-            p0,
-            p1,
-            cur,
-            other,
-        );
-        l = l_end;
-        if l > lmax {
-            break;
+    sums: &mut SynthSums<W>,
+) {
+    let (f, c, s) = (&f[..n], &c[..n], &s[..n]);
+    let rows = &rows.rows[..=n];
+    for h in 0..W / H {
+        let t: [f64; H] = part(&x.t, h);
+        let t_lo: [f64; H] = part(&x.t_lo, h);
+        let mut dc: [[f64; H]; 2] = [part(&sums.dc[0], h), part(&sums.dc[1], h)];
+        let mut ds: [[f64; H]; 2] = [part(&sums.ds[0], h), part(&sums.ds[1], h)];
+        for k in 0..n {
+            let p = (par0 + k) & 1;
+            let lf = (l0 + k) as f64;
+            let prev: [f64; H] = part(&rows[k], h);
+            let cur: [f64; H] = part(&rows[k + 1], h);
+            for i in 0..H {
+                let main = fmadd::<FMA>(lf * t[i], cur[i], -(f[k] * prev[i]));
+                let d = fmadd::<FMA>(lf * t_lo[i], cur[i], main);
+                dc[p][i] = fmadd::<FMA>(c[k], d, dc[p][i]);
+                ds[p][i] = fmadd::<FMA>(s[k], d, ds[p][i]);
+            }
         }
-        inject(events, &mut ev, l, &mut p0, &mut p1);
+        for p in 0..2 {
+            set_part(&mut sums.dc[p], h, dc[p]);
+            set_part(&mut sums.ds[p], h, ds[p]);
+        }
     }
-    // `cur` now belongs to the parity of lmax + 1 − m
-    let pc = (lmax + 1 - m) & 1;
-    let (e, o) = if pc == 0 { (cur, other) } else { (other, cur) };
-    out.c = [e.c, o.c];
-    out.s = [e.s, o.s];
-    if GRAD {
-        out.dc = [e.dc, o.dc];
-        out.ds = [e.ds, o.ds];
-    }
-    out
 }
 
-/// Width of the partial sums kept per degree in analysis (one AVX2 register).
-pub const FOLD: usize = 4;
+/// Ring spectra of one block and one field, real and imaginary parts, by parity of l − m
+/// ([0] even: north + south, [1] odd: north − south).
+pub struct BlockSpectra<const W: usize> {
+    pub re: [[f64; W]; 2],
+    pub im: [[f64; W]; 2],
+}
 
+/// Pass 2 of analysis: adds Σ_i P̄_{l,m}(x_i) H_i for l = l0..l0 + n into F partial sums per
+/// degree (`acc_re`, `acc_im` start at l0·F; partial sum j collects lanes j, j + F, ...). Even
+/// and odd l − m run as two sweeps, so that one parity's spectra stay in registers.
 #[inline(always)]
-fn accumulate_analysis<const W: usize, const FMA: bool>(
-    p1: &[f64; W],
-    hr: &[f64; W],
-    hi: &[f64; W],
+pub fn accumulate_analysis<const W: usize, const F: usize, const FMA: bool>(
+    rows: &Rows<W>,
+    n: usize,
+    par0: usize,
+    h: &BlockSpectra<W>,
     acc_re: &mut [f64],
     acc_im: &mut [f64],
 ) {
-    let mut sr = [0.0; FOLD];
-    let mut si = [0.0; FOLD];
-    for g in 0..W / FOLD {
-        for k in 0..FOLD {
-            let i = g * FOLD + k;
-            sr[k] = fmadd::<FMA>(p1[i], hr[i], sr[k]);
-            si[k] = fmadd::<FMA>(p1[i], hi[i], si[k]);
+    let rows = &rows.rows[1..=n];
+    let acc_re = &mut acc_re[..n * F];
+    let acc_im = &mut acc_im[..n * F];
+    for first in 0..2.min(n) {
+        let p = (par0 + first) & 1;
+        let (hr, hi) = (h.re[p], h.im[p]);
+        let mut k = first;
+        while k < n {
+            let row = &rows[k];
+            let mut sr: [f64; F] = acc_re[k * F..(k + 1) * F].try_into().expect("F entries");
+            let mut si: [f64; F] = acc_im[k * F..(k + 1) * F].try_into().expect("F entries");
+            for g in 0..W / F {
+                for j in 0..F {
+                    let i = g * F + j;
+                    sr[j] = fmadd::<FMA>(row[i], hr[i], sr[j]);
+                    si[j] = fmadd::<FMA>(row[i], hi[i], si[j]);
+                }
+            }
+            acc_re[k * F..(k + 1) * F].copy_from_slice(&sr);
+            acc_im[k * F..(k + 1) * F].copy_from_slice(&si);
+            k += 2;
         }
     }
-    for k in 0..FOLD {
-        acc_re[k] += sr[k];
-        acc_im[k] += si[k];
-    }
 }
 
-/// Real and imaginary parts of the ring spectra of one parity class.
-type SpectrumPair<'h, const W: usize> = (&'h [f64; W], &'h [f64; W]);
-
-/// Degrees l0..l0 + n with no lane entering (see `synth_segment`). `h_cur` belongs to the
-/// parity of l0; the pair is returned swapped when n is odd. `acc_re`/`acc_im` start at
-/// l0·FOLD, `a`, `b` at l0 + 1.
+/// The degree chunks of one block: from the first event on, each chunk ends at [`CHUNK`]
+/// degrees, at the next event or after lmax. Calls `body(l0, n, rows)` after the recursion of
+/// each chunk has filled `rows`.
 #[inline(always)]
-#[allow(clippy::too_many_arguments)]
-fn analysis_segment<'h, const W: usize, const FMA: bool>(
-    n: usize,
-    a: &[f64],
-    b: &[f64],
-    x: &Nodes<W>,
-    mut p0: [f64; W],
-    mut p1: [f64; W],
-    mut h_cur: SpectrumPair<'h, W>,
-    mut h_other: SpectrumPair<'h, W>,
-    acc_re: &mut [f64],
-    acc_im: &mut [f64],
-) -> ([f64; W], [f64; W], SpectrumPair<'h, W>, SpectrumPair<'h, W>) {
-    let (a, b) = (&a[..n], &b[..n]);
-    let acc_re = &mut acc_re[..n * FOLD];
-    let acc_im = &mut acc_im[..n * FOLD];
-    let (hr0, hi0) = (*h_cur.0, *h_cur.1);
-    let (hr1, hi1) = (*h_other.0, *h_other.1);
-    let mut k = 0;
-    while k + 2 <= n {
-        let (re, im) = (&mut acc_re[k * FOLD..], &mut acc_im[k * FOLD..]);
-        accumulate_analysis::<W, FMA>(&p1, &hr0, &hi0, &mut re[..FOLD], &mut im[..FOLD]);
-        advance::<W, FMA>(a[k], b[k], x, &mut p0, &mut p1);
-        accumulate_analysis::<W, FMA>(
-            &p1,
-            &hr1,
-            &hi1,
-            &mut re[FOLD..2 * FOLD],
-            &mut im[FOLD..2 * FOLD],
-        );
-        advance::<W, FMA>(a[k + 1], b[k + 1], x, &mut p0, &mut p1);
-        k += 2;
-    }
-    if k < n {
-        let (re, im) = (&mut acc_re[k * FOLD..], &mut acc_im[k * FOLD..]);
-        accumulate_analysis::<W, FMA>(&p1, &hr0, &hi0, &mut re[..FOLD], &mut im[..FOLD]);
-        advance::<W, FMA>(a[k], b[k], x, &mut p0, &mut p1);
-        std::mem::swap(&mut h_cur, &mut h_other);
-    }
-    (p0, p1, h_cur, h_other)
-}
-
-/// Analysis for one order and one block: adds Σ_i P̄_lm(x_i) H_i (with H split by parity of
-/// l − m: `hr[0]`/`hi[0]` for even, `[1]` for odd) into `acc_re`/`acc_im[l·FOLD + k]`.
-/// `rc.a`, `rc.b` must hold lmax + 2 entries (the last is read by a final, discarded step).
-#[inline(always)]
-#[allow(clippy::too_many_arguments)]
-pub fn analysis_block<const W: usize, const FMA: bool>(
+pub fn for_each_chunk<const W: usize, const FMA: bool>(
     rc: &OrderCoefficients,
     x: &Nodes<W>,
     events: &[Event],
-    hr: &[[f64; W]; 2],
-    hi: &[[f64; W]; 2],
-    acc_re: &mut [f64],
-    acc_im: &mut [f64],
+    rows: &mut Rows<W>,
+    mut body: impl FnMut(usize, usize, &Rows<W>),
 ) {
     let Some(first) = events.first() else {
         return;
     };
-    let (m, lmax) = (rc.m, rc.lmax);
+    let lmax = rc.lmax;
     let mut p0 = [0.0; W];
     let mut p1 = [0.0; W];
     let mut ev = 0;
     let mut l = first.l;
-    let pa = (l - m) & 1;
-    let mut h_cur = (&hr[pa], &hi[pa]);
-    let mut h_other = (&hr[1 - pa], &hi[1 - pa]);
     inject(events, &mut ev, l, &mut p0, &mut p1);
-    loop {
-        let l_end = if ev < events.len() {
+    while l <= lmax {
+        let next_event = if ev < events.len() {
             events[ev].l
         } else {
             lmax + 1
         };
-        (p0, p1, h_cur, h_other) = analysis_segment::<W, FMA>(
-            l_end - l,
-            &rc.a[l + 1..],
-            &rc.b[l + 1..],
-            x,
-            p0,
-            p1,
-            h_cur,
-            h_other,
-            &mut acc_re[l * FOLD..],
-            &mut acc_im[l * FOLD..],
-        );
+        let l_end = next_event.min(l + CHUNK);
+        let n = l_end - l;
+        recur::<W, FMA>(n, &rc.a[l + 1..], &rc.b[l + 1..], x, &mut p0, &mut p1, rows);
+        body(l, n, rows);
         l = l_end;
-        if l > lmax {
-            break;
-        }
         inject(events, &mut ev, l, &mut p0, &mut p1);
     }
 }

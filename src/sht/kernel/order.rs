@@ -6,43 +6,62 @@
 
 use realfft::num_complex::Complex64;
 
-use super::block::{analysis_block, synth_block, Event, Nodes, OrderCoefficients, FOLD};
+use super::block::{
+    accumulate_analysis, accumulate_derivative, accumulate_values, for_each_chunk, BlockSpectra,
+    Event, Nodes, OrderCoefficients, Rows, SynthSums,
+};
 use super::lanes::Lane;
-use super::unsafe_parts::{FourierTarget, OrderCoefficientSums, OrderFourierColumns};
+use super::unsafe_parts::{OrderCoefficientSums, OrderFourierColumns};
 use crate::coeffs::packed_index;
 use crate::sht::legendre::recursion::{a_lm, b_lm, f_lm, sectoral, NEGLIGIBLE_LOG2};
 use crate::sht::legendre::xnumber::{BIG_INV, BIG_SQRT};
 
+/// The widest set of partial sums per degree an analysis kernel keeps (its `F`).
+pub const MAX_FOLD: usize = 8;
+
 /// Per-thread scratch for one order (allocated once per thread, reused for every order).
 pub(crate) struct OrderScratch {
+    lmax: usize,
+    fields: usize,
     a: Vec<f64>,
     b: Vec<f64>,
     f: Vec<f64>,
+    /// C and S of the order, field after field, each `lmax + 2` long.
     c: Vec<f64>,
     s: Vec<f64>,
     events: Vec<Event>,
+    /// Analysis partial sums, field after field, each (lmax + 2)·MAX_FOLD long.
     acc_re: Vec<f64>,
     acc_im: Vec<f64>,
 }
 
 impl OrderScratch {
-    pub fn new(lmax: usize) -> Self {
+    /// Scratch for transforms of `fields` fields at once to degree `lmax`.
+    pub fn new(lmax: usize, fields: usize) -> Self {
         let n = lmax + 2;
         OrderScratch {
+            lmax,
+            fields,
             a: vec![0.0; n],
             b: vec![0.0; n],
             f: vec![0.0; n],
-            c: vec![0.0; n],
-            s: vec![0.0; n],
+            c: vec![0.0; n * fields],
+            s: vec![0.0; n * fields],
             events: Vec::with_capacity(64),
-            acc_re: vec![0.0; n * FOLD],
-            acc_im: vec![0.0; n * FOLD],
+            acc_re: vec![0.0; n * MAX_FOLD * fields],
+            acc_im: vec![0.0; n * MAX_FOLD * fields],
         }
     }
 
-    /// Bytes held by one scratch set.
-    pub fn bytes(lmax: usize) -> u64 {
-        ((lmax + 2) * (5 + 2 * FOLD) * 8 + 64 * 32) as u64
+    /// Bytes held by one scratch set for `fields` fields (the degree-chunk rows and the
+    /// per-block sums on the stack included).
+    pub fn bytes(lmax: usize, fields: usize) -> u64 {
+        let n = (lmax + 2) as u64;
+        let fields = fields as u64;
+        n * 8 * (3 + 2 * fields + 2 * MAX_FOLD as u64 * fields)
+            + 64 * 32
+            + fields * 4 * 1024
+            + 32 * 1024
     }
 
     fn fill(&mut self, m: usize, lmax: usize, grad: bool) {
@@ -55,6 +74,12 @@ impl OrderScratch {
                 self.f[l] = f_lm(l, m);
             }
         }
+    }
+
+    fn column(&self, field: usize) -> (&[f64], &[f64]) {
+        let n = self.lmax + 2;
+        let r = field * n..(field + 1) * n;
+        (&self.c[r.clone()], &self.s[r])
     }
 }
 
@@ -158,14 +183,34 @@ fn block_events<const W: usize>(
     nodes
 }
 
+/// Where the column of order m starts in order-major storage to degree `lmax` (the degrees
+/// m..=lmax of each order one after another): m (lmax + 1) − m (m − 1) / 2.
+#[inline]
+pub(crate) fn order_major_offset(m: usize, lmax: usize) -> usize {
+    m * (lmax + 1) - m * m.saturating_sub(1) / 2
+}
+
+/// Packed (degree-major, `coeffs::packed_index`) coefficients to degree `lmax` rearranged
+/// order-major, so that each order's kernel reads its column contiguously instead of one
+/// cache line per degree.
+pub(crate) fn order_major(packed: &[f64], lmax: usize) -> Vec<f64> {
+    let mut out = vec![0.0; packed.len()];
+    for l in 0..=lmax {
+        let row = &packed[packed_index(l, 0)..=packed_index(l, l)];
+        for (m, v) in row.iter().enumerate() {
+            out[order_major_offset(m, lmax) + l - m] = *v;
+        }
+    }
+    out
+}
+
 /// What a synthesis pass reads (it writes through [`OrderFourierColumns`]).
 pub(crate) struct SynthJob<'a> {
     pub lmax: usize,
     pub lanes: &'a [Lane],
     pub sectoral_factors: &'a [f64],
-    /// Packed `geodesy` C and S.
-    pub c: &'a [f64],
-    pub s: &'a [f64],
+    /// `geodesy` (C, S) of every field, all to `lmax`, order-major ([`order_major`]).
+    pub fields: &'a [(&'a [f64], &'a [f64])],
     /// e^{i m λ_0} per order.
     pub rotation: &'a [Complex64],
 }
@@ -176,7 +221,7 @@ pub(crate) struct SynthJob<'a> {
 fn put_fourier(
     job: &SynthJob,
     out: &mut OrderFourierColumns,
-    target: FourierTarget,
+    grid: usize,
     row: usize,
     a: f64,
     b: f64,
@@ -187,87 +232,131 @@ fn put_fourier(
     } else {
         Complex64::new(0.5 * a, -0.5 * b) * job.rotation[m]
     };
-    out.put(target, row, x);
+    out.put(grid, row, x);
 }
 
-/// Synthesis of the writer's order m into the packed Fourier columns of every ring
-/// (`FourierTarget::First` holds values, or ∂/∂θ for gradients; `Second` (1/sin θ) ∂/∂λ).
+/// Synthesis of the writer's order m for every field of the job into the packed Fourier
+/// columns of every ring. Values of field k go to grid k; a gradient synthesis writes ∂/∂θ of
+/// field k to grid 2k and (1/sin θ) ∂/∂λ to grid 2k + 1. `H` lanes of sums stay in registers
+/// at a time.
 #[inline(always)]
-pub(crate) fn synth_order<const W: usize, const FMA: bool, const GRAD: bool>(
+pub(crate) fn synth_order<const W: usize, const H: usize, const FMA: bool, const GRAD: bool>(
     job: &SynthJob,
     sc: &mut OrderScratch,
     out: &mut OrderFourierColumns,
 ) {
     let m = out.order();
     let lmax = job.lmax;
+    let nf = job.fields.len();
+    assert!(
+        sc.lmax == lmax && sc.fields >= nf,
+        "scratch of another shape"
+    );
     sc.fill(m, lmax, GRAD);
-    for l in m..=lmax {
-        let i = packed_index(l, m);
-        sc.c[l] = job.c[i];
-        sc.s[l] = job.s[i];
+    let stride = lmax + 2;
+    let at = order_major_offset(m, lmax);
+    let len = lmax + 1 - m;
+    for (k, (c, s)) in job.fields.iter().enumerate() {
+        let dst = k * stride + m..k * stride + lmax + 1;
+        sc.c[dst.clone()].copy_from_slice(&c[at..at + len]);
+        sc.s[dst].copy_from_slice(&s[at..at + len]);
     }
     let c_m = job.sectoral_factors[m];
+    let mut rows = Rows::<W>::new();
+    let mut sums = vec![SynthSums::<W>::ZERO; nf];
     for block in job.lanes.chunks(W) {
         let x = block_events::<W>(m, lmax, c_m, block, sc);
         if sc.events.is_empty() {
             // lanes run from the equator to the poles: every later block is negligible too
             break;
         }
+        sums.iter_mut().for_each(|s| *s = SynthSums::ZERO);
         let rc = OrderCoefficients {
-            m,
             lmax,
             a: &sc.a,
             b: &sc.b,
-            f: &sc.f,
         };
-        let sums = synth_block::<W, FMA, GRAD>(&rc, &x, &sc.events, &sc.c, &sc.s);
-        let mf = m as f64;
-        for (i, lane) in block.iter().enumerate() {
-            let (ce, co, se, so) = (sums.c[0][i], sums.c[1][i], sums.s[0][i], sums.s[1][i]);
-            if !GRAD {
-                put_fourier(job, out, FourierTarget::First, lane.north, ce + co, se + so);
-                if let Some(south) = lane.south {
-                    put_fourier(job, out, FourierTarget::First, south, ce - co, se - so);
+        for_each_chunk::<W, FMA>(&rc, &x, &sc.events, &mut rows, |l0, n, rows| {
+            let par0 = (l0 - m) & 1;
+            for (k, sum) in sums.iter_mut().enumerate() {
+                let (c, s) = sc.column(k);
+                accumulate_values::<W, H, FMA>(rows, n, par0, &c[l0..], &s[l0..], sum);
+                if GRAD {
+                    accumulate_derivative::<W, H, FMA>(
+                        rows,
+                        n,
+                        l0,
+                        par0,
+                        &sc.f[l0..],
+                        &c[l0..],
+                        &s[l0..],
+                        &x,
+                        sum,
+                    );
                 }
-            } else {
-                let inv_u = 1.0 / lane.u;
-                let (de, do_, dse, dso) =
-                    (sums.dc[0][i], sums.dc[1][i], sums.ds[0][i], sums.ds[1][i]);
+            }
+        });
+        for (k, sum) in sums.iter().enumerate() {
+            put_block::<W, GRAD>(job, out, block, k, sum);
+        }
+    }
+}
+
+/// Hands one block's sums of field `k` to the Fourier columns of its rings.
+#[inline(always)]
+fn put_block<const W: usize, const GRAD: bool>(
+    job: &SynthJob,
+    out: &mut OrderFourierColumns,
+    block: &[Lane],
+    k: usize,
+    sums: &SynthSums<W>,
+) {
+    let mf = out.order() as f64;
+    for (i, lane) in block.iter().enumerate() {
+        let (ce, co, se, so) = (sums.c[0][i], sums.c[1][i], sums.s[0][i], sums.s[1][i]);
+        if !GRAD {
+            put_fourier(job, out, k, lane.north, ce + co, se + so);
+            if let Some(south) = lane.south {
+                put_fourier(job, out, k, south, ce - co, se - so);
+            }
+        } else {
+            let (g_theta, g_lambda) = (2 * k, 2 * k + 1);
+            let inv_u = 1.0 / lane.u;
+            let (de, do_, dse, dso) = (sums.dc[0][i], sums.dc[1][i], sums.ds[0][i], sums.ds[1][i]);
+            put_fourier(
+                job,
+                out,
+                g_theta,
+                lane.north,
+                (de + do_) * inv_u,
+                (dse + dso) * inv_u,
+            );
+            put_fourier(
+                job,
+                out,
+                g_lambda,
+                lane.north,
+                mf * (se + so) * inv_u,
+                -mf * (ce + co) * inv_u,
+            );
+            if let Some(south) = lane.south {
+                // d/dθ of a mirrored function changes sign: P̄'(π−θ) = −(−1)^{l−m} P̄'(θ)
                 put_fourier(
                     job,
                     out,
-                    FourierTarget::First,
-                    lane.north,
-                    (de + do_) * inv_u,
-                    (dse + dso) * inv_u,
+                    g_theta,
+                    south,
+                    -(de - do_) * inv_u,
+                    -(dse - dso) * inv_u,
                 );
                 put_fourier(
                     job,
                     out,
-                    FourierTarget::Second,
-                    lane.north,
-                    mf * (se + so) * inv_u,
-                    -mf * (ce + co) * inv_u,
+                    g_lambda,
+                    south,
+                    mf * (se - so) * inv_u,
+                    -mf * (ce - co) * inv_u,
                 );
-                if let Some(south) = lane.south {
-                    // d/dθ of a mirrored function changes sign: P̄'(π−θ) = −(−1)^{l−m} P̄'(θ)
-                    put_fourier(
-                        job,
-                        out,
-                        FourierTarget::First,
-                        south,
-                        -(de - do_) * inv_u,
-                        -(dse - dso) * inv_u,
-                    );
-                    put_fourier(
-                        job,
-                        out,
-                        FourierTarget::Second,
-                        south,
-                        mf * (se - so) * inv_u,
-                        -mf * (ce - co) * inv_u,
-                    );
-                }
             }
         }
     }
@@ -279,72 +368,95 @@ pub(crate) struct AnalysisJob<'a> {
     /// The lanes of this chunk of rings.
     pub lanes: &'a [Lane],
     pub sectoral_factors: &'a [f64],
-    /// Weighted, rotated ring spectra H_m: lane k's north ring at row 2k, its mirror at 2k + 1,
-    /// each row `lmax + 1` long.
-    pub spectra: &'a [Complex64],
+    /// Per field: weighted, rotated ring spectra H_m, lane k's north ring at row 2k, its
+    /// mirror at 2k + 1, each row `lmax + 1` long.
+    pub spectra: &'a [&'a [Complex64]],
 }
 
-/// Analysis of the writer's order m over one chunk of rings; adds into the packed coefficients.
+/// Analysis of the writer's order m over one chunk of rings, for every field of the job; adds
+/// into the packed coefficients of each. `F` partial sums per degree (F divides W).
 #[inline(always)]
-pub(crate) fn analysis_order<const W: usize, const FMA: bool>(
+pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
     job: &AnalysisJob,
     sc: &mut OrderScratch,
     out: &mut OrderCoefficientSums,
 ) {
     let m = out.order();
     let lmax = job.lmax;
+    let nf = job.spectra.len();
+    assert!(
+        sc.lmax == lmax && sc.fields >= nf && F <= MAX_FOLD,
+        "scratch of another shape"
+    );
     let stride = lmax + 1;
+    let acc_len = (lmax + 2) * F;
     sc.fill(m, lmax, false);
-    sc.acc_re[m * FOLD..(lmax + 1) * FOLD]
-        .iter_mut()
-        .for_each(|v| *v = 0.0);
-    sc.acc_im[m * FOLD..(lmax + 1) * FOLD]
-        .iter_mut()
-        .for_each(|v| *v = 0.0);
+    for k in 0..nf {
+        sc.acc_re[k * acc_len + m * F..k * acc_len + (lmax + 1) * F].fill(0.0);
+        sc.acc_im[k * acc_len + m * F..k * acc_len + (lmax + 1) * F].fill(0.0);
+    }
     let c_m = job.sectoral_factors[m];
+    let mut rows = Rows::<W>::new();
+    let mut spectra: Vec<BlockSpectra<W>> = (0..nf)
+        .map(|_| BlockSpectra {
+            re: [[0.0; W]; 2],
+            im: [[0.0; W]; 2],
+        })
+        .collect();
     for (bi, block) in job.lanes.chunks(W).enumerate() {
         let x = block_events::<W>(m, lmax, c_m, block, sc);
         if sc.events.is_empty() {
             break;
         }
-        let mut hr = [[0.0; W]; 2];
-        let mut hi = [[0.0; W]; 2];
-        for (i, lane) in block.iter().enumerate() {
-            let k = bi * W + i;
-            let hn = job.spectra[2 * k * stride + m];
-            let (e, o) = if lane.south.is_some() {
-                let hs = job.spectra[(2 * k + 1) * stride + m];
-                (hn + hs, hn - hs)
-            } else {
-                (hn, hn)
+        for (h, field) in spectra.iter_mut().zip(job.spectra) {
+            *h = BlockSpectra {
+                re: [[0.0; W]; 2],
+                im: [[0.0; W]; 2],
             };
-            hr[0][i] = e.re;
-            hi[0][i] = e.im;
-            hr[1][i] = o.re;
-            hi[1][i] = o.im;
+            for (i, lane) in block.iter().enumerate() {
+                let k = bi * W + i;
+                let hn = field[2 * k * stride + m];
+                let (e, o) = if lane.south.is_some() {
+                    let hs = field[(2 * k + 1) * stride + m];
+                    (hn + hs, hn - hs)
+                } else {
+                    (hn, hn)
+                };
+                h.re[0][i] = e.re;
+                h.im[0][i] = e.im;
+                h.re[1][i] = o.re;
+                h.im[1][i] = o.im;
+            }
         }
         let rc = OrderCoefficients {
-            m,
             lmax,
             a: &sc.a,
             b: &sc.b,
-            f: &sc.f,
         };
-        analysis_block::<W, FMA>(
-            &rc,
-            &x,
-            &sc.events,
-            &hr,
-            &hi,
-            &mut sc.acc_re,
-            &mut sc.acc_im,
-        );
+        let (acc_re, acc_im) = (&mut sc.acc_re, &mut sc.acc_im);
+        for_each_chunk::<W, FMA>(&rc, &x, &sc.events, &mut rows, |l0, n, rows| {
+            let par0 = (l0 - m) & 1;
+            for (k, h) in spectra.iter().enumerate() {
+                let at = k * acc_len + l0 * F;
+                accumulate_analysis::<W, F, FMA>(
+                    rows,
+                    n,
+                    par0,
+                    h,
+                    &mut acc_re[at..],
+                    &mut acc_im[at..],
+                );
+            }
+        });
     }
-    for l in m..=lmax {
-        let re: f64 = sc.acc_re[l * FOLD..(l + 1) * FOLD].iter().sum();
-        let im: f64 = sc.acc_im[l * FOLD..(l + 1) * FOLD].iter().sum();
-        // C_lm − i S_lm = Σ P̄_lm H_m; S_l0 stays zero
-        out.add(l, re, if m > 0 { -im } else { 0.0 });
+    for k in 0..nf {
+        for l in m..=lmax {
+            let at = k * acc_len + l * F;
+            let re: f64 = sc.acc_re[at..at + F].iter().sum();
+            let im: f64 = sc.acc_im[at..at + F].iter().sum();
+            // C_lm − i S_lm = Σ P̄_lm H_m; S_l0 stays zero
+            out.add(k, l, re, if m > 0 { -im } else { 0.0 });
+        }
     }
 }
 
@@ -356,6 +468,24 @@ mod tests {
     /// The block-wise column starts must equal the one-lane `column_start` bit for bit,
     /// including lanes near the poles at high order, where the start passes through several
     /// rescalings of the extended exponent (Fukushima 2012), and lanes that never start.
+    #[test]
+    fn order_major_holds_every_column_contiguously() {
+        let lmax = 7;
+        let packed: Vec<f64> = (0..crate::coeffs::packed_len(lmax))
+            .map(|i| i as f64)
+            .collect();
+        let om = order_major(&packed, lmax);
+        for m in 0..=lmax {
+            for l in m..=lmax {
+                assert_eq!(
+                    om[order_major_offset(m, lmax) + l - m],
+                    packed[packed_index(l, m)]
+                );
+            }
+        }
+        assert_eq!(order_major_offset(lmax, lmax) + 1, packed.len());
+    }
+
     #[test]
     fn block_events_equal_column_start() {
         let lmax = 3000;
@@ -377,7 +507,7 @@ mod tests {
                 }
             })
             .collect();
-        let mut sc = OrderScratch::new(lmax);
+        let mut sc = OrderScratch::new(lmax, 1);
         let (mut started, mut late) = (0, 0);
         for m in [0, 1, 5, 150, 700, 1500, 2222, 2999, 3000] {
             sc.fill(m, lmax, false);

@@ -4,13 +4,15 @@
 /// Which compiled variant of the kernels runs.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum KernelPath {
-    /// Plain Rust, 8 lanes (any CPU). Fused multiply–add where the target has it in hardware
+    /// Plain Rust, 8 lanes per recursion block (any CPU). Fused multiply–add where the target has it in hardware
     /// (always on aarch64; on x86-64 when built with the `fma` target feature), separate
     /// multiply and add elsewhere, where `mul_add` would be a slow software call.
     Portable,
-    /// AVX2 with fused multiply–add, 8 lanes (x86-64, detected at run time).
+    /// AVX2 with fused multiply–add, 16 lanes per recursion block (x86-64, detected at run
+    /// time).
     Avx2Fma,
-    /// AVX-512F with fused multiply–add, 16 lanes (x86-64, detected at run time).
+    /// AVX-512F with fused multiply–add, 32 lanes per recursion block (x86-64, detected at run
+    /// time).
     Avx512,
 }
 
@@ -74,11 +76,14 @@ impl KernelPath {
         KernelPath::all().into_iter().find(|p| p.name() == name)
     }
 
-    /// Rings processed together (SIMD lanes of one block).
+    /// Lanes (rings, or mirror pairs of rings) whose recursions run together in one block:
+    /// four registers' worth on the SIMD paths, so that four independent dependency chains
+    /// hide the latency of the fused steps.
     pub fn lanes(self) -> usize {
         match self {
-            KernelPath::Portable | KernelPath::Avx2Fma => 8,
-            KernelPath::Avx512 => 16,
+            KernelPath::Portable => 8,
+            KernelPath::Avx2Fma => 16,
+            KernelPath::Avx512 => 32,
         }
     }
 

@@ -5,9 +5,9 @@
 //!    when the plan is built. The AVX2 and AVX-512 variants are `#[target_feature]` functions,
 //!    which may only be called on a CPU that has those features.
 //! 2. [`FourierGrids`] and [`CoefficientSums`]: the shared outputs of the per-order tasks.
-//!    Every order m writes its own disjoint part of one array (two Fourier columns of every
-//!    ring, or the coefficients of order m), which safe slices cannot express because the
-//!    parts interleave in memory. Each output hands out one writer per order, inside a
+//!    Every order m writes its own disjoint part of each output array (two Fourier columns of
+//!    every ring, or the coefficients of order m), which safe slices cannot express because
+//!    the parts interleave in memory. Each output hands out one writer per order, inside a
 //!    parallel loop it runs itself over distinct orders, so no two writers can touch the same
 //!    element.
 
@@ -114,18 +114,22 @@ impl KernelSet {
 }
 
 // The variants. `synth_order` and `analysis_order` are `#[inline(always)]`, so each wrapper
-// compiles its own copy with the wrapper's target features.
+// compiles its own copy with the wrapper's target features. Lane counts: the recursion runs
+// W lanes (W / lanes-per-register independent chains, enough to cover the latency of its two
+// dependent fused steps), the synthesis sums H lanes at a time (four sets of H lanes fill
+// half the register file) and analysis keeps F partial sums per degree (one register). The
+// widths must agree with `KernelPath::lanes`.
 
 fn synth_portable<const GRAD: bool>(
     job: &SynthJob,
     sc: &mut OrderScratch,
     out: &mut OrderFourierColumns,
 ) {
-    synth_order::<8, PORTABLE_FUSED, GRAD>(job, sc, out)
+    synth_order::<8, 4, PORTABLE_FUSED, GRAD>(job, sc, out)
 }
 
 fn analysis_portable(job: &AnalysisJob, sc: &mut OrderScratch, out: &mut OrderCoefficientSums) {
-    analysis_order::<8, PORTABLE_FUSED>(job, sc, out)
+    analysis_order::<8, 2, PORTABLE_FUSED>(job, sc, out)
 }
 
 #[cfg(target_arch = "x86_64")]
@@ -135,7 +139,7 @@ unsafe fn synth_avx2<const GRAD: bool>(
     sc: &mut OrderScratch,
     out: &mut OrderFourierColumns,
 ) {
-    synth_order::<8, true, GRAD>(job, sc, out)
+    synth_order::<16, 8, true, GRAD>(job, sc, out)
 }
 
 #[cfg(target_arch = "x86_64")]
@@ -145,13 +149,13 @@ unsafe fn synth_avx512<const GRAD: bool>(
     sc: &mut OrderScratch,
     out: &mut OrderFourierColumns,
 ) {
-    synth_order::<16, true, GRAD>(job, sc, out)
+    synth_order::<32, 16, true, GRAD>(job, sc, out)
 }
 
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2,fma")]
 unsafe fn analysis_avx2(job: &AnalysisJob, sc: &mut OrderScratch, out: &mut OrderCoefficientSums) {
-    analysis_order::<8, true>(job, sc, out)
+    analysis_order::<16, 4, true>(job, sc, out)
 }
 
 #[cfg(target_arch = "x86_64")]
@@ -161,24 +165,13 @@ unsafe fn analysis_avx512(
     sc: &mut OrderScratch,
     out: &mut OrderCoefficientSums,
 ) {
-    analysis_order::<16, true>(job, sc, out)
+    analysis_order::<32, 8, true>(job, sc, out)
 }
 
-/// Which of the (up to two) grids a Fourier entry goes to.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub(crate) enum FourierTarget {
-    /// Values, or ∂/∂θ in a gradient synthesis.
-    First,
-    /// (1/sin θ) ∂/∂λ in a gradient synthesis.
-    Second,
-}
-
-/// One or two row-major nlat × nlon grids whose rows hold packed half-spectra
+/// Row-major nlat × nlon grids whose rows hold packed half-spectra
 /// [Re X_0, Re X_1, Im X_1, Re X_2, Im X_2, ...], filled order by order in parallel.
 pub(crate) struct FourierGrids<'g> {
-    first: *mut f64,
-    /// Null when there is no second grid.
-    second: *mut f64,
+    grids: Vec<*mut f64>,
     nlat: usize,
     nlon: usize,
     lmax: usize,
@@ -188,32 +181,25 @@ pub(crate) struct FourierGrids<'g> {
 // SAFETY: the grids are borrowed mutably for 'g, so nothing outside reads or writes them while
 // a `FourierGrids` exists. Threads share a `&FourierGrids` only inside `for_each_order`, where
 // each thread writes through an `OrderFourierColumns` of its own order m, and the entries of
-// different orders are different elements: column 0 for m = 0, columns 2m − 1 and 2m for
-// m ≥ 1, with 2m ≤ 2·lmax < nlon (checked in `new`). Nothing reads through the pointers.
+// different orders are different elements of each grid: column 0 for m = 0, columns 2m − 1
+// and 2m for m ≥ 1, with 2m ≤ 2·lmax < nlon (checked in `new`). Different grids are different
+// borrows, so they do not overlap either. Nothing reads through the pointers.
 unsafe impl Sync for FourierGrids<'_> {}
 
 impl<'g> FourierGrids<'g> {
     /// Takes the grids (each nlat · nlon long, row-major) for a synthesis to degree `lmax`.
     /// Panics on a length mismatch or when nlon < 2·lmax + 1 (the plan refuses those earlier).
-    pub(crate) fn new(
-        first: &'g mut [f64],
-        second: Option<&'g mut [f64]>,
-        nlat: usize,
-        nlon: usize,
-        lmax: usize,
-    ) -> Self {
+    pub(crate) fn new(grids: Vec<&'g mut [f64]>, nlat: usize, nlon: usize, lmax: usize) -> Self {
         assert!(2 * lmax < nlon, "nlon {nlon} cannot hold degree {lmax}");
-        assert_eq!(first.len(), nlat * nlon, "grid size");
-        let second = match second {
-            Some(g) => {
+        let grids = grids
+            .into_iter()
+            .map(|g| {
                 assert_eq!(g.len(), nlat * nlon, "grid size");
                 g.as_mut_ptr()
-            }
-            None => std::ptr::null_mut(),
-        };
+            })
+            .collect();
         FourierGrids {
-            first: first.as_mut_ptr(),
-            second,
+            grids,
             nlat,
             nlon,
             lmax,
@@ -253,18 +239,13 @@ impl OrderFourierColumns<'_, '_> {
         self.m
     }
 
-    /// Sets the entry of this order on `row` of `target` to `x` (only its real part for m = 0).
+    /// Sets the entry of this order on `row` of grid `grid` to `x` (only its real part for
+    /// m = 0).
     #[inline(always)]
-    pub(crate) fn put(&mut self, target: FourierTarget, row: usize, x: Complex64) {
+    pub(crate) fn put(&mut self, grid: usize, row: usize, x: Complex64) {
         let g = self.grids;
         assert!(row < g.nlat, "row {row} outside the grid");
-        let base = match target {
-            FourierTarget::First => g.first,
-            FourierTarget::Second => {
-                assert!(!g.second.is_null(), "no second grid");
-                g.second
-            }
-        };
+        let base = g.grids[grid];
         let at = row * g.nlon;
         // SAFETY: row < nlat and 2m < nlon, so the elements lie inside the grid; they belong
         // to order m alone (see the `Sync` impl of `FourierGrids`).
@@ -279,29 +260,33 @@ impl OrderFourierColumns<'_, '_> {
     }
 }
 
-/// Packed `geodesy` C and S (index `coeffs::packed_index(l, m)`), accumulated order by order in
-/// parallel.
+/// Packed `geodesy` C and S (index `coeffs::packed_index(l, m)`) of one or more fields,
+/// accumulated order by order in parallel.
 pub(crate) struct CoefficientSums<'c> {
-    c: *mut f64,
-    s: *mut f64,
+    fields: Vec<(*mut f64, *mut f64)>,
     lmax: usize,
     _coefficients: PhantomData<&'c mut [f64]>,
 }
 
-// SAFETY: as for `FourierGrids`: both arrays are borrowed mutably for 'c, and inside
+// SAFETY: as for `FourierGrids`: every array is borrowed mutably for 'c, and inside
 // `for_each_order` each thread reads and writes only the elements packed_index(l, m),
 // l = m..=lmax, of its own order m; packed_index is one-to-one on 0 ≤ m ≤ l, so different
-// orders never share an element.
+// orders never share an element, and different arrays are different borrows.
 unsafe impl Sync for CoefficientSums<'_> {}
 
 impl<'c> CoefficientSums<'c> {
-    /// Takes packed C and S of degree `lmax` (each `packed_len(lmax)` long).
-    pub(crate) fn new(c: &'c mut [f64], s: &'c mut [f64], lmax: usize) -> Self {
-        assert_eq!(c.len(), packed_len(lmax), "packed C length");
-        assert_eq!(s.len(), packed_len(lmax), "packed S length");
+    /// Takes packed (C, S) of degree `lmax` of each field (each `packed_len(lmax)` long).
+    pub(crate) fn new(fields: Vec<(&'c mut [f64], &'c mut [f64])>, lmax: usize) -> Self {
+        let fields = fields
+            .into_iter()
+            .map(|(c, s)| {
+                assert_eq!(c.len(), packed_len(lmax), "packed C length");
+                assert_eq!(s.len(), packed_len(lmax), "packed S length");
+                (c.as_mut_ptr(), s.as_mut_ptr())
+            })
+            .collect();
         CoefficientSums {
-            c: c.as_mut_ptr(),
-            s: s.as_mut_ptr(),
+            fields,
             lmax,
             _coefficients: PhantomData,
         }
@@ -335,19 +320,21 @@ impl OrderCoefficientSums<'_, '_> {
         self.m
     }
 
-    /// C_lm += `dc`, S_lm += `ds` for this order m and degree `l` (m ≤ l ≤ lmax).
+    /// C_lm += `dc`, S_lm += `ds` of field `field` for this order m and degree `l`
+    /// (m ≤ l ≤ lmax).
     #[inline(always)]
-    pub(crate) fn add(&mut self, l: usize, dc: f64, ds: f64) {
+    pub(crate) fn add(&mut self, field: usize, l: usize, dc: f64, ds: f64) {
         assert!(
             self.m <= l && l <= self.sums.lmax,
             "degree {l} outside the order's column"
         );
+        let (c, s) = self.sums.fields[field];
         let i = packed_index(l, self.m);
         // SAFETY: i < packed_len(lmax) since l ≤ lmax; the element belongs to order m alone
         // (see the `Sync` impl of `CoefficientSums`).
         unsafe {
-            *self.sums.c.add(i) += dc;
-            *self.sums.s.add(i) += ds;
+            *c.add(i) += dc;
+            *s.add(i) += ds;
         }
     }
 }
@@ -361,15 +348,15 @@ mod tests {
         let (nlat, nlon, lmax) = (3, 9, 4);
         let mut a = vec![f64::NAN; nlat * nlon];
         let mut b = vec![f64::NAN; nlat * nlon];
-        let mut grids = FourierGrids::new(&mut a, Some(&mut b), nlat, nlon, lmax);
+        let mut grids = FourierGrids::new(vec![&mut a, &mut b], nlat, nlon, lmax);
         grids.for_each_order(
             0..lmax + 1,
             || (),
             |_, out| {
                 let m = out.order() as f64;
                 for row in 0..nlat {
-                    out.put(FourierTarget::First, row, Complex64::new(m, -m));
-                    out.put(FourierTarget::Second, row, Complex64::new(10.0 + m, 0.5));
+                    out.put(0, row, Complex64::new(m, -m));
+                    out.put(1, row, Complex64::new(10.0 + m, 0.5));
                 }
             },
         );
@@ -387,13 +374,13 @@ mod tests {
         let lmax = 5;
         let mut c = vec![0.0; packed_len(lmax)];
         let mut s = vec![0.0; packed_len(lmax)];
-        let mut sums = CoefficientSums::new(&mut c, &mut s, lmax);
+        let mut sums = CoefficientSums::new(vec![(&mut c, &mut s)], lmax);
         for _ in 0..2 {
             sums.for_each_order(
                 || (),
                 |_, out| {
                     for l in out.order()..=lmax {
-                        out.add(l, l as f64, out.order() as f64);
+                        out.add(0, l, l as f64, out.order() as f64);
                     }
                 },
             );
@@ -411,7 +398,7 @@ mod tests {
     fn a_degree_below_the_order_is_refused() {
         let mut c = vec![0.0; packed_len(3)];
         let mut s = vec![0.0; packed_len(3)];
-        CoefficientSums::new(&mut c, &mut s, 3)
-            .for_each_order(|| (), |_, out| out.add(0, 1.0, 1.0));
+        CoefficientSums::new(vec![(&mut c, &mut s)], 3)
+            .for_each_order(|| (), |_, out| out.add(0, 0, 1.0, 1.0));
     }
 }

@@ -1,0 +1,53 @@
+//! The region options of `kugel spectrum` and `kugel compare`: `--region`, `--window-lmax`,
+//! `--tapers`.
+
+use kugel::error::Error;
+use kugel::progress::Progress;
+use kugel::regional::{RegionSpec, TaperChoice, TaperSet, DEFAULT_MIN_CONCENTRATION};
+
+#[derive(Debug, Clone, clap::Args)]
+pub struct RegionArgs {
+    /// Localised (multitaper) estimate inside a region: cap:LAT,LON,RADIUS_DEG (degrees north,
+    /// degrees east, cap radius in degrees).
+    #[arg(
+        long,
+        value_name = "cap:LAT,LON,RADIUS_DEG",
+        allow_hyphen_values = true
+    )]
+    pub region: Option<String>,
+    /// With --region: bandwidth L_W of the windows (below the model's degree).
+    #[arg(long, value_name = "LW", requires = "region")]
+    pub window_lmax: Option<usize>,
+    /// With --region: number of windows to use (default: every window with concentration ≥ 0.99).
+    #[arg(long, value_name = "K", requires = "region")]
+    pub tapers: Option<usize>,
+}
+
+impl RegionArgs {
+    /// The parsed region, its window family and the window choice, when --region was given.
+    pub fn taper_set(
+        &self,
+        model_lmax: usize,
+        progress: &dyn Progress,
+    ) -> Result<Option<(TaperSet, TaperChoice)>, Error> {
+        let Some(text) = &self.region else {
+            return Ok(None);
+        };
+        let region: RegionSpec = text.parse()?;
+        let lw = self.window_lmax.ok_or_else(|| {
+            Error::invalid("--region needs --window-lmax LW (the windows' bandwidth)")
+        })?;
+        if lw >= model_lmax {
+            return Err(Error::invalid(format!(
+                "--window-lmax {lw} must be below the model's degree {model_lmax} (LW < L)"
+            )));
+        }
+        let choice = match self.tapers {
+            Some(k) => TaperChoice::Count(k),
+            None => TaperChoice::MinConcentration(DEFAULT_MIN_CONCENTRATION),
+        };
+        // only the windows that will be used are rotated to the region
+        let set = region.taper_set(lw, Some(choice), progress)?;
+        Ok(Some((set, choice)))
+    }
+}

@@ -1,0 +1,68 @@
+"""Per-call cost of the Python package against the library's own transform time.
+
+Runs `kugel bench --lmax L --json` (the engine timing its plan, synthesis and analysis on a
+Gauss grid) and times `kugel.synthesize` / `kugel.analyze` on the same grid from Python, median
+of N calls each, alternating the two so machine load affects both alike. Prints one JSON line.
+
+    python python/bench/overhead.py --kugel target/release/kugel --lmax 255 --calls 20
+"""
+
+import argparse
+import json
+import statistics
+import subprocess
+import time
+
+import numpy as np
+
+import kugel
+
+
+def main():
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--kugel", required=True, help="the kugel binary")
+    parser.add_argument("--lmax", type=int, default=255)
+    parser.add_argument("--calls", type=int, default=20)
+    parser.add_argument("--rounds", type=int, default=3)
+    args = parser.parse_args()
+    L = args.lmax
+    rng = np.random.default_rng(0)
+    C = np.tril(rng.standard_normal((L + 1, L + 1)))
+    S = np.tril(rng.standard_normal((L + 1, L + 1)))
+    S[:, 0] = 0.0
+    model = kugel.Model(C, S)
+    grid = kugel.synthesize(model)
+    values = np.ascontiguousarray(grid.values)
+
+    bench, py_syn, py_ana = [], [], []
+    for _ in range(args.rounds):
+        out = subprocess.run([args.kugel, "bench", "--lmax", str(L), "--json", "--repeat", "5"],
+                             capture_output=True, text=True, check=True)
+        bench.append(json.loads(out.stdout.strip().splitlines()[-1]))
+        for _ in range(args.calls):
+            t = time.perf_counter()
+            kugel.synthesize(model)
+            py_syn.append(time.perf_counter() - t)
+            t = time.perf_counter()
+            kugel.analyze(values, grid="gauss")
+            py_ana.append(time.perf_counter() - t)
+    med = statistics.median
+    syn = med(b["synthesis_s"] for b in bench)
+    ana = med(b["analysis_s"] for b in bench)
+    plan = med(b.get("plan_s", 0.0) for b in bench)
+    result = {
+        "lmax": L,
+        "bench_synthesis_s": syn,
+        "bench_analysis_s": ana,
+        "bench_plan_s": plan,
+        "python_synthesize_s": med(py_syn),
+        "python_analyze_s": med(py_ana),
+        # the Python call builds its plan each time, as the command line does
+        "synthesize_overhead_vs_plan_plus_transform": med(py_syn) / (plan + syn) - 1.0,
+        "analyze_overhead_vs_plan_plus_transform": med(py_ana) / (plan + ana) - 1.0,
+    }
+    print(json.dumps(result))
+
+
+if __name__ == "__main__":
+    main()

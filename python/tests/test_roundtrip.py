@@ -1,0 +1,108 @@
+"""Round trips: grid → model → grid, every grid layout the reader accepts, files, conventions."""
+
+import pickle
+
+import numpy as np
+import pytest
+import xarray as xr
+
+import kugel
+from conftest import random_model
+
+
+def test_gauss_round_trip_numpy_and_xarray(model30):
+    grid = kugel.synthesize(model30)
+    assert grid.dims == ("lat", "lon") and grid.shape[0] == 31
+    again = kugel.analyze(grid)
+    np.testing.assert_allclose(again.C, model30.C, atol=1e-12)
+    np.testing.assert_allclose(again.S, model30.S, atol=1e-12)
+    from_numpy = kugel.analyze(grid.values, grid="gauss")
+    # the same engine field and quadrature: identical numbers
+    assert np.array_equal(from_numpy.C, again.C) and np.array_equal(from_numpy.S, again.S)
+
+
+def test_every_layout_gives_the_model_back(model30):
+    base = kugel.synthesize(model30, grid=2.0)  # node-registered, poles included, 91 x 180
+    reference = kugel.analyze(base, lmax=30)
+    np.testing.assert_allclose(reference.C, model30.C, atol=1e-11)
+
+    # the same cells in another order or convention give the same engine field: same bits
+    south_north = base.isel(lat=slice(None, None, -1))
+    lon_first = base.transpose("lon", "lat")
+    renamed = base.rename(lat="latitude", lon="longitude")
+    for variant in (south_north, lon_first, renamed):
+        got = kugel.analyze(variant, lmax=30)
+        assert np.array_equal(got.C, reference.C) and np.array_equal(got.S, reference.S)
+
+    # -180..180 with the wrap-around column repeated; descending longitudes
+    shifted = base.assign_coords(lon=((base.lon + 180) % 360) - 180).sortby("lon")
+    wrapped = xr.concat([shifted, shifted.isel(lon=[0]).assign_coords(lon=[180.0])], dim="lon")
+    for variant in (shifted, wrapped, base.isel(lon=slice(None, None, -1))):
+        got = kugel.analyze(variant, lmax=30)
+        np.testing.assert_allclose(got.C, model30.C, atol=1e-11)
+        np.testing.assert_allclose(got.S, model30.S, atol=1e-11)
+
+    # cell-centred (Fejér) grid: values at the cell centres
+    lat = 89.0 - 2.0 * np.arange(90)
+    lon = 1.0 + 2.0 * np.arange(180)
+    lat2, lon2 = np.meshgrid(lat, lon, indexing="ij")
+    cells = kugel.evaluate(model30, lat2, lon2)
+    da = xr.DataArray(cells, dims=("lat", "lon"), coords={"lat": lat, "lon": lon})
+    got = kugel.analyze(da, lmax=30)
+    np.testing.assert_allclose(got.C, model30.C, atol=1e-10)
+
+
+def test_reference_radius_travels_with_the_map():
+    model = random_model(8, reference_radius_m=3_389_500.0)
+    grid = kugel.synthesize(model)
+    assert kugel.analyze(grid).reference_radius_m == 3_389_500.0
+
+
+def test_model_files_round_trip(tmp_path, model30):
+    sigma = np.tril(np.full(model30.C.shape, 1e-3))
+    with_sigma = kugel.Model(model30.C, model30.S, C_sigma=sigma, S_sigma=sigma,
+                             reference_radius_m=6_371_000.0, gm_m3_s2=3.986e14, units="1")
+    for name in ("m.nc", "m.txt"):
+        with_sigma.to_file(tmp_path / name)
+        back = kugel.read_model(tmp_path / name)
+        assert back == with_sigma, name
+    with_sigma.to_netcdf(tmp_path / "n.nc")
+    assert kugel.read_model(tmp_path / "n.nc") == with_sigma
+
+
+def test_conversion_and_truncation(model30):
+    schmidt = model30.converted("schmidt")
+    assert schmidt.normalization == "schmidt" and not schmidt.condon_shortley_phase
+    # Schmidt = geodesy / sqrt(2l + 1) (common practice)
+    l = np.arange(31)[:, None]
+    np.testing.assert_allclose(schmidt.C, model30.C * np.sqrt(2 * l + 1), rtol=1e-14)
+    back = schmidt.converted("geodesy")
+    np.testing.assert_allclose(back.C, model30.C, rtol=1e-14, atol=1e-300)
+    phased = model30.converted("orthonormal")
+    assert phased.condon_shortley_phase
+    small = model30.truncated(5)
+    assert small.lmax == 5 and np.array_equal(small.C, model30.C[:6, :6])
+    padded = small.truncated(9)
+    assert padded.lmax == 9 and np.all(padded.C[6:] == 0)
+
+
+def test_models_pickle(model30):
+    again = pickle.loads(pickle.dumps(model30))
+    assert again == model30
+    assert np.array_equal(kugel.synthesize(again).values, kugel.synthesize(model30).values)
+
+
+def test_spectrum_of_a_known_model():
+    # degree variance S_l = sum_m (C_lm^2 + S_lm^2) in geodesy normalisation (common practice)
+    model = random_model(12, seed=2)
+    spec = kugel.spectrum(model)
+    expected = (model.C ** 2 + model.S ** 2).sum(axis=1)
+    np.testing.assert_allclose(spec["degree_variance"].values, expected, rtol=1e-14)
+    assert list(spec["degree"].values) == list(range(13))
+
+
+def test_without_xarray_results_are_numpy(monkeypatch, model30):
+    from kugel import _grids
+    monkeypatch.setattr(_grids, "_xr", None)
+    out = kugel.synthesize(model30)
+    assert type(out) is np.ndarray and out.shape == (31, 64)
