@@ -131,8 +131,28 @@ impl Job {
         let mut known_lmax = model_lmax.clone();
         for (name, input) in &config.inputs {
             if let Input::Model(m) = input {
-                if let Some(l) = crate::io::model::netcdf::declared_lmax(&base_dir.join(&m.path)) {
-                    known_lmax.insert(name.clone(), l);
+                let model_path = base_dir.join(&m.path);
+                if crate::io::model::has_netcdf_magic(&model_path).unwrap_or(false) {
+                    if let Some(l) = crate::io::model::netcdf::declared_lmax(&model_path) {
+                        known_lmax.insert(name.clone(), l);
+                    }
+                } else if model_path.is_file() {
+                    // A text table declares no size up front: it is read whole now, as the run
+                    // would read it, so its band limit and its rows are checked before any work.
+                    match crate::io::model::read_model(&model_path) {
+                        Ok(model) => {
+                            known_lmax.insert(name.clone(), model.lmax());
+                        }
+                        Err(e) => problems.push(format!("inputs.{name}.path: {e}")),
+                    }
+                }
+            }
+        }
+        // A filter keeps its model's band limit, also when that model is an input.
+        for name in levels.iter().flatten() {
+            if let Some(Step::Filter(s)) = config.steps.get(name) {
+                if let Some(&l) = known_lmax.get(&s.model) {
+                    known_lmax.entry(name.clone()).or_insert(l);
                 }
             }
         }
@@ -410,8 +430,8 @@ fn canonical_folder(path: &Path) -> Option<PathBuf> {
 }
 
 /// A spectrum's `fit_range` must lie within the band limit of its model, when that is known
-/// before the run (model steps, and NetCDF model inputs from their header; text tables are
-/// only known once read).
+/// before the run (model steps, NetCDF model inputs from their header, text-table model inputs
+/// read whole during the checks).
 fn check_fit_ranges(
     config: &Config,
     model_lmax: &BTreeMap<String, usize>,

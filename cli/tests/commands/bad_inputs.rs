@@ -338,6 +338,52 @@ fn compare_with_a_zero_model_never_agrees_and_swapping_keeps_the_verdict() {
 }
 
 #[test]
+fn dry_run_checks_a_text_table_model_input_through_a_filter() {
+    let dir = tempfile::tempdir().unwrap();
+    make_inputs(dir.path());
+    let g = kugel::io::model::read_model(&dir.path().join("g.nc")).unwrap();
+    write_model(&dir.path().join("g.txt"), &g, &Provenance::default()).unwrap();
+    std::fs::write(
+        dir.path().join("bad.txt"),
+        "normalization = geodesy\n0 0 1 0\n1 0 oops 0\n",
+    )
+    .unwrap();
+    let spec = |model: &str| {
+        format!(
+            "[body]\nradius_m = 6378137.0\n[output]\nfolder = \"out\"\n\
+             [inputs.g]\nkind = \"model\"\npath = \"{model}\"\n\
+             [steps.f]\nkind = \"filter\"\nmodel = \"g\"\nfilter = \"gauss:300\"\n\
+             [steps.s]\nkind = \"spectrum\"\nmodel = \"f\"\nfit_range = [2, 30]\n"
+        )
+    };
+    let dry_run = |model: &str| {
+        std::fs::write(dir.path().join("spec.toml"), spec(model)).unwrap();
+        let out = std::process::Command::new(env!("CARGO_BIN_EXE_kugel"))
+            .args(["run", "--dry-run", "spec.toml"])
+            .current_dir(dir.path())
+            .output()
+            .unwrap();
+        (
+            out.status.code(),
+            String::from_utf8_lossy(&out.stderr).to_string(),
+        )
+    };
+    let (code, stderr) = dry_run("g.txt");
+    assert_eq!(code, Some(3), "{stderr}");
+    assert!(
+        stderr.contains("steps.s.fit_range") && stderr.contains("band limit 8 of model 'f'"),
+        "{stderr}"
+    );
+    let (code, stderr) = dry_run("bad.txt");
+    assert_eq!(code, Some(3), "{stderr}");
+    assert!(
+        stderr.contains("inputs.g.path") && stderr.contains("bad.txt"),
+        "{stderr}"
+    );
+    assert!(!dir.path().join("out").exists());
+}
+
+#[test]
 fn dry_run_checks_a_fit_range_beyond_a_model_input() {
     let dir = tempfile::tempdir().unwrap();
     make_inputs(dir.path());
