@@ -75,6 +75,10 @@ pub struct SphericalPolygon {
     pub source: String,
 }
 
+/// Arcs of a latitude circle shorter than this (radians) that cannot be classified are left
+/// out (module notes of `intervals_at`).
+const TINY_ARC_RAD: f64 = 1e-6;
+
 /// Smallest angular distance (radians, as a chord-free measure) below which two things count
 /// as touching.
 const TOUCH_RAD: f64 = 1e-10;
@@ -394,6 +398,11 @@ impl SphericalPolygon {
                 if let Some(inside) = self.contains(at(start + f * (end - start))) {
                     return Ok(inside);
                 }
+            }
+            if (end - start) * rho < TINY_ARC_RAD {
+                // a sliver beside a vertex, on a circle that nearly touches it: whichever side
+                // it is on, it adds less than its width times the row's weight
+                return Ok(false);
             }
             Err(Error::invalid(format!(
                 "{}: cannot tell inside from outside near latitude {:.6}°, longitude {:.6}°; \

@@ -5,7 +5,7 @@
 
 use ndarray::Array2;
 
-use super::concentration::{region_tapers, LatitudeRows};
+use super::concentration::{check_concentration_cost, region_tapers, LatitudeRows};
 use super::multitaper::TaperChoice;
 use super::polygon::SphericalPolygon;
 use super::tapers::{cap_taper_set_with_progress, TaperSet};
@@ -168,7 +168,11 @@ impl Region {
                     progress,
                 )
             }
-            Region::Polygon(p) => polygon_rows(p, lmax_window)?,
+            Region::Polygon(p) => {
+                // refuse before the rows are built; the rows' own count is checked again below
+                check_concentration_cost(lmax_window, 4 * (lmax_window + 1) + 200, name)?;
+                polygon_rows(p, lmax_window)?
+            }
             Region::Mask(m) => {
                 let need = 2 * lmax_window;
                 if m.grid.max_exact_degree < need {
@@ -180,6 +184,7 @@ impl Region {
                         m.grid.max_exact_degree
                     )));
                 }
+                check_concentration_cost(lmax_window, m.grid.nlat(), name)?;
                 m.latitude_rows()
             }
         };
