@@ -613,6 +613,23 @@ fn check_step(
         Some(_) => {}
     };
     use ProductKind as P;
+    let pair = match step {
+        Step::Compare(s) => Some(&s.models),
+        Step::RegionalCompare(s) => Some(&s.models),
+        _ => None,
+    };
+    if let Some(models) = pair {
+        match models.as_slice() {
+            [a, b] => {
+                need("models", a, P::Model);
+                need("models", b, P::Model);
+            }
+            _ => problems.push(format!(
+                "{}: expected two model names, e.g. [\"a\", \"b\"]",
+                at("models")
+            )),
+        }
+    }
     match step {
         Step::Grid(s) => {
             need("input", &s.input, P::Points);
@@ -702,16 +719,6 @@ fn check_step(
             }
         }
         Step::Compare(s) => {
-            match s.models.as_slice() {
-                [a, b] => {
-                    need("models", a, P::Model);
-                    need("models", b, P::Model);
-                }
-                _ => problems.push(format!(
-                    "{}: expected two model names, e.g. [\"a\", \"b\"]",
-                    at("models")
-                )),
-            }
             check_confidence(&at("confidence"), s.confidence, problems);
         }
         Step::Filter(s) => {
@@ -765,16 +772,6 @@ fn check_step(
             }
         }
         Step::RegionalCompare(s) => {
-            match s.models.as_slice() {
-                [a, b] => {
-                    need("models", a, P::Model);
-                    need("models", b, P::Model);
-                }
-                _ => problems.push(format!(
-                    "{}: expected two model names, e.g. [\"a\", \"b\"]",
-                    at("models")
-                )),
-            }
             check_region(&at("region"), &s.region, base, problems);
             check_window_degree(&at("window_lmax"), s.window_lmax, problems);
             if s.tapers == Some(0) {

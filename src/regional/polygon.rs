@@ -21,11 +21,13 @@ use crate::error::{Error, Result};
 
 type Vec3 = [f64; 3];
 
-fn dot(a: Vec3, b: Vec3) -> f64 {
+/// Scalar product of two 3-vectors.
+pub fn dot(a: Vec3, b: Vec3) -> f64 {
     a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
 }
 
-fn cross(a: Vec3, b: Vec3) -> Vec3 {
+/// Vector product of two 3-vectors.
+pub fn cross(a: Vec3, b: Vec3) -> Vec3 {
     [
         a[1] * b[2] - a[2] * b[1],
         a[2] * b[0] - a[0] * b[2],
@@ -37,7 +39,8 @@ fn norm(a: Vec3) -> f64 {
     dot(a, a).sqrt()
 }
 
-fn unit(a: Vec3) -> Vec3 {
+/// The vector scaled to length 1.
+pub fn unit(a: Vec3) -> Vec3 {
     let n = norm(a);
     [a[0] / n, a[1] / n, a[2] / n]
 }

@@ -354,4 +354,3 @@ fn white_noise_localised_spectrum_is_unbiased_over_many_fields() {
         "stated {stated} vs scatter {sd}"
     );
 }
-

@@ -10,6 +10,7 @@ use kugel::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConventi
 use kugel::io::provenance::Provenance;
 use kugel::io::region::{read_mask, read_polygon, read_region};
 use kugel::progress::Silent;
+use kugel::regional::polygon::{cross, dot, unit, unit_vector as v};
 use kugel::regional::{cap_tapers_at_pole, Region, RegionSpec, SphericalPolygon, TaperSet, Vertex};
 use kugel::sht::gauss_legendre::nodes_and_weights;
 use kugel::sht::{evaluate_points, GaussGrid};
@@ -17,26 +18,6 @@ use kugel::Coefficients;
 use ndarray::Array2;
 
 type V3 = [f64; 3];
-
-fn v(lat: f64, lon: f64) -> V3 {
-    let (sp, cp) = lat.to_radians().sin_cos();
-    let (sl, cl) = lon.to_radians().sin_cos();
-    [cp * cl, cp * sl, sp]
-}
-fn dot(a: V3, b: V3) -> f64 {
-    a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
-}
-fn cross(a: V3, b: V3) -> V3 {
-    [
-        a[1] * b[2] - a[2] * b[1],
-        a[2] * b[0] - a[0] * b[2],
-        a[0] * b[1] - a[1] * b[0],
-    ]
-}
-fn unit(a: V3) -> V3 {
-    let n = dot(a, a).sqrt();
-    [a[0] / n, a[1] / n, a[2] / n]
-}
 
 /// The point at angular distance `d_deg` and bearing `bearing_deg` (clockwise from north)
 /// from (lat, lon): the direct problem on the sphere (common practice).
@@ -230,8 +211,20 @@ fn write_mask(path: &Path, lmax: usize, inside: impl Fn(f64, f64) -> bool) {
     let (lat, lon) = (grid.latitudes_deg(), grid.longitudes_deg());
     let data = Array2::from_shape_fn(
         grid.shape(),
-        |(r, k)| if inside(lat[r], lon[k]) { 1.0 } else { 0.0 },
+        |(r, k)| {
+            if inside(lat[r], lon[k]) {
+                1.0
+            } else {
+                0.0
+            }
+        },
     );
+    write_mask_values(path, lmax, data);
+}
+
+/// A Gauss grid of degree `lmax` with the variable `mask` holding `data` (engine order).
+fn write_mask_values(path: &Path, lmax: usize, data: Array2<f64>) {
+    let grid = GaussGrid::new(lmax);
     let mut file = GridFile::from_engine_grid(&grid, "test mask");
     file.push("mask", "inside the region", "1", None, data);
     let provenance = Provenance::from_command_line("test");
@@ -334,27 +327,10 @@ fn bad_region_files_are_refused_with_file_and_line() {
     );
     case("nohead.csv", "north,east\n10,20\n", &["line 1", "lat"]);
     let mask = dir.path().join("half.nc");
-    write_mask(&mask, 20, |lat, _| lat > 0.0);
-    // rewrite one cell as 0.5
-    {
-        let grid = GaussGrid::new(20);
-        let mut data = Array2::zeros(grid.shape());
-        data[(3, 4)] = 0.5;
-        data[(2, 2)] = 1.0;
-        let mut file = GridFile::from_engine_grid(&grid, "bad mask");
-        file.push("mask", "inside", "1", None, data);
-        let provenance = Provenance::from_command_line("test");
-        write_grid(
-            &mask,
-            &file,
-            &GridWriteOptions {
-                float32: false,
-                lon_convention: LonConvention::ZeroTo360,
-                provenance: &provenance,
-            },
-        )
-        .unwrap();
-    }
+    let mut data = Array2::zeros(GaussGrid::new(20).shape());
+    data[(3, 4)] = 0.5;
+    data[(2, 2)] = 1.0;
+    write_mask_values(&mask, 20, data);
     let e = read_region(&RegionSpec::Mask { path: mask.clone() })
         .unwrap_err()
         .to_string();
@@ -385,6 +361,9 @@ fn circles_grazing_a_vertex_are_classified() {
     for dz in [1e-14, 1e-12, 1e-10, 1e-6] {
         let iv = p.intervals_at(30f64.to_radians().sin() - dz).unwrap();
         let width: f64 = iv.iter().map(|(a, b)| b - a).sum();
-        assert!(width < 1e-2 * dz.sqrt().max(1e-7) * 100.0, "dz {dz}: {iv:?}");
+        assert!(
+            width < 1e-2 * dz.sqrt().max(1e-7) * 100.0,
+            "dz {dz}: {iv:?}"
+        );
     }
 }

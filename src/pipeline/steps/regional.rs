@@ -28,6 +28,21 @@ fn windows(region: &str, lw: usize, keep: Option<TaperChoice>, env: &StepEnv) ->
     Ok(set)
 }
 
+/// Writes a localised table with its title and the region's Shannon number.
+fn write_regional_table(
+    name: &str,
+    mut table: crate::spectral::SpectralTable,
+    (title, set): (&str, &TaperSet),
+    env: &StepEnv,
+    lmax: usize,
+    out: &mut StepOutcome,
+    what: &str,
+) -> Result<()> {
+    table.attribute("title", title);
+    table.number_attribute("shannon_number", set.shannon_number);
+    write_table(name, &table, env, lmax, out, what)
+}
+
 fn choice(tapers: Option<usize>) -> TaperChoice {
     tapers.map_or(
         TaperChoice::MinConcentration(DEFAULT_MIN_CONCENTRATION),
@@ -80,19 +95,15 @@ pub fn spectrum(name: &str, step: &RegionalSpectrumStep, env: &StepEnv) -> Resul
     let local = localised_spectrum(model, &set, choice, &Silent)?;
     let global = crate::spectral::degree_variance(model);
     let expected = expected_localised_spectrum(&global, &local.window_power, local.lmax)?;
-    let mut table = local.to_table(Some(&expected));
-    table.attribute(
-        "title",
-        format!(
-            "localised degree variance of {} in {}",
-            step.model, set.region
-        ),
-    );
-    table.number_attribute("shannon_number", set.shannon_number);
     let mut out = StepOutcome::default();
-    write_table(
+    let title = format!(
+        "localised degree variance of {} in {}",
+        step.model, set.region
+    );
+    write_regional_table(
         name,
-        &table,
+        local.to_table(Some(&expected)),
+        (&title, &set),
         env,
         local.lmax,
         &mut out,
@@ -137,19 +148,15 @@ pub fn compare(name: &str, step: &RegionalCompareStep, env: &StepEnv) -> Result<
     let choice = choice(step.tapers);
     let set = windows(&step.region, step.window_lmax, Some(choice), env)?;
     let cmp = localised_comparison(&a, &b, &set, choice, &Silent)?;
-    let mut table = cmp.to_table();
-    table.attribute(
-        "title",
-        format!(
-            "localised comparison of {first} (reference) and {second} in {}",
-            set.region
-        ),
-    );
-    table.number_attribute("shannon_number", set.shannon_number);
     let mut out = StepOutcome::default();
-    write_table(
+    let title = format!(
+        "localised comparison of {first} (reference) and {second} in {}",
+        set.region
+    );
+    write_regional_table(
         name,
-        &table,
+        cmp.to_table(),
+        (&title, &set),
         env,
         cmp.lmax,
         &mut out,
