@@ -208,8 +208,8 @@ pub fn concentration_matrix(rows: &LatitudeRows, lmax_window: usize) -> Vec<f64>
             }
             let end = block_starts.get(k + 1).copied().unwrap_or(u).min(i + 1);
             let bj = basis[start];
-            for r in 0..nrows {
-                h[r] = quarter_pi_inv * rows.weight[r] * trig(r, bi, bj) * pi[r];
+            for (r, hr) in h.iter_mut().enumerate() {
+                *hr = quarter_pi_inv * rows.weight[r] * trig(r, bi, bj) * pi[r];
             }
             for (j, out) in row.iter_mut().enumerate().take(end).skip(start) {
                 let pj = &legendre[j * nrows..(j + 1) * nrows];

@@ -308,7 +308,7 @@ impl SphericalPolygon {
     fn in_left(&self, p: Vec3) -> Option<bool> {
         let r = self.reference;
         let n = self.points.len();
-        let mut count: i64 = if self.reference_in_left { 1 } else { 0 };
+        let mut count = i64::from(self.reference_in_left);
         for i in 0..n {
             let (a, b) = (self.points[i], self.points[(i + 1) % n]);
             let orientation = dot(r, cross(a, b));
@@ -423,14 +423,8 @@ impl SphericalPolygon {
             });
         }
         let mut out: Vec<(f64, f64)> = Vec::new();
-        let k = cuts.len();
-        for j in 0..k {
-            let start = cuts[j];
-            let end = if j + 1 < k {
-                cuts[j + 1]
-            } else {
-                cuts[0] + two_pi
-            };
+        for (j, &start) in cuts.iter().enumerate() {
+            let end = cuts.get(j + 1).copied().unwrap_or(cuts[0] + two_pi);
             if end - start < 1e-15 {
                 continue;
             }
