@@ -50,7 +50,7 @@ impl CsvTable {
 }
 
 /// Splits one CSV line into fields.
-fn split_line(line: &str) -> std::result::Result<Vec<String>, String> {
+pub(crate) fn split_line(line: &str) -> std::result::Result<Vec<String>, String> {
     let mut out = Vec::new();
     let mut cur = String::new();
     let mut chars = line.chars().peekable();

@@ -16,4 +16,5 @@ pub mod grid;
 pub mod model;
 pub mod netcdf_common;
 pub mod provenance;
+pub mod region;
 pub mod tapers;

@@ -124,6 +124,48 @@ fn gauss_shape(lmax: usize) -> (usize, usize) {
     )
 }
 
+/// Bytes of the window family of a region: a cap's per-order problems, or the dense problem of
+/// a mask or polygon (its rows taken as a polygon's; a mask's are checked when it is read).
+fn region_windows_bytes(region: &str, lw: usize) -> u64 {
+    match region.parse::<crate::regional::RegionSpec>() {
+        Ok(crate::regional::RegionSpec::Cap { .. }) | Err(_) => {
+            crate::regional::cap::taper_set_bytes(lw)
+        }
+        Ok(_) => crate::regional::concentration::concentration_cost(lw, 4 * (lw + 1) + 200).0,
+    }
+}
+
+/// The windows and the windowed products of a regional spectrum or comparison.
+fn regional_bytes(
+    region: &str,
+    lw: usize,
+    models: &[&String],
+    model_lmax: &BTreeMap<String, usize>,
+) -> (String, u64) {
+    let windows = region_windows_bytes(region, lw);
+    let degree = models
+        .iter()
+        .filter_map(|m| model_lmax.get(m.as_str()))
+        .max();
+    match degree {
+        Some(&l) => (
+            format!(
+                "windows of degree {lw} in {region} and windowed products of degree {}",
+                l + lw
+            ),
+            windows.max(crate::regional::multitaper::localised_memory_bytes(
+                l,
+                lw,
+                models.len(),
+            )),
+        ),
+        None => (
+            format!("windows of degree {lw} in {region} (the models' degrees are known once read)"),
+            windows,
+        ),
+    }
+}
+
 /// Estimates every step of `config`, given the model degrees known before the run and an upper
 /// bound on the size of each point input (see [`point_count_bound`]).
 pub fn estimate(
@@ -201,6 +243,17 @@ pub fn estimate(
                     ),
                     bytes,
                 )
+            }
+            Step::Tapers(s) => (
+                format!("the windows of {} of degree {}", s.region, s.window_lmax),
+                region_windows_bytes(&s.region, s.window_lmax),
+            ),
+            Step::RegionalSpectrum(s) => {
+                regional_bytes(&s.region, s.window_lmax, &[&s.model], model_lmax)
+            }
+            Step::RegionalCompare(s) => {
+                let models: Vec<&String> = s.models.iter().collect();
+                regional_bytes(&s.region, s.window_lmax, &models, model_lmax)
             }
             Step::Spectrum(_) | Step::Compare(_) | Step::Filter(_) | Step::Evaluate(_) => continue,
         };

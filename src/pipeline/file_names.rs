@@ -114,7 +114,11 @@ pub fn planned_files(name: &str, step: &Step, output: &OutputSection) -> Vec<Str
             add("png", f.coverage_png());
         }
         Step::Fit(_) | Step::Analyze(_) | Step::Filter(_) => add("", f.model_nc()),
-        Step::Spectrum(_) | Step::Compare(_) => {
+        Step::Tapers(_) => add("", f.main("nc")),
+        Step::Spectrum(_)
+        | Step::Compare(_)
+        | Step::RegionalSpectrum(_)
+        | Step::RegionalCompare(_) => {
             add("netcdf", f.main("nc"));
             add("csv", f.main("csv"));
             add("svg", f.main("svg"));

@@ -22,6 +22,9 @@ pub enum ProductKind {
     Comparison,
     Maps,
     Residuals,
+    Windows,
+    LocalisedSpectrum,
+    LocalisedComparison,
 }
 
 impl ProductKind {
@@ -34,6 +37,9 @@ impl ProductKind {
             ProductKind::Comparison => "comparison",
             ProductKind::Maps => "maps",
             ProductKind::Residuals => "residuals",
+            ProductKind::Windows => "window family",
+            ProductKind::LocalisedSpectrum => "localised spectrum",
+            ProductKind::LocalisedComparison => "localised comparison",
         }
     }
 }
@@ -157,6 +163,7 @@ impl Job {
             }
         }
         check_fit_ranges(&config, &known_lmax, &mut problems);
+        check_window_degrees(&config, &known_lmax, &mut problems);
         for (name, input) in &config.inputs {
             if let Input::Points(p) = input {
                 check_point_columns(name, p, &base_dir, &mut problems);
@@ -289,6 +296,9 @@ fn step_product(kind: StepKind) -> ProductKind {
         StepKind::Compare => ProductKind::Comparison,
         StepKind::Synthesize => ProductKind::Maps,
         StepKind::Evaluate => ProductKind::Residuals,
+        StepKind::Tapers => ProductKind::Windows,
+        StepKind::RegionalSpectrum => ProductKind::LocalisedSpectrum,
+        StepKind::RegionalCompare => ProductKind::LocalisedComparison,
     }
 }
 
@@ -309,6 +319,13 @@ fn step_summary(step: &Step) -> String {
             if let Some(h) = s.altitude_km {
                 parts.push(format!("altitude {h} km"));
             }
+        }
+        Step::Tapers(s) => parts.push(format!("{}, windows of degree {}", s.region, s.window_lmax)),
+        Step::RegionalSpectrum(s) => {
+            parts.push(format!("{}, windows of degree {}", s.region, s.window_lmax))
+        }
+        Step::RegionalCompare(s) => {
+            parts.push(format!("{}, windows of degree {}", s.region, s.window_lmax))
         }
         Step::Grid(_)
         | Step::Analyze(_)
@@ -444,6 +461,30 @@ fn check_fit_ranges(
                     problems.push(format!(
                         "steps.{name}.fit_range: ends at degree {b}, beyond the band limit {l} of model '{}'",
                         s.model
+                    ));
+                }
+            }
+        }
+    }
+}
+
+/// Window degrees of regional steps below the degree of every model known before the run.
+fn check_window_degrees(
+    config: &Config,
+    model_lmax: &BTreeMap<String, usize>,
+    problems: &mut Vec<String>,
+) {
+    for (name, step) in &config.steps {
+        let (lw, models) = match step {
+            Step::RegionalSpectrum(s) => (s.window_lmax, vec![&s.model]),
+            Step::RegionalCompare(s) => (s.window_lmax, s.models.iter().collect()),
+            _ => continue,
+        };
+        for m in models {
+            if let Some(&l) = model_lmax.get(m.as_str()) {
+                if lw >= l {
+                    problems.push(format!(
+                        "steps.{name}.window_lmax: {lw} must be below the degree {l} of model '{m}' (LW < L)"
                     ));
                 }
             }
@@ -592,6 +633,23 @@ fn check_step(
         Some(_) => {}
     };
     use ProductKind as P;
+    let pair = match step {
+        Step::Compare(s) => Some(&s.models),
+        Step::RegionalCompare(s) => Some(&s.models),
+        _ => None,
+    };
+    if let Some(models) = pair {
+        match models.as_slice() {
+            [a, b] => {
+                need("models", a, P::Model);
+                need("models", b, P::Model);
+            }
+            _ => problems.push(format!(
+                "{}: expected two model names, e.g. [\"a\", \"b\"]",
+                at("models")
+            )),
+        }
+    }
     match step {
         Step::Grid(s) => {
             need("input", &s.input, P::Points);
@@ -681,16 +739,6 @@ fn check_step(
             }
         }
         Step::Compare(s) => {
-            match s.models.as_slice() {
-                [a, b] => {
-                    need("models", a, P::Model);
-                    need("models", b, P::Model);
-                }
-                _ => problems.push(format!(
-                    "{}: expected two model names, e.g. [\"a\", \"b\"]",
-                    at("models")
-                )),
-            }
             check_confidence(&at("confidence"), s.confidence, problems);
         }
         Step::Filter(s) => {
@@ -728,8 +776,57 @@ fn check_step(
             }
             check_altitude(&at("altitude_km"), s.altitude_km, problems);
         }
+        Step::Tapers(s) => {
+            check_region(&at("region"), &s.region, base, problems);
+            check_window_degree(&at("window_lmax"), s.window_lmax, problems);
+            if s.keep == Some(0) {
+                problems.push(format!("{}: must be at least 1", at("keep")));
+            }
+        }
+        Step::RegionalSpectrum(s) => {
+            need("model", &s.model, P::Model);
+            check_region(&at("region"), &s.region, base, problems);
+            check_window_degree(&at("window_lmax"), s.window_lmax, problems);
+            if s.tapers == Some(0) {
+                problems.push(format!("{}: must be at least 1", at("tapers")));
+            }
+        }
+        Step::RegionalCompare(s) => {
+            check_region(&at("region"), &s.region, base, problems);
+            check_window_degree(&at("window_lmax"), s.window_lmax, problems);
+            if s.tapers == Some(0) {
+                problems.push(format!("{}: must be at least 1", at("tapers")));
+            }
+        }
     }
     problems.extend(found);
+}
+
+/// A region spec parses and its file, if any, exists (its content is checked when the step runs).
+fn check_region(path: &str, spec: &str, base: &Path, problems: &mut Vec<String>) {
+    match spec.parse::<crate::regional::RegionSpec>() {
+        Err(e) => problems.push(format!("{path}: {e}")),
+        Ok(r) => {
+            if let Some(file) = r.resolved_against(base).file() {
+                if !file.is_file() {
+                    problems.push(format!(
+                        "{path}: the region file {} does not exist",
+                        file.display()
+                    ));
+                }
+            }
+        }
+    }
+}
+
+/// Window degrees: at least 1, and small enough for a dense concentration problem.
+fn check_window_degree(path: &str, lw: usize, problems: &mut Vec<String>) {
+    if !(1..=crate::regional::concentration::MAX_WINDOW_DEGREE).contains(&lw) {
+        problems.push(format!(
+            "{path}: {lw} is outside 1..={}",
+            crate::regional::concentration::MAX_WINDOW_DEGREE
+        ));
+    }
 }
 
 fn check_degree(path: &str, lmax: usize, problems: &mut Vec<String>) {
@@ -775,7 +872,13 @@ fn model_degrees(config: &Config, levels: &[Vec<String>]) -> BTreeMap<String, us
             Step::Fit(s) => Some(s.lmax),
             Step::Analyze(s) => Some(s.lmax),
             Step::Filter(s) => out.get(&s.model).copied(),
-            Step::Spectrum(_) | Step::Compare(_) | Step::Synthesize(_) | Step::Evaluate(_) => None,
+            Step::Spectrum(_)
+            | Step::Compare(_)
+            | Step::Synthesize(_)
+            | Step::Evaluate(_)
+            | Step::Tapers(_)
+            | Step::RegionalSpectrum(_)
+            | Step::RegionalCompare(_) => None,
         };
         if let Some(l) = l {
             out.insert(name.clone(), l);

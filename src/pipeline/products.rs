@@ -3,6 +3,7 @@
 use crate::coeffs::Coefficients;
 use crate::io::grid::read::UserGrid;
 use crate::observe::points::PointSet;
+use crate::regional::{LocalisedComparison, LocalisedSpectrum, TaperSet};
 use crate::spectral::{Comparison, Spectrum};
 
 /// A point set with what the values mean.
@@ -28,6 +29,9 @@ pub enum Product {
     Residuals {
         rms: f64,
     },
+    Windows(Box<TaperSet>),
+    LocalisedSpectrum(Box<LocalisedSpectrum>),
+    LocalisedComparison(Box<LocalisedComparison>),
 }
 
 impl Product {

@@ -25,6 +25,12 @@ config_kinds! {
         Synthesize = "synthesize" => SynthesizeStep,
         /// A model evaluated at the observation points (residuals observed − model).
         Evaluate = "evaluate" => EvaluateStep,
+        /// Band-limited windows concentrated in a region (spatio-spectral tapers).
+        Tapers = "tapers" => TapersStep,
+        /// Localised (multitaper) degree variance of a model inside a region.
+        RegionalSpectrum = "regional_spectrum" => RegionalSpectrumStep,
+        /// Two models compared inside a region: localised cross-power, correlation, admittance.
+        RegionalCompare = "regional_compare" => RegionalCompareStep,
     }
 }
 
@@ -158,6 +164,42 @@ pub struct EvaluateStep {
     pub altitude_km: Option<f64>,
 }
 
+#[derive(Debug, Clone, Deserialize)]
+pub struct TapersStep {
+    /// "cap:LAT,LON,RADIUS_DEG", "mask:FILE" or "polygon:FILE" (files relative to the config).
+    pub region: String,
+    /// Bandwidth L_W of the windows.
+    pub window_lmax: usize,
+    /// Keep only the K best-concentrated windows (default: all (L_W + 1)²).
+    pub keep: Option<usize>,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+pub struct RegionalSpectrumStep {
+    /// The model whose localised spectrum is estimated.
+    pub model: String,
+    /// "cap:LAT,LON,RADIUS_DEG", "mask:FILE" or "polygon:FILE" (files relative to the config).
+    pub region: String,
+    /// Bandwidth L_W of the windows (below the model's degree).
+    pub window_lmax: usize,
+    /// Number of windows (default: every window with concentration ≥ 0.99).
+    pub tapers: Option<usize>,
+}
+
+#[derive(Debug, Clone, Deserialize)]
+pub struct RegionalCompareStep {
+    /// The two models, first (reference A) against second (B); the admittance is A on B.
+    pub models: Vec<String>,
+    /// "cap:LAT,LON,RADIUS_DEG", "mask:FILE" or "polygon:FILE" (files relative to the config).
+    pub region: String,
+    /// Bandwidth L_W of the windows (below both models' degrees).
+    pub window_lmax: usize,
+    /// Number of windows (default: every window with concentration ≥ 0.99).
+    pub tapers: Option<usize>,
+    /// Leave degrees below this out of both models, as in `compare`.
+    pub from_degree: Option<usize>,
+}
+
 impl Step {
     /// Product names the step uses, in the order written.
     pub fn uses(&self) -> Vec<&str> {
@@ -170,6 +212,9 @@ impl Step {
             Step::Filter(s) => vec![s.model.as_str()],
             Step::Synthesize(s) => vec![s.model.as_str()],
             Step::Evaluate(s) => vec![s.model.as_str(), s.points.as_str()],
+            Step::Tapers(_) => Vec::new(),
+            Step::RegionalSpectrum(s) => vec![s.model.as_str()],
+            Step::RegionalCompare(s) => s.models.iter().map(String::as_str).collect(),
         }
     }
 
@@ -183,7 +228,10 @@ impl Step {
             | Step::Compare(_)
             | Step::Filter(_)
             | Step::Synthesize(_)
-            | Step::Evaluate(_) => None,
+            | Step::Evaluate(_)
+            | Step::Tapers(_)
+            | Step::RegionalSpectrum(_)
+            | Step::RegionalCompare(_) => None,
         }
     }
 }

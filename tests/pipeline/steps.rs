@@ -36,6 +36,13 @@ fn minimal(kind: StepKind) -> &'static str {
         StepKind::Filter => "kind = \"filter\"\nmodel = \"f\"\nfilter = \"gauss:300\"\n",
         StepKind::Synthesize => "kind = \"synthesize\"\nmodel = \"f\"\nquantities = [\"geoid\"]\n",
         StepKind::Evaluate => "kind = \"evaluate\"\nmodel = \"f\"\npoints = \"pts\"\n",
+        StepKind::Tapers => "kind = \"tapers\"\nregion = \"cap:10,20,30\"\nwindow_lmax = 3\n",
+        StepKind::RegionalSpectrum => {
+            "kind = \"regional_spectrum\"\nmodel = \"f\"\nregion = \"cap:10,20,30\"\nwindow_lmax = 2\n"
+        }
+        StepKind::RegionalCompare => {
+            "kind = \"regional_compare\"\nmodels = [\"f\", \"f\"]\nregion = \"cap:10,20,30\"\nwindow_lmax = 2\n"
+        }
     }
 }
 
@@ -68,6 +75,9 @@ fn each_step_kind_parses_into_its_own_variant() {
             Step::Filter(s) => assert_eq!(s.filter, "gauss:300"),
             Step::Synthesize(s) => assert_eq!(s.quantities, ["geoid"]),
             Step::Evaluate(s) => assert_eq!(s.points, "pts"),
+            Step::Tapers(s) => assert_eq!((s.region.as_str(), s.window_lmax), ("cap:10,20,30", 3)),
+            Step::RegionalSpectrum(s) => assert_eq!(s.window_lmax, 2),
+            Step::RegionalCompare(s) => assert_eq!(s.models, ["f", "f"]),
         }
     }
 }
@@ -109,6 +119,15 @@ fn each_kind_accepts_exactly_its_documented_keys() {
         (
             StepKind::Evaluate,
             &["model", "points", "quantity", "altitude_km"],
+        ),
+        (StepKind::Tapers, &["region", "window_lmax", "keep"]),
+        (
+            StepKind::RegionalSpectrum,
+            &["model", "region", "window_lmax", "tapers"],
+        ),
+        (
+            StepKind::RegionalCompare,
+            &["models", "region", "window_lmax", "tapers", "from_degree"],
         ),
     ];
     assert_eq!(documented.len(), StepKind::ALL.len());

@@ -11,5 +11,6 @@ mod lowes;
 mod plots;
 mod quantiles;
 mod regional;
+mod regional_areas;
 mod spectrum;
 mod support;

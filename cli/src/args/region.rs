@@ -1,6 +1,8 @@
 //! The region options of `kugel spectrum` and `kugel compare`: `--region`, `--window-lmax`,
 //! `--tapers`.
 
+use std::path::{Path, PathBuf};
+
 use kugel::error::Error;
 use kugel::progress::Progress;
 use kugel::regional::{RegionSpec, TaperChoice, TaperSet, DEFAULT_MIN_CONCENTRATION};
@@ -8,10 +10,12 @@ use kugel::regional::{RegionSpec, TaperChoice, TaperSet, DEFAULT_MIN_CONCENTRATI
 #[derive(Debug, Clone, clap::Args)]
 pub struct RegionArgs {
     /// Localised (multitaper) estimate inside a region: cap:LAT,LON,RADIUS_DEG (degrees north,
-    /// degrees east, cap radius in degrees).
+    /// degrees east, cap radius in degrees), mask:FILE (a NetCDF grid, 1 inside and 0 outside)
+    /// or polygon:FILE (CSV of lat, lon vertices in degrees joined by great-circle arcs; the
+    /// smaller of the two sides is the region).
     #[arg(
         long,
-        value_name = "cap:LAT,LON,RADIUS_DEG",
+        value_name = "cap:LAT,LON,RADIUS_DEG|mask:FILE|polygon:FILE",
         allow_hyphen_values = true
     )]
     pub region: Option<String>,
@@ -24,6 +28,12 @@ pub struct RegionArgs {
 }
 
 impl RegionArgs {
+    /// The file a mask or polygon region reads (an input outputs must not overwrite).
+    pub fn region_file(&self) -> Option<PathBuf> {
+        let spec = self.region.as_deref()?.parse::<RegionSpec>().ok()?;
+        spec.file().map(Path::to_path_buf)
+    }
+
     /// The parsed region, its window family and the window choice, when --region was given.
     pub fn taper_set(
         &self,

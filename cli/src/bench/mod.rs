@@ -3,4 +3,5 @@
 pub mod fma_peak;
 pub mod observe;
 pub mod points;
+pub mod rotation;
 pub mod transform;

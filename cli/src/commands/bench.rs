@@ -4,6 +4,7 @@
 use super::CommandContext;
 use crate::bench::observe::{run_fit_bench, run_gridding_bench, ObserveBenchArgs};
 use crate::bench::points::{print_points_result, run_points_bench, PointsBenchArgs};
+use crate::bench::rotation::{print_rotation_result, run_rotation_bench, RotationBenchArgs};
 use crate::bench::transform::{print_result, run_transform_bench, TransformBenchArgs};
 
 /// Which benchmark to run.
@@ -17,6 +18,8 @@ pub enum Case {
     Fit,
     /// Synthesis (values and gradients) of a degree-L model at scattered points.
     Points,
+    /// Rotation of a degree-L model and back: time and round-trip error against 1e-11.
+    Rotation,
 }
 
 #[derive(Debug, clap::Args)]
@@ -67,6 +70,23 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
                 quiet: ctx.quiet,
             })?;
             print_result(&r, args.json)
+        }
+        Case::Rotation => {
+            let r = run_rotation_bench(&RotationBenchArgs {
+                lmax: args.lmax,
+                threads: args.threads,
+                repeat: args.repeat,
+                seed: args.seed,
+            })?;
+            print_rotation_result(&r, args.json)?;
+            if !r.pass {
+                return Err(kugel::Error::invalid(format!(
+                    "rotation round trip at degree {}: error {:.2e} exceeds the goal {:.0e}",
+                    r.lmax, r.round_trip_rel_err, r.goal
+                ))
+                .into());
+            }
+            Ok(())
         }
         Case::Points => {
             let r = run_points_bench(&PointsBenchArgs {

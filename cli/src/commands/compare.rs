@@ -50,7 +50,10 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         csv: args.csv.as_deref(),
         plot: args.plot.as_deref(),
     };
-    outputs.check(&[&args.reference, &args.other])?;
+    let region_file = args.region.region_file();
+    let mut inputs = vec![args.reference.as_path(), args.other.as_path()];
+    inputs.extend(region_file.as_deref());
+    outputs.check(&inputs)?;
     let a = read_model(&args.reference)?;
     let b = read_model(&args.other)?;
     if args.region.region.is_some() {

@@ -66,7 +66,10 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         csv: args.csv.as_deref(),
         plot: args.plot.as_deref(),
     };
-    outputs.check(&[&args.model])?;
+    let region_file = args.region.region_file();
+    let mut inputs = vec![args.model.as_path()];
+    inputs.extend(region_file.as_deref());
+    outputs.check(&inputs)?;
     let fit_range = args
         .fit
         .as_deref()

@@ -1,7 +1,7 @@
-//! `kugel tapers --cap-radius-deg D --lmax LW -o T.nc [--centre LAT,LON] [--keep K] [--png N]`:
-//! the band-limited windows best concentrated in a spherical cap (`kugel::regional`), sorted
-//! by concentration, written as NetCDF with the Shannon number; optional PNG maps of the best
-//! windows.
+//! `kugel tapers --cap-radius-deg D | --region mask:FILE|polygon:FILE --lmax LW -o T.nc
+//! [--centre LAT,LON] [--keep K] [--png N]`: the band-limited windows best concentrated in a
+//! spherical cap or an arbitrary region (`kugel::regional`), sorted by concentration, written
+//! as NetCDF with the Shannon number; optional PNG maps of the best windows.
 
 use std::path::{Path, PathBuf};
 
@@ -19,8 +19,18 @@ use kugel::sht::{GaussGrid, TransformPlan};
 #[derive(Debug, clap::Args)]
 pub struct Args {
     /// Angular radius of the cap in degrees (more than 0, at most 180).
-    #[arg(long, value_name = "D")]
-    pub cap_radius_deg: f64,
+    #[arg(long, value_name = "D", required_unless_present = "region")]
+    pub cap_radius_deg: Option<f64>,
+    /// Instead of a cap: any region, as cap:LAT,LON,RADIUS_DEG, mask:FILE (a NetCDF grid, 1
+    /// inside and 0 outside) or polygon:FILE (CSV of lat, lon vertices in degrees, joined by
+    /// great-circle arcs; the smaller of the two sides is the region).
+    #[arg(
+        long,
+        value_name = "mask:FILE|polygon:FILE",
+        conflicts_with_all = ["cap_radius_deg", "centre"],
+        allow_hyphen_values = true
+    )]
+    pub region: Option<String>,
     /// Bandwidth L_W of the windows (their highest degree).
     #[arg(long = "lmax", value_name = "LW")]
     pub lmax_window: usize,
@@ -28,7 +38,8 @@ pub struct Args {
     /// concentration(taper), the Shannon number and the centre as attributes.
     #[arg(short = 'o', long = "output", value_name = "T.nc")]
     pub output: PathBuf,
-    /// Centre of the cap (degrees north, degrees east); default the north pole.
+    /// Centre of the cap (degrees north, degrees east); default the north pole. For other
+    /// regions the file records the direction of the region's centroid.
     #[arg(long, value_name = "LAT,LON", allow_hyphen_values = true)]
     pub centre: Option<String>,
     /// Keep only the K best-concentrated windows (default: all (LW+1)²).
@@ -40,21 +51,34 @@ pub struct Args {
 }
 
 pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
-    refuse_overwrite_of_input(&args.output, &[])?;
-    let (lat, lon) = match &args.centre {
-        Some(c) => {
-            let v = parse_numbers(c, 2, "--centre", "LAT,LON in degrees (e.g. 30,-60)")?;
-            (v[0], v[1])
+    let region: RegionSpec = match (&args.region, args.cap_radius_deg) {
+        (Some(text), _) => text.parse()?,
+        (None, Some(radius_deg)) => {
+            let (lat, lon) = match &args.centre {
+                Some(c) => {
+                    let v = parse_numbers(c, 2, "--centre", "LAT,LON in degrees (e.g. 30,-60)")?;
+                    (v[0], v[1])
+                }
+                None => (90.0, 0.0),
+            };
+            // validate the numbers the same way `--region cap:…` is validated
+            RegionSpec::Cap {
+                lat_deg: lat,
+                lon_deg: lon,
+                radius_deg,
+            }
+            .to_string()
+            .parse()?
         }
-        None => (90.0, 0.0),
+        (None, None) => {
+            return Err(Error::invalid(
+                "give --cap-radius-deg D or --region mask:FILE|polygon:FILE",
+            )
+            .into())
+        }
     };
-    let region = RegionSpec::Cap {
-        lat_deg: lat,
-        lon_deg: lon,
-        radius_deg: args.cap_radius_deg,
-    };
-    // validate the numbers the same way `--region cap:…` is validated
-    let region: RegionSpec = region.to_string().parse()?;
+    let inputs: Vec<&Path> = region.file().into_iter().collect();
+    refuse_overwrite_of_input(&args.output, &inputs)?;
     let progress = TerminalProgress::new(ctx.quiet);
     let set = region.taper_set(
         args.lmax_window,

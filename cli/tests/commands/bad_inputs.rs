@@ -25,6 +25,9 @@ fn make_inputs(dir: &Path) {
     let mut nan_gm = g.clone();
     nan_gm.gm_m3_s2 = Some(f64::NAN);
     write_model(&dir.join("nan_gm.nc"), &nan_gm, &Provenance::default()).unwrap();
+    // region files: a self-crossing ring and a plain triangle
+    std::fs::write(dir.join("bow.csv"), "lat,lon\n0,0\n10,10\n10,0\n0,10\n").unwrap();
+    std::fs::write(dir.join("tri.csv"), "10,20\n30,25\n15,40\n").unwrap();
     std::fs::write(
         dir.join("norad.txt"),
         "normalization = geodesy\n0 0 1 0\n1 0 0.001 0\n1 1 0.002 0.001\n",
@@ -194,6 +197,37 @@ fn cases() -> Vec<Case> {
             "spectrum g.nc --fit 2-18446744073709551615",
             3,
             &["fit range", "maximum degree"],
+        ),
+        // regions: polygons that are not simple rings, masks kugel cannot read, problems too big
+        case(
+            "tapers --region polygon:bow.csv --lmax 4 -o t.nc",
+            3,
+            &["bow.csv", "crosses itself", "line 2"],
+        ),
+        case(
+            "spectrum g.nc --region polygon:bow.csv --window-lmax 2",
+            3,
+            &["bow.csv", "crosses itself"],
+        ),
+        case(
+            "compare g.nc zero.nc --region mask:pts.csv --window-lmax 2",
+            3,
+            &["pts.csv"],
+        ),
+        case(
+            "tapers --region polygon:tri.csv --lmax 4 -o tri.csv",
+            3,
+            &["same file", "tri.csv"],
+        ),
+        case(
+            "tapers --region polygon:tri.csv --lmax 400 -o t.nc",
+            5,
+            &["concentration problem", "160801 unknowns", "MiB"],
+        ),
+        case(
+            "tapers --region polygon:absent.csv --lmax 4 -o t.nc",
+            4,
+            &["absent.csv"],
         ),
         // models whose numbers would silently mislead
         case("convert nan_gm.nc c.nc", 3, GM),

@@ -183,8 +183,90 @@ fn localised_spectrum_and_comparison_run_and_refuse_a_window_at_the_model_degree
         "--window-lmax",
         "6",
     ]);
+    assert_eq!(bad.status.code(), Some(4));
+    assert!(String::from_utf8_lossy(&bad.stderr).contains("x.csv"));
+}
+
+#[test]
+fn polygon_and_mask_regions_give_windows_and_localised_spectra() {
+    let dir = tempfile::tempdir().unwrap();
+    let ring = dir.path().join("ring.csv");
+    // a quadrilateral of 40° by 40° about (10°N, 20°E); the file lists it clockwise
+    std::fs::write(
+        &ring,
+        "# Halyard block\nlon,lat\n0,-10\n0,30\n40,30\n40,-10\n",
+    )
+    .unwrap();
+    let out = dir.path().join("t.nc");
+    let o = run_kugel(&[
+        "tapers",
+        "--region",
+        &format!("polygon:{}", p(&ring)),
+        "--lmax",
+        "8",
+        "-o",
+        p(&out),
+        "--keep",
+        "20",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let f = NcFile::open(&out).unwrap();
+    let conc: Vec<f64> = f
+        .read_variable_as_f64("concentration")
+        .unwrap()
+        .iter()
+        .copied()
+        .collect();
+    assert_eq!(conc.len(), 20);
+    assert!(
+        conc.windows(2).all(|w| w[0] >= w[1]) && conc[0] > 0.9,
+        "{conc:?}"
+    );
+    let globals = f.global_attributes().unwrap();
+    let region = globals
+        .iter()
+        .find(|a| a.name == "region")
+        .expect("region attribute");
+    assert!(
+        format!("{:?}", region.value).contains("polygon:"),
+        "{:?}",
+        region.value
+    );
+    let input = model_file(dir.path(), 30);
+    let csv = dir.path().join("s.csv");
+    let o = run_kugel(&[
+        "spectrum",
+        p(&input),
+        "--region",
+        &format!("polygon:{}", p(&ring)),
+        "--window-lmax",
+        "5",
+        "--tapers",
+        "3",
+        "--csv",
+        p(&csv),
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert!(std::fs::read_to_string(&csv)
+        .unwrap()
+        .starts_with("degree,localised_degree_variance"));
+    // a self-crossing ring is refused with the file and the lines of its edges
+    std::fs::write(&ring, "lat,lon\n0,0\n10,10\n10,0\n0,10\n").unwrap();
+    let bad = run_kugel(&[
+        "tapers",
+        "--region",
+        &format!("polygon:{}", p(&ring)),
+        "--lmax",
+        "8",
+        "-o",
+        p(&out),
+    ]);
     assert_eq!(bad.status.code(), Some(3));
-    assert!(String::from_utf8_lossy(&bad.stderr).contains("not available yet"));
+    let msg = String::from_utf8_lossy(&bad.stderr);
+    assert!(
+        msg.contains("ring.csv") && msg.contains("crosses itself") && msg.contains("line 2"),
+        "{msg}"
+    );
 }
 
 #[test]

@@ -4,6 +4,7 @@
 mod field;
 mod models;
 mod observe;
+mod regional;
 mod spectra;
 
 use std::collections::BTreeMap;
@@ -88,5 +89,8 @@ pub fn run_step(name: &str, step: &Step, env: &StepEnv) -> Result<StepOutcome> {
         Step::Compare(s) => spectra::compare(name, s, env),
         Step::Synthesize(s) => field::synthesize(name, s, env),
         Step::Evaluate(s) => field::evaluate(name, s, env),
+        Step::Tapers(s) => regional::tapers(name, s, env),
+        Step::RegionalSpectrum(s) => regional::spectrum(name, s, env),
+        Step::RegionalCompare(s) => regional::compare(name, s, env),
     }
 }

@@ -11,7 +11,7 @@ use crate::report::html::Block;
 use crate::report::plots::{comparison_svg, spectrum_svg};
 use crate::spectral::{CompareOptions, Comparison, SpectralTable, Spectrum, SpectrumOptions};
 
-fn write_table(
+pub(super) fn write_table(
     name: &str,
     table: &SpectralTable,
     env: &StepEnv,
@@ -46,7 +46,7 @@ fn write_table(
     Ok(())
 }
 
-fn write_svg(name: &str, svg: &str, env: &StepEnv, out: &mut StepOutcome) -> Result<()> {
+pub(super) fn write_svg(name: &str, svg: &str, env: &StepEnv, out: &mut StepOutcome) -> Result<()> {
     if env.job.config.output.wants("svg") {
         let file = StepFiles(name).main("svg");
         crate::io::atomic::write_bytes_atomic(&env.staging_dir.join(&file), svg.as_bytes())?;
@@ -163,6 +163,6 @@ fn mean_correlation(c: &Comparison) -> f64 {
     v.iter().sum::<f64>() / v.len().max(1) as f64
 }
 
-fn first_lines(text: &str) -> String {
+pub(super) fn first_lines(text: &str) -> String {
     text.lines().take(4).collect::<Vec<_>>().join(" ")
 }
