@@ -33,8 +33,8 @@ use crate::memory;
 
 use super::grid::Grid;
 use super::kernel::{
-    build_lanes, is_symmetric, order_major, AnalysisJob, CoefficientSums, FourierGrids, KernelPath,
-    KernelSet, Lane, OrderScratch, SynthJob,
+    analysis_block_bytes, build_lanes, is_symmetric, order_major, AnalysisJob, CoefficientSums,
+    FourierGrids, KernelPath, KernelSet, Lane, OrderScratch, SynthJob,
 };
 use super::legendre::recursion::sectoral_factors;
 use super::legendre::{order_one_over_sin_at_pole, Pole};
@@ -640,9 +640,13 @@ pub fn analysis_memory_bytes(lmax: usize, nlon: usize, lanes: usize) -> u64 {
 pub fn analysis_memory_bytes_many(lmax: usize, nlon: usize, lanes: usize, fields: usize) -> u64 {
     let threads = rayon::current_num_threads() as u64;
     let fields64 = fields as u64;
+    let chunk_lanes = analysis_chunk_lanes(lmax, lanes, fields);
     fields64 * (2 * packed_len(lmax) * 8) as u64
-        + fields64 * analysis_chunk_lanes(lmax, lanes, fields) as u64 * 2 * (lmax as u64 + 1) * 16
-        + threads * (OrderScratch::bytes(lmax, fields) + (nlon as u64) * 48)
+        + fields64 * chunk_lanes as u64 * 2 * (lmax as u64 + 1) * 16
+        + threads
+            * (OrderScratch::bytes(lmax, fields)
+                + analysis_block_bytes(chunk_lanes, fields)
+                + (nlon as u64) * 48)
 }
 
 /// Lanes whose ring spectra an analysis of `fields` fields holds at once: as many as fit in

@@ -2,6 +2,7 @@
 //! steps), for checking the project's performance goals.
 
 use super::CommandContext;
+use crate::bench::nodes::{print_nodes_result, run_nodes_bench, NodesBenchArgs};
 use crate::bench::observe::{run_fit_bench, run_gridding_bench, ObserveBenchArgs};
 use crate::bench::points::{print_points_result, run_points_bench, PointsBenchArgs};
 use crate::bench::rotation::{print_rotation_result, run_rotation_bench, RotationBenchArgs};
@@ -20,6 +21,8 @@ pub enum Case {
     Points,
     /// Rotation of a degree-L model and back: time and round-trip error against 1e-11.
     Rotation,
+    /// The Gauss–Legendre nodes and weights of the degree-L Gauss grid (L + 1 points) alone.
+    Nodes,
 }
 
 #[derive(Debug, clap::Args)]
@@ -97,6 +100,14 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
                 seed: args.seed,
             })?;
             print_points_result(&r, args.json)
+        }
+        Case::Nodes => {
+            let r = run_nodes_bench(&NodesBenchArgs {
+                lmax: args.lmax,
+                threads: args.threads,
+                repeat: args.repeat,
+            })?;
+            print_nodes_result(&r, args.json)
         }
         Case::Grid | Case::Fit => {
             let o = ObserveBenchArgs {

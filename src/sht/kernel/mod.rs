@@ -14,6 +14,6 @@ mod unsafe_parts;
 pub use path::KernelPath;
 
 pub(crate) use lanes::{build_lanes, is_symmetric, Lane};
-pub(crate) use order::{order_major, AnalysisJob, OrderScratch, SynthJob};
+pub(crate) use order::{analysis_block_bytes, order_major, AnalysisJob, OrderScratch, SynthJob};
 pub(crate) use path::PORTABLE_FUSED;
 pub(crate) use unsafe_parts::{CoefficientSums, FourierGrids, KernelSet};

@@ -117,8 +117,10 @@ impl KernelSet {
 // compiles its own copy with the wrapper's target features. Lane counts: the recursion runs
 // W lanes (W / lanes-per-register independent chains, enough to cover the latency of its two
 // dependent fused steps), the synthesis sums H lanes at a time (four sets of H lanes fill
-// half the register file) and analysis keeps F partial sums per degree (one register). The
-// widths must agree with `KernelPath::lanes`.
+// half the register file) and analysis keeps F partial sums per degree (two registers on
+// AVX2, one on AVX-512: the chain of FMAs into one partial sum is then W / F = 2 or 4 long,
+// short enough for the independent degrees in flight to hide it). The widths must agree with
+// `KernelPath::lanes`.
 
 fn synth_portable<const GRAD: bool>(
     job: &SynthJob,
@@ -155,7 +157,7 @@ unsafe fn synth_avx512<const GRAD: bool>(
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2,fma")]
 unsafe fn analysis_avx2(job: &AnalysisJob, sc: &mut OrderScratch, out: &mut OrderCoefficientSums) {
-    analysis_order::<16, 4, true>(job, sc, out)
+    analysis_order::<16, 8, true>(job, sc, out)
 }
 
 #[cfg(target_arch = "x86_64")]
