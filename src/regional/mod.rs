@@ -5,6 +5,7 @@
 
 pub mod cap;
 pub mod coupling;
+pub mod estimate;
 pub mod multitaper;
 pub mod region_spec;
 pub mod tables;
@@ -12,6 +13,7 @@ pub mod tapers;
 
 pub use cap::{cap_shannon_number, cap_tapers_at_pole, check_cap_radius, Taper};
 pub use coupling::{coupling_matrix, expected_localised_spectrum};
+pub use estimate::{estimate_windows, localised_spectrum_with_expected};
 pub use multitaper::{
     localised_comparison, localised_spectrum, reliable_degrees, Estimate, LocalisedComparison,
     LocalisedSpectrum, TaperChoice,

@@ -48,13 +48,8 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         }
         None => (90.0, 0.0),
     };
-    let region = RegionSpec::Cap {
-        lat_deg: lat,
-        lon_deg: lon,
-        radius_deg: args.cap_radius_deg,
-    };
-    // validate the numbers the same way `--region cap:…` is validated
-    let region: RegionSpec = region.to_string().parse()?;
+    // the numbers are checked the same way `--region cap:…` is
+    let region = RegionSpec::cap(lat, lon, args.cap_radius_deg)?;
     let progress = TerminalProgress::new(ctx.quiet);
     let set = region.taper_set(
         args.lmax_window,
