@@ -18,6 +18,14 @@ fn complex_arrays_bytes(lmax: usize) -> u64 {
     kugel::memory::saturating_product(&[l1, 2 * l1 - 1, 8, 2])
 }
 
+/// Real and imaginary parts of a complex set, its normalisation name and phase.
+type ComplexArrays<'py> = (
+    Bound<'py, PyArray2<f64>>,
+    Bound<'py, PyArray2<f64>>,
+    String,
+    bool,
+);
+
 /// The complex form of a model: real and imaginary parts as (L+1, 2L+1) arrays, and the
 /// normalisation and phase they are in. `normalization` defaults to the model's; the phase
 /// to the model's when the normalisation stays, else to the customary one for the new
@@ -29,12 +37,7 @@ pub fn to_complex<'py>(
     model: &Bound<'py, PyAny>,
     normalization: Option<&str>,
     condon_shortley: Option<bool>,
-) -> PyResult<(
-    Bound<'py, PyArray2<f64>>,
-    Bound<'py, PyArray2<f64>>,
-    String,
-    bool,
-)> {
+) -> PyResult<ComplexArrays<'py>> {
     let coeffs = coefficients_of(model)?;
     let target = match normalization {
         Some(n) => n.parse::<Normalization>().py_err()?,

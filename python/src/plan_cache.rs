@@ -66,6 +66,12 @@ impl<K: PartialEq + Clone, V> RecentCache<K, V> {
     }
 }
 
+impl<K: PartialEq + Clone, V> Default for RecentCache<K, V> {
+    fn default() -> Self {
+        Self::new()
+    }
+}
+
 /// A grid the caller names: Gauss–Legendre for a degree, or a regular step in degrees (the
 /// step's bits, so that equal floats are equal keys).
 #[derive(Clone, Copy, PartialEq, Eq)]
@@ -76,8 +82,11 @@ pub enum GridSpec {
 
 static GRIDS: RecentCache<GridSpec, Grid> = RecentCache::new();
 static PLANS: RecentCache<(usize, Grid), TransformPlan> = RecentCache::new();
-static LAYOUTS: RecentCache<(Vec<u64>, Vec<u64>), (LatitudeAxis, LongitudeAxis)> =
-    RecentCache::new();
+/// The bits of the latitude and longitude coordinate values.
+type CoordinateBits = (Vec<u64>, Vec<u64>);
+/// The axes recognised from them.
+type Axes = (LatitudeAxis, LongitudeAxis);
+static LAYOUTS: RecentCache<CoordinateBits, Axes> = RecentCache::new();
 
 /// The engine grid named by `spec`.
 pub fn grid(spec: GridSpec) -> kugel::Result<Arc<Grid>> {
@@ -102,7 +111,7 @@ pub fn layout(
     lon_deg: &[f64],
     lat_what: &str,
     lon_what: &str,
-) -> kugel::Result<Arc<(LatitudeAxis, LongitudeAxis)>> {
+) -> kugel::Result<Arc<Axes>> {
     let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<u64>>();
     let key = (bits(lat_deg), bits(lon_deg));
     LAYOUTS.get_or_build(&key, || {

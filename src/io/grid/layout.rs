@@ -273,9 +273,9 @@ pub fn engine_grid(lat: &LatitudeAxis, lon: &LongitudeAxis) -> Grid {
 /// column `k` (any strides: a transposed view serves a file stored longitude first).
 ///
 /// This is the one reordering copy of a user's grid: the file reader and the Python bindings
-/// both build their engine field with it. Columns that keep the file's order (all of them, or
-/// two runs for a grid that starts at −180°) are copied as slices rather than element by
-/// element, so the copy runs at memory speed.
+/// both build their engine field with it. Columns that keep the file's order (all of them
+/// when its longitudes ascend) are copied as slices rather than element by element, so the
+/// copy runs at memory speed.
 pub fn engine_order_field(
     lat: &LatitudeAxis,
     lon: &LongitudeAxis,
@@ -329,24 +329,31 @@ mod tests {
 
     #[test]
     fn engine_order_copies_runs_of_columns_in_order() {
-        // a 3 x 4 file stored south to north with longitudes 180, 270, 0, 90: engine rows run
-        // north to south, columns from 0° east (two runs of file columns)
+        // a 3 x 4 file stored south to north: engine rows run north to south; ascending
+        // longitudes (from 180° here) keep the file's columns in one run, descending ones are
+        // reversed column by column
         let lat = latitude_axis(&[-60.0, 0.0, 60.0], "lat", false).unwrap();
         assert_eq!(lat.order, vec![2, 1, 0]);
-        let lon = longitude_axis(&[180.0, 270.0, 0.0, 90.0], "lon").unwrap();
-        assert_eq!(lon.order, vec![2, 3, 0, 1]);
-        assert_eq!(column_runs(&lon.order), vec![(0, 2, 2), (2, 0, 2)]);
         let values = Array2::from_shape_fn((3, 4), |(i, k)| (10 * i + k) as f64);
-        let field = engine_order_field(&lat, &lon, values.view());
-        for (r, &i) in lat.order.iter().enumerate() {
-            for (c, &k) in lon.order.iter().enumerate() {
-                assert_eq!(field[[r, c]], values[[i, k]]);
+        for (lon_deg, runs) in [
+            ([180.0, 270.0, 0.0, 90.0], vec![(0, 0, 4)]),
+            (
+                [90.0, 0.0, 270.0, 180.0],
+                vec![(0, 3, 1), (1, 2, 1), (2, 1, 1), (3, 0, 1)],
+            ),
+        ] {
+            let lon = longitude_axis(&lon_deg, "lon").unwrap();
+            assert_eq!(column_runs(&lon.order), runs);
+            let field = engine_order_field(&lat, &lon, values.view());
+            for (r, &i) in lat.order.iter().enumerate() {
+                for (c, &k) in lon.order.iter().enumerate() {
+                    assert_eq!(field[[r, c]], values[[i, k]]);
+                }
             }
+            // the same values stored longitude first give the same field
+            let transposed = values.t().to_owned();
+            assert_eq!(engine_order_field(&lat, &lon, transposed.t()), field);
         }
-        // the same values stored longitude first give the same field
-        let transposed = values.t().to_owned();
-        let again = engine_order_field(&lat, &lon, transposed.t());
-        assert_eq!(again, field);
     }
 
     #[test]
