@@ -41,6 +41,19 @@ def _check_triangle(array, what):
         raise ValueError(f"coefficient {what}_{{{l},{m}}} is not finite ({array[l, m]})")
 
 
+def _conventions(normalization, condon_shortley_phase, reference_radius_m):
+    """The normalisation name, phase (default: customary for it) and a checked radius."""
+    normalization = str(normalization).strip().lower()
+    if condon_shortley_phase is None:
+        condon_shortley_phase = _DEFAULT_PHASE.get(normalization, False)
+    reference_radius_m = float(reference_radius_m)
+    if not (np.isfinite(reference_radius_m) and reference_radius_m > 0):
+        raise ValueError(
+            f"reference_radius_m must be a positive radius in metres, got {reference_radius_m}"
+        )
+    return normalization, condon_shortley_phase, reference_radius_m
+
+
 class Model:
     """A real spherical-harmonic model: C, S (and optionally their σ) with its conventions.
 
@@ -78,14 +91,8 @@ class Model:
         if C_sigma is not None:
             C_sigma = _square(C_sigma, "C_sigma", lmax)
             S_sigma = _square(S_sigma, "S_sigma", lmax)
-        normalization = str(normalization).strip().lower()
-        if condon_shortley_phase is None:
-            condon_shortley_phase = _DEFAULT_PHASE.get(normalization, False)
-        reference_radius_m = float(reference_radius_m)
-        if not (np.isfinite(reference_radius_m) and reference_radius_m > 0):
-            raise ValueError(
-                f"reference_radius_m must be a positive radius in metres, got {reference_radius_m}"
-            )
+        normalization, condon_shortley_phase, reference_radius_m = _conventions(
+            normalization, condon_shortley_phase, reference_radius_m)
         self.C = C
         self.S = S
         self.C_sigma = C_sigma
@@ -146,14 +153,8 @@ class Model:
             raise TypeError(f"a has dtype {array.dtype}; expected complex or real numbers")
         if array.ndim != 2:
             raise ValueError(f"a has {array.ndim} dimension(s) (shape {array.shape}); expected 2")
-        normalization = str(normalization).strip().lower()
-        if condon_shortley_phase is None:
-            condon_shortley_phase = _DEFAULT_PHASE.get(normalization, False)
-        reference_radius_m = float(reference_radius_m)
-        if not (np.isfinite(reference_radius_m) and reference_radius_m > 0):
-            raise ValueError(
-                f"reference_radius_m must be a positive radius in metres, got {reference_radius_m}"
-            )
+        normalization, condon_shortley_phase, reference_radius_m = _conventions(
+            normalization, condon_shortley_phase, reference_radius_m)
         fields = _native.from_complex(
             np.ascontiguousarray(array.real, dtype=np.float64),
             np.ascontiguousarray(array.imag, dtype=np.float64),
