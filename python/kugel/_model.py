@@ -41,6 +41,19 @@ def _check_triangle(array, what):
         raise ValueError(f"coefficient {what}_{{{l},{m}}} is not finite ({array[l, m]})")
 
 
+def _conventions(normalization, condon_shortley_phase, reference_radius_m):
+    """The normalisation name, phase (default: customary for it) and a checked radius."""
+    normalization = str(normalization).strip().lower()
+    if condon_shortley_phase is None:
+        condon_shortley_phase = _DEFAULT_PHASE.get(normalization, False)
+    reference_radius_m = float(reference_radius_m)
+    if not (np.isfinite(reference_radius_m) and reference_radius_m > 0):
+        raise ValueError(
+            f"reference_radius_m must be a positive radius in metres, got {reference_radius_m}"
+        )
+    return normalization, condon_shortley_phase, reference_radius_m
+
+
 class Model:
     """A real spherical-harmonic model: C, S (and optionally their σ) with its conventions.
 
@@ -78,14 +91,8 @@ class Model:
         if C_sigma is not None:
             C_sigma = _square(C_sigma, "C_sigma", lmax)
             S_sigma = _square(S_sigma, "S_sigma", lmax)
-        normalization = str(normalization).strip().lower()
-        if condon_shortley_phase is None:
-            condon_shortley_phase = _DEFAULT_PHASE.get(normalization, False)
-        reference_radius_m = float(reference_radius_m)
-        if not (np.isfinite(reference_radius_m) and reference_radius_m > 0):
-            raise ValueError(
-                f"reference_radius_m must be a positive radius in metres, got {reference_radius_m}"
-            )
+        normalization, condon_shortley_phase, reference_radius_m = _conventions(
+            normalization, condon_shortley_phase, reference_radius_m)
         self.C = C
         self.S = S
         self.C_sigma = C_sigma
@@ -120,6 +127,41 @@ class Model:
         if lmax < 0:
             raise ValueError(f"lmax must be >= 0, got {lmax}")
         return Model._from_native(_native.resize_model(self, lmax))
+
+    def to_complex(self, normalization=None, condon_shortley=None):
+        """The complex coefficients a_lm (m = −l..l) of the same field, as ``kugel convert
+        --form complex`` writes them: a complex array of shape (L+1, 2L+1) indexed
+        [l, L + m], zero where |m| > l. ``normalization`` defaults to the model's; the phase
+        to the model's when the normalisation stays, else to the customary one for the new
+        normalisation. Returns ``(a, normalization, condon_shortley)`` (conventions in
+        docs/conventions.md)."""
+        re, im, normalization, phase = _native.to_complex(self, normalization, condon_shortley)
+        a = np.empty(re.shape, dtype=np.complex128)
+        a.real = re
+        a.imag = im
+        return a, normalization, phase
+
+    @classmethod
+    def from_complex(cls, a, normalization="orthonormal", condon_shortley_phase=None, *,
+                     reference_radius_m=EARTH_MEAN_RADIUS_M, gm_m3_s2=None, units="1"):
+        """The real model of the field that complex coefficients ``a`` (shape (L+1, 2L+1),
+        indexed [l, L + m]) describe, in the same normalisation and phase, as a complex table
+        is read. ``a`` must describe a real field: a_{l,−m} = (−1)^m conj(a_lm) with the
+        Condon–Shortley phase, conj(a_lm) without it."""
+        array = np.asarray(a)
+        if array.dtype.kind not in "fiuc":
+            raise TypeError(f"a has dtype {array.dtype}; expected complex or real numbers")
+        if array.ndim != 2:
+            raise ValueError(f"a has {array.ndim} dimension(s) (shape {array.shape}); expected 2")
+        normalization, condon_shortley_phase, reference_radius_m = _conventions(
+            normalization, condon_shortley_phase, reference_radius_m)
+        fields = _native.from_complex(
+            np.ascontiguousarray(array.real, dtype=np.float64),
+            np.ascontiguousarray(array.imag, dtype=np.float64),
+            normalization, bool(condon_shortley_phase), reference_radius_m,
+            None if gm_m3_s2 is None else float(gm_m3_s2), str(units),
+        )
+        return cls._from_native(fields)
 
     def to_netcdf(self, path):
         """Writes the model as CF NetCDF-4 (written to a temporary file, then renamed)."""

@@ -8,10 +8,13 @@
 
 use pyo3::prelude::*;
 
+mod complex;
 mod errors;
 mod field_options;
 mod model;
+mod plan_cache;
 mod points;
+mod regional;
 mod spectra;
 mod tables;
 mod transforms;
@@ -35,5 +38,11 @@ fn native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(spectra::spectrum, m)?)?;
     m.add_function(wrap_pyfunction!(spectra::compare, m)?)?;
     m.add_function(wrap_pyfunction!(spectra::filter_model, m)?)?;
+    m.add_function(wrap_pyfunction!(regional::rotate_model, m)?)?;
+    m.add_function(wrap_pyfunction!(regional::cap_tapers, m)?)?;
+    m.add_function(wrap_pyfunction!(regional::localised_spectrum, m)?)?;
+    m.add_function(wrap_pyfunction!(regional::localised_compare, m)?)?;
+    m.add_function(wrap_pyfunction!(complex::to_complex, m)?)?;
+    m.add_function(wrap_pyfunction!(complex::from_complex, m)?)?;
     Ok(())
 }

@@ -1,6 +1,8 @@
 //! Grids ↔ coefficients: analysis of a user's array on its own coordinates (the layout rules of
 //! the command line's grid reader, `kugel::io::grid::layout`) and synthesis of quantities on a
 //! Gauss–Legendre or regular grid (`kugel::field::synthesize_on_grid`, as `kugel synthesize`).
+//! Grids, recognised layouts and transform plans come from `plan_cache`, so a loop over fields
+//! of one shape builds them once.
 
 use std::path::PathBuf;
 
@@ -11,15 +13,15 @@ use pyo3::types::{PyDict, PyList};
 use crate::errors::IntoPyResult;
 use crate::field_options::{target_surface, FieldOptions};
 use crate::model::{coefficients_of, model_dict};
+use crate::plan_cache::{self, GridSpec};
 use kugel::coeffs::{Coefficients, Normalization};
 use kugel::error::Error;
-use kugel::field::{cautions, synthesize_on_grid};
-use kugel::io::grid::layout::{
-    engine_grid, engine_order_field, first_infinite, latitude_axis, longitude_axis,
-};
+use kugel::field::cautions;
+use kugel::field::synthesis::{longitude_densified, synthesize_on_densified_plan};
+use kugel::io::grid::layout::{engine_grid, engine_order_field, first_infinite};
 use kugel::io::grid::read::UserGrid;
 use kugel::io::grid::write::grid_kind_name;
-use kugel::sht::{GaussGrid, Grid, TransformPlan};
+use kugel::progress::Silent;
 use kugel::spectral::continuation::DEFAULT_MAX_AMPLIFICATION;
 
 /// Mean Earth radius (IUGG R1 = 6 371 008.8 m rounded; common practice): the reference radius
@@ -68,27 +70,26 @@ fn user_grid(
             expected
         )));
     }
-    let lat_axis = latitude_axis(
+    let axes = plan_cache::layout(
         lat_deg,
+        lon_deg,
         &format!("latitude coordinate '{}'", src.lat_name),
-        false,
+        &format!("longitude coordinate '{}'", src.lon_name),
     )
     .map_err(with_var)?;
-    let lon_axis = longitude_axis(lon_deg, &format!("longitude coordinate '{}'", src.lon_name))
-        .map_err(with_var)?;
+    let (lat_axis, lon_axis) = (&axes.0, &axes.1);
     let mut notes = Vec::new();
     if lon_axis.dropped_wrap_column {
         notes.push("dropped the duplicated wrap-around longitude column".to_string());
     }
-    let grid = engine_grid(&lat_axis, &lon_axis);
-    let values = engine_order_field(&lat_axis, &lon_axis, |i, k| {
-        if lat_first {
-            field[[i, k]]
-        } else {
-            field[[k, i]]
-        }
-    });
-    if let Some((i, k)) = first_infinite(&values, &lat_axis, &lon_axis) {
+    let grid = engine_grid(lat_axis, lon_axis);
+    let by_lat_lon = if lat_first {
+        field
+    } else {
+        field.reversed_axes()
+    };
+    let values = engine_order_field(lat_axis, lon_axis, by_lat_lon);
+    if let Some((i, k)) = first_infinite(&values, lat_axis, lon_axis) {
         return Err(Error::format(
             &path,
             format!(
@@ -159,7 +160,7 @@ pub fn analyze_grid<'py>(
             user.require_complete()?;
             let lmax = lmax.unwrap_or(user.grid.max_exact_degree);
             user.check_degree(lmax)?;
-            let plan = TransformPlan::new(lmax, &user.grid)?;
+            let plan = plan_cache::plan(lmax, &user.grid)?;
             let mut model = plan.analyse(&user.field)?;
             model.reference_radius_m = reference_radius_m.unwrap_or(EARTH_MEAN_RADIUS_M);
             model.units = user.units.clone();
@@ -181,12 +182,16 @@ pub fn analyze_grid<'py>(
     Ok((model_dict(py, &model)?, notes))
 }
 
-/// The engine grid for `gauss` or a regular step in degrees (node-registered, both poles).
-fn grid_for(spec: &Bound<'_, PyAny>, lmax: usize) -> PyResult<Grid> {
+/// The grid named by `gauss` or a regular step in degrees (node-registered, both poles), for
+/// a model of degree `lmax`; `None` is gauss.
+fn grid_spec(spec: Option<&Bound<'_, PyAny>>, lmax: usize) -> PyResult<GridSpec> {
+    let Some(spec) = spec else {
+        return Ok(GridSpec::Gauss(lmax));
+    };
     if let Ok(text) = spec.extract::<String>() {
         let text = text.trim();
         if text.eq_ignore_ascii_case("gauss") {
-            return Ok(GaussGrid::new(lmax));
+            return Ok(GridSpec::Gauss(lmax));
         }
         return Err(Error::invalid(format!(
             "grid '{text}': expected \"gauss\" or a step in degrees such as 1 or 0.5"
@@ -198,7 +203,7 @@ fn grid_for(spec: &Bound<'_, PyAny>, lmax: usize) -> PyResult<Grid> {
             "grid must be \"gauss\" or a step in degrees (a number)",
         )
     })?;
-    kugel::sht::equiangular::regular_grid_by_step(step).py_err()
+    Ok(GridSpec::StepDeg(step.to_bits()))
 }
 
 /// Quantities of a model on a grid, as `kugel synthesize` computes them. Returns the grid's
@@ -231,13 +236,17 @@ pub fn synthesize_grid<'py>(
     )
     .py_err()?;
     let surface = target_surface(altitude_km, radius_km).py_err()?;
-    let grid = match grid {
-        Some(spec) => grid_for(&spec, coeffs.lmax())?,
-        None => GaussGrid::new(coeffs.lmax()),
-    };
+    let spec = grid_spec(grid.as_ref(), coeffs.lmax())?;
     let request = options.request(surface);
-    let fields = py
-        .detach(|| synthesize_on_grid(&coeffs, &grid, &request))
+    let (grid, fields) = py
+        .detach(|| -> kugel::Result<_> {
+            // `synthesize_on_grid` with the grid and plan from the cache
+            let grid = plan_cache::grid(spec)?;
+            let (dense, stride) = longitude_densified(&grid, coeffs.lmax());
+            let plan = plan_cache::plan(coeffs.lmax(), &dense)?;
+            let fields = synthesize_on_densified_plan(&coeffs, &plan, stride, &request, &Silent)?;
+            Ok((grid, fields))
+        })
         .py_err()?;
 
     let radius_m = surface.radius_m(coeffs.reference_radius_m);
@@ -289,10 +298,10 @@ pub fn gauss_latitudes_deg(py: Python<'_>, nlat: usize) -> PyResult<Bound<'_, Py
         )))
         .py_err();
     }
-    Ok(PyArray1::from_vec(
-        py,
-        GaussGrid::new(nlat - 1).latitudes_deg(),
-    ))
+    let grid = py
+        .detach(|| plan_cache::grid(GridSpec::Gauss(nlat - 1)))
+        .py_err()?;
+    Ok(PyArray1::from_vec(py, grid.latitudes_deg()))
 }
 
 /// One coordinate vector (degrees) handed to numpy.
@@ -308,10 +317,8 @@ pub fn grid_coordinates<'py>(
     lmax: usize,
     grid: Option<Bound<'py, PyAny>>,
 ) -> PyResult<(Coordinates<'py>, Coordinates<'py>)> {
-    let grid = match grid {
-        Some(spec) => grid_for(&spec, lmax)?,
-        None => GaussGrid::new(lmax),
-    };
+    let spec = grid_spec(grid.as_ref(), lmax)?;
+    let grid = py.detach(|| plan_cache::grid(spec)).py_err()?;
     Ok((
         PyArray1::from_vec(py, grid.latitudes_deg()),
         PyArray1::from_vec(py, grid.longitudes_deg()),
@@ -329,9 +336,13 @@ pub fn grid_layout(
 ) -> PyResult<(String, usize)> {
     let lat = lat_deg.as_array().to_vec();
     let lon = lon_deg.as_array().to_vec();
-    let lat_axis =
-        latitude_axis(&lat, &format!("latitude coordinate '{lat_name}'"), false).py_err()?;
-    let lon_axis = longitude_axis(&lon, &format!("longitude coordinate '{lon_name}'")).py_err()?;
-    let grid = engine_grid(&lat_axis, &lon_axis);
+    let axes = plan_cache::layout(
+        &lat,
+        &lon,
+        &format!("latitude coordinate '{lat_name}'"),
+        &format!("longitude coordinate '{lon_name}'"),
+    )
+    .py_err()?;
+    let grid = engine_grid(&axes.0, &axes.1);
     Ok((grid_kind_name(grid.kind).to_string(), grid.max_exact_degree))
 }

@@ -7,6 +7,7 @@ import pytest
 import xarray as xr
 
 import kugel
+import kugel.xarray as kx
 from conftest import random_model
 
 
@@ -121,3 +122,85 @@ def test_the_gil_is_released_during_a_transform():
         done.set()
         side.join()
     assert after - before[0] > 1000, after - before[0]
+
+
+# Every public function × every class of bad input that applies to it: (function, class,
+# call, exception, words of the message). Sizes that come from a model already in memory
+# (spectra, rotation, complex form) cannot exceed memory on their own, so the memory class
+# covers the functions that take a size from the caller.
+def _cases():
+    m = random_model(12, seed=5)
+    lat, lon = np.linspace(-80, 80, 30), np.linspace(0, 350, 30)
+    val = np.zeros(30)
+    a, _, _ = m.to_complex("orthonormal")
+    grid = kugel.synthesize(m, grid=10.0)
+    series = xr.concat([grid, grid], dim="time")
+    shuffled = series.assign_coords(lat=grid.lat.values[[1, 0] + list(range(2, grid.sizes["lat"]))])
+    ds = kx.analyze(series, lmax=8)
+    return [
+        # wrong shapes
+        ("fit", "shape", lambda: kugel.fit(lat, lon[:20], val, 3), ValueError, "differ|length|same"),
+        ("fit", "shape", lambda: kugel.fit(lat, lon, val, 3, sigma=np.ones(4)), ValueError, "sigma|length"),
+        ("rotate", "shape", lambda: kugel.rotate(m, pole=(10.0,)), ValueError, "pole must hold 2"),
+        ("rotate", "shape", lambda: kugel.rotate(m, euler=(1.0, 2.0)), ValueError, "euler must hold 3"),
+        ("tapers", "shape", lambda: kugel.tapers(20.0, 4, centre=(1.0, 2.0, 3.0)), ValueError, "centre must hold 2"),
+        ("from_complex", "shape", lambda: kugel.Model.from_complex(a[:, :-1]), ValueError, r"\(L\+1, 2L\+1\)"),
+        ("from_complex", "shape", lambda: kugel.Model.from_complex(a[0]), ValueError, "expected 2"),
+        ("xarray.synthesize", "shape", lambda: kx.synthesize(ds, quantity="value,geoid"), ValueError, "one quantity"),
+        # non-finite values
+        ("fit", "non-finite", lambda: kugel.fit(lat, lon, np.full(30, np.nan), 3), ValueError, "finite|NaN|nan"),
+        ("synthesize", "non-finite", lambda: kugel.synthesize(m, altitude_km=np.nan), ValueError, "altitude"),
+        ("spectrum", "non-finite", lambda: kugel.spectrum(m, lowes_radius_km=np.inf), ValueError, "lowes_radius_km"),
+        ("rotate", "non-finite", lambda: kugel.rotate(m, pole=(np.nan, 0.0)), ValueError, "pole latitude"),
+        ("rotate", "non-finite", lambda: kugel.rotate(m, euler=(0.0, np.inf, 0.0)), ValueError, "finite"),
+        ("tapers", "non-finite", lambda: kugel.tapers(np.nan, 4), ValueError, "region|radius"),
+        ("tapers", "non-finite", lambda: kugel.tapers(20.0, 4, centre=(0.0, np.inf)), ValueError, "region|cap"),
+        ("from_complex", "non-finite", lambda: kugel.Model.from_complex(np.where(a != 0, np.nan, a)), ValueError, "not finite"),
+        ("analyze", "non-finite", lambda: kugel.analyze(grid.assign_coords(lat=np.where(grid.lat > 85, np.nan, grid.lat))), ValueError, "latitude coordinate"),
+        ("xarray.analyze", "non-finite", lambda: kx.analyze(series.where(series.lon != 0)), ValueError, "masked cell"),
+        # coordinates that are not monotonic
+        ("xarray.analyze", "monotonic", lambda: kx.analyze(shuffled), ValueError, "not monotonic"),
+        ("fit", "range", lambda: kugel.fit(lat + 20, lon, val, 3), ValueError, "lat"),
+        # unsupported dtypes
+        ("fit", "dtype", lambda: kugel.fit(lat.astype(str), lon, val, 3), TypeError, "dtype"),
+        ("rotate", "dtype", lambda: kugel.rotate(m, pole=("north", "east")), TypeError, "real numbers"),
+        ("rotate", "dtype", lambda: kugel.rotate(m, euler=(1j, 0, 0)), TypeError, "real numbers"),
+        ("rotate", "dtype", lambda: kugel.rotate(np.zeros((3, 3)), euler=(0, 0, 0)), TypeError, "kugel.Model"),
+        ("tapers", "dtype", lambda: kugel.tapers("wide", 4), TypeError, "real numbers"),
+        ("tapers", "dtype", lambda: kugel.tapers(20.0, 4.5), TypeError, "whole number"),
+        ("spectrum", "dtype", lambda: kugel.spectrum(m, region=5, window_lmax=4), TypeError, "region must be text"),
+        ("compare", "dtype", lambda: kugel.compare(m, m, region="cap:0,0,30", window_lmax="4"), TypeError, "whole number"),
+        ("from_complex", "dtype", lambda: kugel.Model.from_complex(a.astype(object)), TypeError, "dtype"),
+        ("synthesize", "dtype", lambda: kugel.synthesize(m, grid=1j), TypeError, "grid"),
+        # beyond memory
+        ("tapers", "memory", lambda: kugel.tapers(20.0, 1_000_000), MemoryError, "MiB"),
+        ("fit", "memory", lambda: kugel.fit(lat, lon, val, 2_000_000), MemoryError, "MiB"),
+        ("xarray.synthesize", "memory", lambda: kx.synthesize(ds, grid=0.0005), MemoryError, "MiB"),
+        # other options out of range
+        ("rotate", "options", lambda: kugel.rotate(m), ValueError, "say which rotation"),
+        ("rotate", "options", lambda: kugel.rotate(m, pole=(1, 2), euler=(0, 0, 0)), ValueError, "say which rotation"),
+        ("rotate", "options", lambda: kugel.rotate(m, pole=(95.0, 0.0)), ValueError, "95"),
+        ("tapers", "options", lambda: kugel.tapers(200.0, 4), ValueError, "cap radius"),
+        ("tapers", "options", lambda: kugel.tapers(20.0, 4, keep=0), ValueError, "0 windows"),
+        ("tapers", "options", lambda: kugel.tapers(20.0, -1), ValueError, ">= 0"),
+        ("spectrum", "options", lambda: kugel.spectrum(m, region="cap:30,-60,15"), ValueError, "window_lmax"),
+        ("spectrum", "options", lambda: kugel.spectrum(m, region="cap:30,-60,15", window_lmax=12), ValueError, "LW < L"),
+        ("spectrum", "options", lambda: kugel.spectrum(m, region="disc:1,2,3", window_lmax=4), ValueError, "unknown kind"),
+        ("spectrum", "options", lambda: kugel.spectrum(m, region="cap:30,-60", window_lmax=4), ValueError, "cap:LAT,LON,RADIUS_DEG"),
+        ("spectrum", "options", lambda: kugel.spectrum(m, region="cap:30,-60,15", window_lmax=4, fit=(2, 8)), ValueError, "global"),
+        ("spectrum", "options", lambda: kugel.spectrum(m, window_lmax=4), ValueError, "region"),
+        ("compare", "options", lambda: kugel.compare(m, m, region="cap:30,-60,5", window_lmax=4, tapers=500), ValueError, "windows"),
+        ("from_complex", "options", lambda: kugel.Model.from_complex(a * (1 + 0.5j)), ValueError, "real field"),
+        ("from_complex", "options", lambda: kugel.Model.from_complex(a, normalization="fancy"), ValueError, "normali"),
+        ("to_complex", "options", lambda: m.to_complex("fancy"), ValueError, "normali"),
+    ]
+
+
+_CASES = _cases()
+
+
+@pytest.mark.parametrize("function,kind,call,error,words", _CASES,
+                         ids=[f"{c[0]}-{c[1]}-{k}" for k, c in enumerate(_CASES)])
+def test_every_function_refuses_bad_input(function, kind, call, error, words):
+    with pytest.raises(error, match=words):
+        call()

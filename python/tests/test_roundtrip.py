@@ -106,3 +106,22 @@ def test_without_xarray_results_are_numpy(monkeypatch, model30):
     monkeypatch.setattr(_grids, "_xr", None)
     out = kugel.synthesize(model30)
     assert type(out) is np.ndarray and out.shape == (31, 64)
+
+
+def test_cached_plans_give_the_same_bits_from_many_threads(model30):
+    # the first call builds the grid and plan, later ones (here from four threads at once,
+    # and after other shapes pushed it out of the cache) take them from the native cache
+    from concurrent.futures import ThreadPoolExecutor
+
+    first = kugel.synthesize(model30).values
+    grid = kugel.synthesize(model30)
+    with ThreadPoolExecutor(4) as pool:
+        maps = list(pool.map(lambda _: kugel.synthesize(model30).values, range(8)))
+        models = list(pool.map(lambda _: kugel.analyze(grid), range(8)))
+    for other in (6, 7, 8, 9, 10):
+        kugel.synthesize(model30.truncated(other))
+    maps.append(kugel.synthesize(model30).values)
+    for m in maps:
+        assert np.array_equal(m, first)
+    for m in models:
+        assert np.array_equal(m.C, models[0].C) and np.array_equal(m.S, models[0].S)

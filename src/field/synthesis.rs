@@ -237,8 +237,22 @@ pub fn synthesize_on_grid_with_progress(
 ) -> Result<Vec<(Quantity, Array2<f64>)>> {
     let (dense, stride) = longitude_densified(grid, model.lmax());
     let plan = TransformPlan::new(model.lmax(), &dense)?;
-    let out = synthesize_with_plan(model, &plan, request, progress)?;
-    if stride == 1 {
+    synthesize_on_densified_plan(model, &plan, stride, request, progress)
+}
+
+/// [`synthesize_on_grid_with_progress`] with its plan built beforehand: `plan` is the plan for
+/// the model's degree on `longitude_densified(grid, model.lmax())`, `stride` the stride that
+/// returned. For front ends that keep plans between calls (the Python package's plan cache);
+/// a plan depends only on (degree, grid), so the numbers are the same bit for bit.
+pub fn synthesize_on_densified_plan(
+    model: &Coefficients,
+    plan: &TransformPlan,
+    stride: usize,
+    request: &SynthesisRequest,
+    progress: &dyn crate::progress::Progress,
+) -> Result<Vec<(Quantity, Array2<f64>)>> {
+    let out = synthesize_with_plan(model, plan, request, progress)?;
+    if stride <= 1 {
         return Ok(out);
     }
     Ok(out

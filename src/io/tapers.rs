@@ -19,6 +19,27 @@ use crate::io::netcdf_common as nc;
 use crate::io::provenance::Provenance;
 use crate::regional::TaperSet;
 
+/// The windows' C (or, with `sine`, S) coefficients as one (taper, degree, order) array in
+/// row-major order, zero where m > l: the layout of the file's `C` and `S` variables (and of
+/// the Python package's `kugel.tapers`). The caller checks the memory (K (L_W + 1)² doubles).
+pub fn taper_coefficient_cube(set: &TaperSet, sine: bool) -> Vec<f64> {
+    let l1 = set.lmax_window + 1;
+    let mut data = vec![0.0; set.tapers.len() * l1 * l1];
+    for (t, taper) in set.tapers.iter().enumerate() {
+        let packed = if sine {
+            taper.coeffs.s_packed()
+        } else {
+            taper.coeffs.c_packed()
+        };
+        for l in 0..l1 {
+            for m in 0..=l {
+                data[(t * l1 + l) * l1 + m] = packed[packed_index(l, m)];
+            }
+        }
+    }
+    data
+}
+
 /// Writes the window family (atomically).
 pub fn write_tapers_netcdf(path: &Path, set: &TaperSet, provenance: &Provenance) -> Result<()> {
     let l1 = set.lmax_window + 1;
@@ -56,19 +77,7 @@ pub fn write_tapers_netcdf(path: &Path, set: &TaperSet, provenance: &Provenance)
         ("C", "cosine coefficient C_lm of the window", false),
         ("S", "sine coefficient S_lm of the window", true),
     ] {
-        let mut data = vec![0.0; k * l1 * l1];
-        for (t, taper) in set.tapers.iter().enumerate() {
-            let packed = if sine {
-                taper.coeffs.s_packed()
-            } else {
-                taper.coeffs.c_packed()
-            };
-            for l in 0..l1 {
-                for m in 0..=l {
-                    data[(t * l1 + l) * l1 + m] = packed[packed_index(l, m)];
-                }
-            }
-        }
+        let data = taper_coefficient_cube(set, sine);
         let v = b
             .add_variable::<f64>(name, &[d_tap, d_deg, d_ord])
             .map_err(we)?;

@@ -19,7 +19,7 @@
 
 use faer::{Mat, Side};
 
-use crate::coeffs::{packed_len, Coefficients, Normalization};
+use crate::coeffs::{Coefficients, Normalization};
 use crate::error::{Error, Result};
 use crate::sht::gauss_legendre::nodes_and_weights;
 use crate::sht::legendre::column::column;
@@ -54,9 +54,17 @@ pub fn check_cap_radius(cap_radius_deg: f64) -> Result<()> {
 }
 
 /// Bytes the full set of cap windows of bandwidth `lmax_window` needs.
+/// Saturating, so that any bandwidth a user types ends in a refusal with the estimate rather
+/// than an overflow.
 pub fn taper_set_bytes(lmax_window: usize) -> u64 {
-    let count = ((lmax_window + 1) * (lmax_window + 1)) as u64;
-    count * 2 * packed_len(lmax_window) as u64 * 8
+    let l1 = (lmax_window as u64).saturating_add(1);
+    crate::memory::saturating_product(&[
+        l1,
+        l1,
+        2,
+        crate::memory::coefficient_pairs(lmax_window),
+        8,
+    ])
 }
 
 /// The Gram matrix D of order m (module notes), (L_W − m + 1)², row-major.
@@ -96,7 +104,7 @@ pub fn cap_tapers_at_pole(lmax_window: usize, cap_radius_deg: f64) -> Result<Vec
     crate::memory::check_fits(
         &format!(
             "the {} windows of bandwidth {lmax_window}",
-            (lmax_window + 1).pow(2)
+            ((lmax_window as f64) + 1.0).powi(2)
         ),
         taper_set_bytes(lmax_window),
     )?;

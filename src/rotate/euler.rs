@@ -11,6 +11,9 @@
 
 use crate::error::{Error, Result};
 
+/// The attribute of a rotated model that records its rotation ([`EulerAngles::degrees_text`]).
+pub const ROTATION_ATTRIBUTE: &str = "rotation_euler_zyz_deg";
+
 /// Euler angles (radians) of an active z-y-z rotation (module notes).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct EulerAngles {
@@ -57,6 +60,17 @@ impl EulerAngles {
             beta_rad: -(90.0 - lat_deg).to_radians(),
             gamma_rad: -lon_deg.to_radians(),
         })
+    }
+
+    /// The angles in degrees as "α,β,γ", as a rotated model records them in its
+    /// [`ROTATION_ATTRIBUTE`].
+    pub fn degrees_text(&self) -> String {
+        format!(
+            "{},{},{}",
+            self.alpha_rad.to_degrees(),
+            self.beta_rad.to_degrees(),
+            self.gamma_rad.to_degrees()
+        )
     }
 
     /// The inverse rotation R(−γ, −β, −α).

@@ -5,7 +5,7 @@ use std::path::{Path, PathBuf};
 
 use kugel::error::Error;
 use kugel::progress::Progress;
-use kugel::regional::{RegionSpec, TaperChoice, TaperSet, DEFAULT_MIN_CONCENTRATION};
+use kugel::regional::{estimate_windows, RegionSpec, TaperChoice, TaperSet};
 
 #[derive(Debug, Clone, clap::Args)]
 pub struct RegionArgs {
@@ -47,17 +47,7 @@ impl RegionArgs {
         let lw = self.window_lmax.ok_or_else(|| {
             Error::invalid("--region needs --window-lmax LW (the windows' bandwidth)")
         })?;
-        if lw >= model_lmax {
-            return Err(Error::invalid(format!(
-                "--window-lmax {lw} must be below the model's degree {model_lmax} (LW < L)"
-            )));
-        }
-        let choice = match self.tapers {
-            Some(k) => TaperChoice::Count(k),
-            None => TaperChoice::MinConcentration(DEFAULT_MIN_CONCENTRATION),
-        };
-        // only the windows that will be used are rotated to the region
-        let set = region.taper_set(lw, Some(choice), progress)?;
+        let (set, choice) = estimate_windows(&region, lw, self.tapers, model_lmax, progress)?;
         Ok(Some((set, choice)))
     }
 }

@@ -10,7 +10,7 @@ use kugel::error::Error;
 use kugel::io::atomic::refuse_overwrite_of_input;
 use kugel::io::model::{read_model, write_model};
 use kugel::io::provenance::Provenance;
-use kugel::rotate::{rotate_with_progress, EulerAngles};
+use kugel::rotate::{rotate_with_progress, EulerAngles, ROTATION_ATTRIBUTE};
 
 #[derive(Debug, clap::Args)]
 #[command(
@@ -78,15 +78,9 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     let result = rotate_with_progress(&model, &angles, &progress);
     progress.finish();
     let mut rotated = result?;
-    rotated.attributes.insert(
-        "rotation_euler_zyz_deg".into(),
-        format!(
-            "{},{},{}",
-            angles.alpha_rad.to_degrees(),
-            angles.beta_rad.to_degrees(),
-            angles.gamma_rad.to_degrees()
-        ),
-    );
+    rotated
+        .attributes
+        .insert(ROTATION_ATTRIBUTE.into(), angles.degrees_text());
     let mut provenance = Provenance::from_command_line(ctx.command_line.clone());
     provenance.add_input(&args.model)?;
     provenance.lmax = Some(rotated.lmax());

@@ -12,7 +12,7 @@ use crate::tables::{display_name, TableOutputs};
 use kugel::error::Error;
 use kugel::io::model::read_model;
 use kugel::io::provenance::Provenance;
-use kugel::regional::{expected_localised_spectrum, localised_spectrum};
+use kugel::regional::localised_spectrum_with_expected;
 use kugel::report::plots::regional::localised_spectrum_svg;
 use kugel::report::plots::spectrum_svg;
 use kugel::spectral::{Spectrum, SpectrumOptions};
@@ -127,9 +127,7 @@ fn run_localised(
             .region
             .taper_set(model.lmax(), &progress)?
             .expect("region given");
-        let local = localised_spectrum(model, &set, choice, &progress)?;
-        let global = kugel::spectral::degree_variance(model);
-        let expected = expected_localised_spectrum(&global, &local.window_power, local.lmax)?;
+        let (local, expected) = localised_spectrum_with_expected(model, &set, choice, &progress)?;
         Ok((set, local, expected))
     })();
     progress.finish();

@@ -61,14 +61,8 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
                 }
                 None => (90.0, 0.0),
             };
-            // validate the numbers the same way `--region cap:…` is validated
-            RegionSpec::Cap {
-                lat_deg: lat,
-                lon_deg: lon,
-                radius_deg,
-            }
-            .to_string()
-            .parse()?
+            // the numbers are checked the same way `--region cap:…` is
+            RegionSpec::cap(lat, lon, radius_deg)?
         }
         (None, None) => {
             return Err(Error::invalid(

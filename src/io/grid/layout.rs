@@ -4,7 +4,7 @@
 
 use std::f64::consts::PI;
 
-use ndarray::Array2;
+use ndarray::{s, Array2, ArrayView2};
 
 use crate::error::{Error, Result};
 use crate::sht::equiangular::{self, EquiangularLayout};
@@ -269,22 +269,45 @@ pub fn engine_grid(lat: &LatitudeAxis, lon: &LongitudeAxis) -> Grid {
 }
 
 /// The engine-order field (rows north→south, columns eastwards from `lon.lon0_rad`) of a
-/// user's values, `at(i, k)` being the value at file latitude row `i` and longitude column `k`.
+/// user's values, `values[[i, k]]` being the value at file latitude row `i` and longitude
+/// column `k` (any strides: a transposed view serves a file stored longitude first).
 ///
 /// This is the one reordering copy of a user's grid: the file reader and the Python bindings
-/// both build their engine field with it.
+/// both build their engine field with it. Columns that keep the file's order (all of them
+/// when its longitudes ascend) are copied as slices rather than element by element, so the
+/// copy runs at memory speed.
 pub fn engine_order_field(
     lat: &LatitudeAxis,
     lon: &LongitudeAxis,
-    at: impl Fn(usize, usize) -> f64,
+    values: ArrayView2<'_, f64>,
 ) -> Array2<f64> {
+    let runs = column_runs(&lon.order);
     let mut field = Array2::zeros((lat.order.len(), lon.order.len()));
     for (r, &i) in lat.order.iter().enumerate() {
-        for (c, &k) in lon.order.iter().enumerate() {
-            field[[r, c]] = at(i, k);
+        let source = values.row(i);
+        let mut row = field.row_mut(r);
+        for &(column, file_column, len) in &runs {
+            row.slice_mut(s![column..column + len])
+                .assign(&source.slice(s![file_column..file_column + len]));
         }
     }
     field
+}
+
+/// Maximal runs of engine columns whose file columns are consecutive, as (first engine
+/// column, first file column, length).
+fn column_runs(order: &[usize]) -> Vec<(usize, usize, usize)> {
+    let mut runs = Vec::new();
+    let mut c = 0;
+    while c < order.len() {
+        let start = c;
+        while c + 1 < order.len() && order[c + 1] == order[c] + 1 {
+            c += 1;
+        }
+        c += 1;
+        runs.push((start, order[start], c - start));
+    }
+    runs
 }
 
 /// The first infinite value of an engine-order field as (file latitude row, file longitude
@@ -303,6 +326,35 @@ pub fn first_infinite(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn engine_order_copies_runs_of_columns_in_order() {
+        // a 3 x 4 file stored south to north: engine rows run north to south; ascending
+        // longitudes (from 180° here) keep the file's columns in one run, descending ones are
+        // reversed column by column
+        let lat = latitude_axis(&[-60.0, 0.0, 60.0], "lat", false).unwrap();
+        assert_eq!(lat.order, vec![2, 1, 0]);
+        let values = Array2::from_shape_fn((3, 4), |(i, k)| (10 * i + k) as f64);
+        for (lon_deg, runs) in [
+            ([180.0, 270.0, 0.0, 90.0], vec![(0, 0, 4)]),
+            (
+                [90.0, 0.0, 270.0, 180.0],
+                vec![(0, 3, 1), (1, 2, 1), (2, 1, 1), (3, 0, 1)],
+            ),
+        ] {
+            let lon = longitude_axis(&lon_deg, "lon").unwrap();
+            assert_eq!(column_runs(&lon.order), runs);
+            let field = engine_order_field(&lat, &lon, values.view());
+            for (r, &i) in lat.order.iter().enumerate() {
+                for (c, &k) in lon.order.iter().enumerate() {
+                    assert_eq!(field[[r, c]], values[[i, k]]);
+                }
+            }
+            // the same values stored longitude first give the same field
+            let transposed = values.t().to_owned();
+            assert_eq!(engine_order_field(&lat, &lon, transposed.t()), field);
+        }
+    }
 
     #[test]
     fn latitude_layouts() {

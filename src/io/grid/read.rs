@@ -10,7 +10,7 @@
 
 use std::path::{Path, PathBuf};
 
-use ndarray::Array2;
+use ndarray::{Array2, ArrayView2};
 use netcdf_reader::{NcFile, NcSliceInfo, NcSliceInfoElem, NcVariable};
 
 use super::layout::{
@@ -391,17 +391,19 @@ pub fn read_grid(path: &Path, options: &GridReadOptions) -> Result<UserGrid> {
             ),
         ));
     }
-    // position of (i_lat, i_lon) in the row-major slice with the other dims of length 1
+    // the row-major values with the other dims of length 1, indexed [lat row, lon column]
     let lat_first = lat_pos < lon_pos;
-    let at = |i: usize, k: usize| {
-        if lat_first {
-            values[i * nlon_file + k]
-        } else {
-            values[k * nlat_file + i]
-        }
+    let shape_error =
+        |e: ndarray::ShapeError| Error::format(path, format!("variable '{name}': {e}"));
+    let view = if lat_first {
+        ArrayView2::from_shape((nlat_file, nlon_file), &values).map_err(shape_error)?
+    } else {
+        ArrayView2::from_shape((nlon_file, nlat_file), &values)
+            .map_err(shape_error)?
+            .reversed_axes()
     };
     let grid = engine_grid(&lat_axis, &lon_axis);
-    let field = engine_order_field(&lat_axis, &lon_axis, at);
+    let field = engine_order_field(&lat_axis, &lon_axis, view);
     if let Some((i, k)) = first_infinite(&field, &lat_axis, &lon_axis) {
         return Err(Error::format(
             path,
@@ -418,7 +420,7 @@ pub fn read_grid(path: &Path, options: &GridReadOptions) -> Result<UserGrid> {
         let worst = lat_axis
             .order
             .iter()
-            .map(|&i| (at(i, first) - at(i, last)).abs())
+            .map(|&i| (view[[i, first]] - view[[i, last]]).abs())
             .filter(|d| !d.is_nan())
             .fold(0.0, f64::max);
         let scale = field
