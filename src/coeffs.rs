@@ -340,14 +340,17 @@ impl Coefficients {
         out.secular = None;
         out.add_scaled(&sv.rates, dt)?;
         if let (Some((cs, ss)), Some((rcs, rss))) = (self.sigmas(), sv.rates.sigmas()) {
-            let combine =
-                |a: &[f64], b: &[f64]| -> Vec<f64> { a.iter().zip(b).map(|(x, y)| x.hypot(dt * y)).collect() };
+            let combine = |a: &[f64], b: &[f64]| -> Vec<f64> {
+                a.iter().zip(b).map(|(x, y)| x.hypot(dt * y)).collect()
+            };
             out.set_sigmas(combine(cs, rcs), combine(ss, rss))?;
         }
         out.attributes
             .insert("evaluated_at_year".into(), format!("{year}"));
-        out.attributes
-            .insert("secular_variation_epoch_year".into(), format!("{}", sv.epoch_year));
+        out.attributes.insert(
+            "secular_variation_epoch_year".into(),
+            format!("{}", sv.epoch_year),
+        );
         Ok(out)
     }
 

@@ -173,14 +173,16 @@ pub fn estimate(
                     rayon::current_num_threads(),
                 )?;
                 (
-                    format!(
-                        "{} solver for {unknowns} unknowns ({})",
-                        match plan.kind {
-                            SolverKind::Direct => "the direct",
-                            SolverKind::Iterative => "the matrix-free",
-                        },
-                        regularization.describe()
-                    ),
+                    match plan.kind {
+                        SolverKind::Direct => format!(
+                            "normal matrices of {unknowns} unknowns ({}; direct solver)",
+                            regularization.describe()
+                        ),
+                        SolverKind::Iterative => format!(
+                            "matrix-free solver for {unknowns} unknowns ({}; conjugate gradients)",
+                            regularization.describe()
+                        ),
+                    },
                     plan.bytes(),
                 )
             }

@@ -333,7 +333,11 @@ fn model_missing_attribute_or_variable_is_named() {
 fn secular_model(lmax: usize) -> Coefficients {
     let mut c = sample_model(lmax);
     let n = c.len();
-    let sig = |k: f64| (0..n).map(|i| k * (1.0 + i as f64).sqrt()).collect::<Vec<f64>>();
+    let sig = |k: f64| {
+        (0..n)
+            .map(|i| k * (1.0 + i as f64).sqrt())
+            .collect::<Vec<f64>>()
+    };
     c.set_sigmas(sig(1e-6), sig(2e-6)).unwrap();
     let mut rates = Coefficients::zeros(lmax, Normalization::Schmidt);
     for l in 1..=lmax {
@@ -355,7 +359,10 @@ fn secular_variation_round_trips_through_netcdf_and_text_bit_for_bit() {
         let path = dir.path().join(name);
         write_model(&path, &model, &Provenance::default()).unwrap();
         let back = read_model(&path).unwrap();
-        let (sv, original) = (back.secular().expect("rates read"), model.secular().unwrap());
+        let (sv, original) = (
+            back.secular().expect("rates read"),
+            model.secular().unwrap(),
+        );
         assert_eq!(sv.epoch_year, 2031.25, "{name}");
         assert_eq!(back.c_packed(), model.c_packed(), "{name}");
         assert_eq!(back.sigmas(), model.sigmas(), "{name}");

@@ -15,8 +15,8 @@ use kugel::observe::fit::functional::{ModelSpace, RowBuilder};
 use kugel::observe::fit::iterative::CG_TOLERANCE;
 use kugel::observe::fit::parameters::ParameterLayout;
 use kugel::observe::fit::{
-    fit_observations, FitResult, FitSetup, Observation, ObservationSet, Regularization,
-    SolverKind, SolverRequest,
+    fit_observations, FitResult, FitSetup, Observation, ObservationSet, Regularization, SolverKind,
+    SolverRequest,
 };
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -31,7 +31,11 @@ fn site(rng: &mut ChaCha8Rng, altitude_m: f64) -> GeocentricPoint {
     GeocentricPoint::from_degrees(z.asin().to_degrees(), lon, R + altitude_m)
 }
 
-fn observation(position: GeocentricPoint, quantity: Quantity, time_year: Option<f64>) -> Observation {
+fn observation(
+    position: GeocentricPoint,
+    quantity: Quantity,
+    time_year: Option<f64>,
+) -> Observation {
     Observation {
         position,
         quantity,
@@ -136,7 +140,11 @@ fn iterative_and_direct_agree_on_orbital_gravity_with_a_kaula_prior() {
     let noise = Normal::new(0.0, 0.05).unwrap();
     for _ in 0..3000 {
         let altitude_m = rng.gen_range(0.0..500e3);
-        let o = observation(site(&mut rng, altitude_m), Quantity::GravityDisturbance, None);
+        let o = observation(
+            site(&mut rng, altitude_m),
+            Quantity::GravityDisturbance,
+            None,
+        );
         let value = builder.predict(&o, &x, &mut sc).unwrap() + noise.sample(&mut rng);
         set.observations.push(Observation {
             value,
@@ -163,11 +171,12 @@ fn iterative_and_direct_agree_on_orbital_gravity_with_a_kaula_prior() {
         .map(|(d, i)| i / d)
         .collect();
     let worst = ratios.iter().fold(0.0f64, |a, r| a.max((r - 1.0).abs()));
-    assert!(worst < 0.25, "approximate σ off by up to {:.1}%", 100.0 * worst);
-    assert!(iterative
-        .warnings
-        .iter()
-        .any(|w| w.contains("approximate")));
+    assert!(
+        worst < 0.25,
+        "approximate σ off by up to {:.1}%",
+        100.0 * worst
+    );
+    assert!(iterative.warnings.iter().any(|w| w.contains("approximate")));
 }
 
 #[test]
@@ -227,7 +236,10 @@ fn the_iterative_solver_refuses_gcv() {
         ..FitSetup::generic(2, R, Regularization::Gcv)
     };
     let err = fit_observations(&set, &setup).unwrap_err().to_string();
-    assert!(err.contains("GCV") && err.contains("--solver direct"), "{err}");
+    assert!(
+        err.contains("GCV") && err.contains("--solver direct"),
+        "{err}"
+    );
 }
 
 #[test]
@@ -255,7 +267,8 @@ fn the_scalar_normal_kernel_matches_the_pass_over_full_rows() {
     for k in 0..700 {
         let altitude_m = rng.gen_range(0.0..500e3);
         let p = site(&mut rng, altitude_m);
-        set.observations.push(observation(p, quantities[k % 5], None));
+        set.observations
+            .push(observation(p, quantities[k % 5], None));
     }
     // one observation at each pole
     for lat in [90.0, -90.0] {
@@ -266,7 +279,13 @@ fn the_scalar_normal_kernel_matches_the_pass_over_full_rows() {
         ));
     }
     let weights: Vec<f64> = (0..set.len())
-        .map(|i| if i % 17 == 0 { 0.0 } else { 0.5 + (i % 5) as f64 })
+        .map(|i| {
+            if i % 17 == 0 {
+                0.0
+            } else {
+                0.5 + (i % 5) as f64
+            }
+        })
         .collect();
     let source = RowSource {
         unknowns: layout.free_len(),

@@ -96,6 +96,7 @@ fn each_kind_accepts_exactly_its_documented_keys() {
                 "robust",
                 "lmax",
                 "regularization",
+                "solver",
             ],
         ),
         (StepKind::Analyze, &["input", "lmax"]),

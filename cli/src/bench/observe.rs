@@ -236,10 +236,7 @@ pub fn run_fit_bench(args: &ObserveBenchArgs) -> anyhow::Result<()> {
                 ));
             }
             SolverKind::Iterative => {
-                extra.push((
-                    "cg_iterations",
-                    solver.iterations.unwrap_or(0).to_string(),
-                ));
+                extra.push(("cg_iterations", solver.iterations.unwrap_or(0).to_string()));
                 extra.push((
                     "cg_relative_residual",
                     format!("{:.2e}", solver.relative_residual.unwrap_or(f64::NAN)),

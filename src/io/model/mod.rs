@@ -55,7 +55,12 @@ pub fn validate_model(coeffs: &Coefficients, path: &Path) -> Result<()> {
             )));
         }
     }
-    check_values(coeffs, ["C", "S", "C_sigma", "S_sigma"], "coefficient ", path)?;
+    check_values(
+        coeffs,
+        ["C", "S", "C_sigma", "S_sigma"],
+        "coefficient ",
+        path,
+    )?;
     if let Some(sv) = coeffs.secular() {
         if !sv.epoch_year.is_finite() {
             return Err(fmt(format!(

@@ -72,8 +72,18 @@ pub fn write_model_netcdf(
 
     let rate_units = crate::coeffs::rate_units(&coeffs.units);
     let mut arrays: Vec<(&str, &str, &[f64], &str)> = vec![
-        ("C", "cosine coefficient C_lm", coeffs.c_packed(), &coeffs.units),
-        ("S", "sine coefficient S_lm", coeffs.s_packed(), &coeffs.units),
+        (
+            "C",
+            "cosine coefficient C_lm",
+            coeffs.c_packed(),
+            &coeffs.units,
+        ),
+        (
+            "S",
+            "sine coefficient S_lm",
+            coeffs.s_packed(),
+            &coeffs.units,
+        ),
     ];
     if let Some((cs, ss)) = coeffs.sigmas() {
         arrays.push(("C_sigma", "standard error of C_lm", cs, &coeffs.units));
@@ -140,7 +150,11 @@ pub fn write_model_netcdf(
     )?;
     put(&mut b, "units", nc::chars(&coeffs.units))?;
     if let Some(sv) = coeffs.secular() {
-        put(&mut b, "epoch_year", NcAttrValue::Doubles(vec![sv.epoch_year]))?;
+        put(
+            &mut b,
+            "epoch_year",
+            NcAttrValue::Doubles(vec![sv.epoch_year]),
+        )?;
     }
     let provenance_names: Vec<String> = provenance
         .to_attributes()
@@ -231,7 +245,15 @@ pub fn read_model_netcdf(path: &Path) -> Result<Coefficients> {
         }
     }
     let mut arrays = vec![c_sq];
-    for name in ["S", "C_sigma", "S_sigma", "dC_dt", "dS_dt", "dC_dt_sigma", "dS_dt_sigma"] {
+    for name in [
+        "S",
+        "C_sigma",
+        "S_sigma",
+        "dC_dt",
+        "dS_dt",
+        "dC_dt_sigma",
+        "dS_dt_sigma",
+    ] {
         match read_square(&file, path, name, name == "S")? {
             Some((sq, n, t)) => {
                 if n != l1 || t != transposed {
@@ -255,14 +277,14 @@ pub fn read_model_netcdf(path: &Path) -> Result<Coefficients> {
         ("dS_dt_sigma", 7),
     ]
     .iter()
-        .map(|&(name, k)| {
-            if arrays[k].is_empty() {
-                Ok(Vec::new())
-            } else {
-                packed_from_square(&arrays[k], l1, transposed, path, name)
-            }
-        })
-        .collect::<Result<_>>()?;
+    .map(|&(name, k)| {
+        if arrays[k].is_empty() {
+            Ok(Vec::new())
+        } else {
+            packed_from_square(&arrays[k], l1, transposed, path, name)
+        }
+    })
+    .collect::<Result<_>>()?;
     for (name, k) in [("S", 1), ("dS_dt", 5)] {
         if packed[k].is_empty() {
             continue;
@@ -308,21 +330,20 @@ pub fn read_model_netcdf(path: &Path) -> Result<Coefficients> {
             match (packed[6].is_empty(), packed[7].is_empty()) {
                 (false, false) => rates.set_sigmas(packed[6].clone(), packed[7].clone())?,
                 (true, true) => {}
-                _ => {
-                    return Err(fmt(
-                        "only one of 'dC_dt_sigma' and 'dS_dt_sigma' is present; give both or neither"
-                            .into(),
-                    ))
-                }
+                _ => return Err(fmt(
+                    "only one of 'dC_dt_sigma' and 'dS_dt_sigma' is present; give both or neither"
+                        .into(),
+                )),
             }
-            coeffs.set_secular(epoch, rates).map_err(|e| fmt(e.to_string()))?;
+            coeffs
+                .set_secular(epoch, rates)
+                .map_err(|e| fmt(e.to_string()))?;
             coeffs.attributes.remove("epoch_year");
         }
-        _ => {
-            return Err(fmt(
-                "only one of 'dC_dt' and 'dS_dt' is present; a model with secular variation needs both".into(),
-            ))
-        }
+        _ => return Err(fmt(
+            "only one of 'dC_dt' and 'dS_dt' is present; a model with secular variation needs both"
+                .into(),
+        )),
     }
     if packed[4].is_empty() && !(packed[6].is_empty() && packed[7].is_empty()) {
         return Err(fmt(

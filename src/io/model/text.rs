@@ -105,7 +105,14 @@ fn parse_data_line(path: &Path, line: usize, body: &str) -> Result<Row> {
     }
     let names = if tokens.len() == 10 {
         [
-            "C", "S", "sigma C", "sigma S", "dC_dt", "dS_dt", "sigma dC_dt", "sigma dS_dt",
+            "C",
+            "S",
+            "sigma C",
+            "sigma S",
+            "dC_dt",
+            "dS_dt",
+            "sigma dC_dt",
+            "sigma dS_dt",
         ]
     } else {
         ["C", "S", "column 5", "column 6", "", "", "", ""]

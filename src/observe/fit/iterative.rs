@@ -172,13 +172,7 @@ impl OrderPreconditioner {
         for first in (0..sampled).step_by(SAMPLE_BLOCK) {
             let nb = SAMPLE_BLOCK.min(sampled - first);
             let cols = &mut cols[..u * nb];
-            fill_weighted_columns(
-                u,
-                cols,
-                |k| (first + k) * stride,
-                &source.init,
-                &source.row,
-            )?;
+            fill_weighted_columns(u, cols, |k| (first + k) * stride, &source.init, &source.row)?;
             let cols = &*cols;
             blocks
                 .par_iter_mut()

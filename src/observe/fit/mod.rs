@@ -50,11 +50,11 @@ pub mod solver_choice;
 
 use self::functional::{ModelSpace, RowBuilder, RowScratch};
 use self::gcv::GcvSpectrum;
+use self::iterative::{solve_iterative, RowSource, CG_TOLERANCE};
 use self::normal::assemble_rows;
 pub use self::observation::{DataSet, Observation, ObservationSet};
 use self::parameters::ParameterLayout;
 pub use self::robust::Robust;
-use self::iterative::{solve_iterative, RowSource, CG_TOLERANCE};
 use self::scalar_normal::ScalarNormalOperator;
 use self::solve::{solve, Solution};
 pub use self::solver_choice::{plan_solver, SolverKind, SolverPlan, SolverRequest};

@@ -81,16 +81,12 @@ impl ScalarNormalOperator<'_> {
             .legendre_table()
             .fill_order_major(t, u, columns);
         let k = self.builder.scalar_degree_factors(o)?;
-        let trig: Vec<(f64, f64)> = (0..=lmax)
-            .map(|m| (m as f64 * lambda).sin_cos())
-            .collect();
+        let trig: Vec<(f64, f64)> = (0..=lmax).map(|m| (m as f64 * lambda).sin_cos()).collect();
         // k_l P̄_lm, and the synthesis a_iᵀ p
         let mut value = 0.0;
         for (m, &(sm, cm)) in trig.iter().enumerate() {
             let run = &mut columns[order_major_start(lmax, m)..order_major_start(lmax, m + 1)];
-            run.iter_mut()
-                .zip(&k[m..])
-                .for_each(|(v, kl)| *v *= kl);
+            run.iter_mut().zip(&k[m..]).for_each(|(v, kl)| *v *= kl);
             let c0 = internal.c_index(m, m);
             let fc = dot(run, &p[c0..c0 + run.len()]);
             value += cm * fc;
