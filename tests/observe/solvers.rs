@@ -22,40 +22,18 @@ use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, Normal};
 
-const R: f64 = 2.1e6;
-const GM: f64 = 1.1e13;
+use crate::fitting::{obs, site, truth, GM, R};
 
-fn site(rng: &mut ChaCha8Rng, altitude_m: f64) -> GeocentricPoint {
-    let z: f64 = rng.gen_range(-1.0..1.0);
-    let lon: f64 = rng.gen_range(-180.0..180.0);
-    GeocentricPoint::from_degrees(z.asin().to_degrees(), lon, R + altitude_m)
-}
-
+/// An observation of the first data set at a position, with a time when given.
 fn observation(
     position: GeocentricPoint,
     quantity: Quantity,
     time_year: Option<f64>,
 ) -> Observation {
     Observation {
-        position,
-        quantity,
-        value: 0.0,
-        sigma: None,
         time_year,
-        dataset: 0,
-        source_line: 0,
+        ..obs(position, quantity, 0)
     }
-}
-
-/// Random full unknown vector with RMS `rms(l)` for the free unknowns.
-fn truth(layout: &ParameterLayout, rms: impl Fn(usize) -> f64, seed: u64) -> Vec<f64> {
-    let mut rng = ChaCha8Rng::seed_from_u64(seed);
-    let free: Vec<f64> = layout
-        .free_kinds()
-        .iter()
-        .map(|&(_, l)| Normal::new(0.0, rms(l)).unwrap().sample(&mut rng))
-        .collect();
-    layout.expand(&free)
 }
 
 /// Every coefficient (and σ) of two models, packed C then S.
