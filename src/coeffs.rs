@@ -125,6 +125,21 @@ pub struct Coefficients {
     pub units: String,
     /// Free-form metadata carried through files (title, provenance, quantity, ...).
     pub attributes: BTreeMap<String, String>,
+    /// Linear rates of change about an epoch, when the model has them.
+    secular: Option<Box<SecularVariation>>,
+}
+
+/// Linear secular variation of a model about an epoch t₀:
+/// C_lm(t) = C_lm + (t − t₀)·dC_lm/dt, S_lm(t) = S_lm + (t − t₀)·dS_lm/dt, t in decimal years —
+/// the form main-field models use between their snapshot epochs (e.g. the IGRF, Alken et al.
+/// 2021, Earth Planets Space 73:49, §2).
+#[derive(Debug, Clone, PartialEq)]
+pub struct SecularVariation {
+    /// Epoch t₀, decimal year.
+    pub epoch_year: f64,
+    /// dC/dt and dS/dt per year, with their σ when known: same degree, normalisation and phase
+    /// as the model; units the model's per year.
+    pub rates: Coefficients,
 }
 
 impl Coefficients {
@@ -144,6 +159,7 @@ impl Coefficients {
             gm_m3_s2: None,
             units: "1".to_string(),
             attributes: BTreeMap::new(),
+            secular: None,
         }
     }
 
@@ -270,6 +286,74 @@ impl Coefficients {
         self
     }
 
+    /// The model's linear secular variation, when it has one.
+    pub fn secular(&self) -> Option<&SecularVariation> {
+        self.secular.as_deref()
+    }
+
+    /// Attaches rates of change per year about `epoch_year` (decimal year). The rates must have
+    /// the model's degree, normalisation and phase, and no rates of their own.
+    pub fn set_secular(&mut self, epoch_year: f64, mut rates: Coefficients) -> Result<()> {
+        if !epoch_year.is_finite() {
+            return Err(Error::invalid(format!(
+                "epoch {epoch_year} is not a finite decimal year"
+            )));
+        }
+        if rates.lmax != self.lmax
+            || rates.normalization != self.normalization
+            || rates.condon_shortley != self.condon_shortley
+        {
+            return Err(Error::ShapeMismatch(format!(
+                "rates of degree {} ({}) do not match a degree-{} {} model",
+                rates.lmax, rates.normalization, self.lmax, self.normalization
+            )));
+        }
+        rates.secular = None;
+        rates.reference_radius_m = self.reference_radius_m;
+        rates.gm_m3_s2 = self.gm_m3_s2;
+        rates.units = rate_units(&self.units);
+        self.secular = Some(Box::new(SecularVariation { epoch_year, rates }));
+        Ok(())
+    }
+
+    /// Removes the secular variation (the model then stands for its epoch).
+    pub fn clear_secular(&mut self) {
+        self.secular = None;
+    }
+
+    /// The model at time `year` (decimal year): C + (t − t₀)·dC/dt, S likewise, without
+    /// rates. σ combine as sqrt(σ_C² + (t − t₀)² σ_dC²), treating C and dC/dt as uncorrelated
+    /// (the files carry no covariances). Refused for a model without rates.
+    pub fn at_time(&self, year: f64) -> Result<Coefficients> {
+        let sv = self.secular().ok_or_else(|| {
+            Error::invalid(
+                "the model has no secular variation (no dC_dt, dS_dt): a time applies only to a model with rates",
+            )
+        })?;
+        if !year.is_finite() {
+            return Err(Error::invalid(format!(
+                "time {year} is not a finite decimal year"
+            )));
+        }
+        let dt = year - sv.epoch_year;
+        let mut out = self.clone();
+        out.secular = None;
+        out.add_scaled(&sv.rates, dt)?;
+        if let (Some((cs, ss)), Some((rcs, rss))) = (self.sigmas(), sv.rates.sigmas()) {
+            let combine = |a: &[f64], b: &[f64]| -> Vec<f64> {
+                a.iter().zip(b).map(|(x, y)| x.hypot(dt * y)).collect()
+            };
+            out.set_sigmas(combine(cs, rcs), combine(ss, rss))?;
+        }
+        out.attributes
+            .insert("evaluated_at_year".into(), format!("{year}"));
+        out.attributes.insert(
+            "secular_variation_epoch_year".into(),
+            format!("{}", sv.epoch_year),
+        );
+        Ok(out)
+    }
+
     /// Checks that every coefficient is finite; the error names the first bad (l, m).
     pub fn check_finite(&self) -> Result<()> {
         for l in 0..=self.lmax {
@@ -287,7 +371,10 @@ impl Coefficients {
                 }
             }
         }
-        Ok(())
+        match &self.secular {
+            Some(sv) => sv.rates.check_finite(),
+            None => Ok(()),
+        }
     }
 
     /// The set truncated or zero-padded to `lmax`.
@@ -300,13 +387,25 @@ impl Coefficients {
         out.s = resize_packed(&self.s, keep, n);
         out.c_sigma = self.c_sigma.as_ref().map(|v| resize_packed(v, keep, n));
         out.s_sigma = self.s_sigma.as_ref().map(|v| resize_packed(v, keep, n));
+        if let Some(sv) = &mut out.secular {
+            sv.rates = sv.rates.resized(lmax);
+        }
         out
     }
 
     /// Multiplies every coefficient of degree l (and its sigma) by `weight(l)`.
+    /// The rates of change, when present, are scaled alike.
     pub fn scale_by_degree(&mut self, mut weight: impl FnMut(usize) -> f64) {
-        for l in 0..=self.lmax {
-            let w = weight(l);
+        let weights: Vec<f64> = (0..=self.lmax).map(&mut weight).collect();
+        self.scale_by_weights(&weights);
+    }
+
+    /// [`Coefficients::scale_by_degree`] with the weights of degrees 0..=L given.
+    fn scale_by_weights(&mut self, weights: &[f64]) {
+        if let Some(sv) = &mut self.secular {
+            sv.rates.scale_by_weights(weights);
+        }
+        for (l, &w) in weights.iter().enumerate() {
             let range = packed_index(l, 0)..=packed_index(l, l);
             for v in &mut self.c[range.clone()] {
                 *v *= w;
@@ -360,6 +459,13 @@ impl Coefficients {
                 }
             }
         }
+        if let Some(sv) = &self.secular {
+            let rates = sv.rates.converted(to, condon_shortley)?;
+            out.secular = Some(Box::new(SecularVariation {
+                epoch_year: sv.epoch_year,
+                rates,
+            }));
+        }
         out.check_finite().map_err(|e| {
             Error::invalid(format!(
                 "conversion from {from} to {to} is not representable in double precision: {e}"
@@ -404,6 +510,16 @@ impl Coefficients {
                 (l, m, self.c[i], self.s[i])
             })
         })
+    }
+}
+
+/// Units of a rate of change of coefficients in `units`: `units/year` (`1/year` for
+/// dimensionless ones).
+pub fn rate_units(units: &str) -> String {
+    if units.trim().is_empty() {
+        "1/year".into()
+    } else {
+        format!("{}/year", units.trim())
     }
 }
 

@@ -4,7 +4,10 @@
 //! so the plan and the step cannot disagree:
 //! - grid: `observe::gridding::gridding_memory_bytes` (node layers, points) plus the analysis
 //!   of the gridded field, `sht::plan::analysis_memory_bytes`;
-//! - fit: `observe::fit::unknowns_memory_bytes` (three u-square matrices, five with GCV; u = (L+1)², doubled with secular variation, plus the external terms);
+//! - fit: the bytes of the solver `observe::fit::plan_solver` picks, as the step does: the
+//!   direct one's `unknowns_memory_bytes` (three u-square matrices, five with GCV; u = (L+1)²,
+//!   doubled with secular variation, plus the external terms) or the matrix-free one's
+//!   `iterative_memory_bytes`;
 //! - analyze: `sht::plan::plan_memory_bytes` and `analysis_memory_bytes` on the smallest grid
 //!   that resolves the degree (the input grid's own size is checked when it is read);
 //! - synthesize: `field::synthesis::synthesis_memory_bytes` on the Gauss grid the step maps.
@@ -20,7 +23,7 @@ use super::config::{Config, Input, Step};
 use crate::error::{Error, Result};
 use crate::field::quantity::Quantity;
 use crate::field::synthesis::{longitude_densified, synthesis_memory_bytes};
-use crate::observe::fit::{unknowns_memory_bytes, Regularization};
+use crate::observe::fit::{plan_solver, Regularization, SolverKind, SolverRequest};
 use crate::observe::gridding::gridding_memory_bytes;
 use crate::sht::plan::{analysis_memory_bytes, plan_memory_bytes};
 use crate::sht::GaussGrid;
@@ -192,16 +195,37 @@ pub fn estimate(
             }
             Step::Fit(s) => {
                 let regularization = Regularization::parse(s.regularization_spec())?;
+                let request = SolverRequest::parse(s.solver_spec())?;
                 // rates double the internal unknowns; external terms add (Le+1)²
                 let internal = (s.lmax + 1) * (s.lmax + 1);
                 let unknowns = internal * if s.epoch.is_some() { 2 } else { 1 }
                     + s.external_lmax.map_or(0, |l| (l + 1) * (l + 1));
+                let observations: u64 = s
+                    .input_names()
+                    .iter()
+                    .map(|n| point_counts.get(*n).copied().unwrap_or(0))
+                    .sum();
+                let plan = plan_solver(
+                    request,
+                    observations as usize,
+                    unknowns,
+                    unknowns,
+                    &regularization,
+                    crate::memory::available_bytes(),
+                    rayon::current_num_threads(),
+                )?;
                 (
-                    format!(
-                        "normal matrices of {unknowns} unknowns ({})",
-                        regularization.describe()
-                    ),
-                    unknowns_memory_bytes(unknowns as u64, &regularization),
+                    match plan.kind {
+                        SolverKind::Direct => format!(
+                            "normal matrices of {unknowns} unknowns ({}; direct solver)",
+                            regularization.describe()
+                        ),
+                        SolverKind::Iterative => format!(
+                            "matrix-free solver for {unknowns} unknowns ({}; conjugate gradients)",
+                            regularization.describe()
+                        ),
+                    },
+                    plan.bytes(),
                 )
             }
             Step::Analyze(s) => {

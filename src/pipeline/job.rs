@@ -721,6 +721,9 @@ fn check_step(
             if let Err(e) = super::checks::check_regularization(s.regularization_spec()) {
                 problems.push(format!("{}: {e}", at("regularization")));
             }
+            if let Err(e) = crate::observe::fit::SolverRequest::parse(s.solver_spec()) {
+                problems.push(format!("{}: {e}", at("solver")));
+            }
         }
         Step::Analyze(s) => {
             need("input", &s.input, P::Grid);

@@ -75,6 +75,8 @@ pub struct FitStep {
     /// "none" (default), "damping:λ", "kaula:A,p", "kaula:A,p:gcv" or "gcv", as in
     /// `kugel fit --regularization`.
     pub regularization: Option<String>,
+    /// "auto" (default), "direct" or "iterative", as in `kugel fit --solver`.
+    pub solver: Option<String>,
 }
 
 impl FitStep {
@@ -94,6 +96,11 @@ impl FitStep {
     /// The regularization written, or the default `none`.
     pub fn regularization_spec(&self) -> &str {
         self.regularization.as_deref().unwrap_or("none")
+    }
+
+    /// The solver written, or the default `auto`.
+    pub fn solver_spec(&self) -> &str {
+        self.solver.as_deref().unwrap_or("auto")
     }
 }
 
@@ -256,7 +263,8 @@ mod tests {
                 "epoch",
                 "robust",
                 "lmax",
-                "regularization"
+                "regularization",
+                "solver"
             ]
         );
         assert!(StepKind::Synthesize.keys().contains(&"altitude_km"));

@@ -328,3 +328,80 @@ fn model_missing_attribute_or_variable_is_named() {
         "{err}"
     );
 }
+
+/// `sample_model` with linear secular variation about 2031.25 and σ on both parts.
+fn secular_model(lmax: usize) -> Coefficients {
+    let mut c = sample_model(lmax);
+    let n = c.len();
+    let sig = |k: f64| {
+        (0..n)
+            .map(|i| k * (1.0 + i as f64).sqrt())
+            .collect::<Vec<f64>>()
+    };
+    c.set_sigmas(sig(1e-6), sig(2e-6)).unwrap();
+    let mut rates = Coefficients::zeros(lmax, Normalization::Schmidt);
+    for l in 1..=lmax {
+        for m in 0..=l {
+            let r = ((l * 13 + m * 5) as f64).cos() * 20.0 / (l * l) as f64;
+            rates.set(l, m, r, if m > 0 { r / 7.0 } else { 0.0 });
+        }
+    }
+    rates.set_sigmas(sig(1e-2), sig(3e-2)).unwrap();
+    c.set_secular(2031.25, rates).unwrap();
+    c
+}
+
+#[test]
+fn secular_variation_round_trips_through_netcdf_and_text_bit_for_bit() {
+    let dir = tempfile::tempdir().unwrap();
+    let model = secular_model(6);
+    for name in ["sv.nc", "sv.txt"] {
+        let path = dir.path().join(name);
+        write_model(&path, &model, &Provenance::default()).unwrap();
+        let back = read_model(&path).unwrap();
+        let (sv, original) = (
+            back.secular().expect("rates read"),
+            model.secular().unwrap(),
+        );
+        assert_eq!(sv.epoch_year, 2031.25, "{name}");
+        assert_eq!(back.c_packed(), model.c_packed(), "{name}");
+        assert_eq!(back.sigmas(), model.sigmas(), "{name}");
+        assert_eq!(sv.rates.c_packed(), original.rates.c_packed(), "{name}");
+        assert_eq!(sv.rates.s_packed(), original.rates.s_packed(), "{name}");
+        assert_eq!(sv.rates.sigmas(), original.rates.sigmas(), "{name}");
+        assert_eq!(sv.rates.units, "nT/year", "{name}");
+        assert!(!back.attributes.contains_key("epoch_year"), "{name}");
+    }
+    // the NetCDF layout: dC_dt, dS_dt and their σ over (degree, order), epoch_year a double
+    let nc = NcFile::open(dir.path().join("sv.nc")).unwrap();
+    for v in ["dC_dt", "dS_dt", "dC_dt_sigma", "dS_dt_sigma"] {
+        let var = nc.variable(v).unwrap();
+        let dims: Vec<&str> = var.dimensions().iter().map(|d| d.name.as_str()).collect();
+        assert_eq!(dims, ["degree", "order"], "{v}");
+        assert_eq!(attr_text(var.attributes(), "units"), "nT/year", "{v}");
+    }
+    let globals = nc.global_attributes().unwrap();
+    let epoch = globals.iter().find(|a| a.name == "epoch_year").unwrap();
+    assert_eq!(epoch.value, NcAttrValue::Doubles(vec![2031.25]));
+}
+
+#[test]
+fn a_model_at_a_time_follows_the_linear_rates() {
+    // closed form of the linear model: C(t) = C + (t − t₀)·dC/dt, σ(t)² = σ² + (t − t₀)² σ_rate²
+    let model = secular_model(4);
+    let at = model.at_time(2036.25).unwrap();
+    let sv = model.secular().unwrap();
+    for l in 0..=4 {
+        for m in 0..=l {
+            let expected = model.c(l, m) + 5.0 * sv.rates.c(l, m);
+            assert!((at.c(l, m) - expected).abs() <= 1e-15 * expected.abs().max(1.0));
+            let (s0, _) = model.sigma(l, m).unwrap();
+            let (sr, _) = sv.rates.sigma(l, m).unwrap();
+            let (st, _) = at.sigma(l, m).unwrap();
+            assert!((st - (s0 * s0 + 25.0 * sr * sr).sqrt()).abs() <= 1e-15 * st);
+        }
+    }
+    assert!(at.secular().is_none());
+    let err = sample_model(2).at_time(2030.0).unwrap_err().to_string();
+    assert!(err.contains("no secular variation"), "{err}");
+}

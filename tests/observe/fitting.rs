@@ -18,8 +18,8 @@ use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, Normal};
 
-const R: f64 = 2.1e6;
-const GM: f64 = 1.1e13;
+pub(crate) const R: f64 = 2.1e6;
+pub(crate) const GM: f64 = 1.1e13;
 
 fn gravity_space() -> ModelSpace {
     ModelSpace::Gravity(PotentialScale {
@@ -35,14 +35,14 @@ fn magnetic_space() -> ModelSpace {
 }
 
 /// A site uniform on the sphere.
-fn site(rng: &mut ChaCha8Rng, altitude_m: f64) -> GeocentricPoint {
+pub(crate) fn site(rng: &mut ChaCha8Rng, altitude_m: f64) -> GeocentricPoint {
     let z: f64 = rng.gen_range(-1.0..1.0);
     let lon: f64 = rng.gen_range(-180.0..180.0);
     GeocentricPoint::from_degrees(z.asin().to_degrees(), lon, R + altitude_m)
 }
 
 /// Random full unknown vector with RMS `rms(l)` per coefficient (free unknowns only).
-fn truth(layout: &ParameterLayout, rms: impl Fn(usize) -> f64, seed: u64) -> Vec<f64> {
+pub(crate) fn truth(layout: &ParameterLayout, rms: impl Fn(usize) -> f64, seed: u64) -> Vec<f64> {
     let mut rng = ChaCha8Rng::seed_from_u64(seed);
     let free: Vec<f64> = layout
         .free_kinds()
@@ -74,7 +74,7 @@ fn observe(
     });
 }
 
-fn obs(position: GeocentricPoint, quantity: Quantity, dataset: usize) -> Observation {
+pub(crate) fn obs(position: GeocentricPoint, quantity: Quantity, dataset: usize) -> Observation {
     Observation {
         position,
         quantity,

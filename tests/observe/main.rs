@@ -6,4 +6,5 @@ mod fitting;
 mod functionals;
 mod gridding;
 mod points;
+mod solvers;
 mod spatial;

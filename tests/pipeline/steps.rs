@@ -5,7 +5,10 @@
 
 use std::path::Path;
 
-use kugel::observe::fit::{fit, fit_memory_bytes, FitOptions, Regularization};
+use kugel::field::Quantity;
+use kugel::observe::fit::{
+    fit_memory_bytes, fit_observations, FitSetup, ObservationSet, Regularization, SolverRequest,
+};
 use kugel::observe::points::PointSet;
 use kugel::pipeline::config::{Step, StepKind};
 use kugel::pipeline::estimate::human_bytes;
@@ -103,6 +106,7 @@ fn each_kind_accepts_exactly_its_documented_keys() {
                 "robust",
                 "lmax",
                 "regularization",
+                "solver",
             ],
         ),
         (StepKind::Analyze, &["input", "lmax"]),
@@ -304,7 +308,7 @@ fn the_fit_estimate_is_what_the_fit_checks() {
 #[test]
 fn a_fit_too_large_for_this_machine_is_refused_with_the_estimate_the_plan_printed() {
     // At degree 300 (90,601 unknowns) three normal matrices need about 183 GiB: more than this
-    // machine has, so the fit refuses before allocating and its message carries the figure it
+    // machine has, so the direct fit refuses before allocating and its message carries the figure it
     // checked. That figure must be the plan's.
     let Some(available) = kugel::memory::available_bytes() else {
         eprintln!("no /proc/meminfo: the fit would not check its memory; nothing to compare");
@@ -313,7 +317,7 @@ fn a_fit_too_large_for_this_machine_is_refused_with_the_estimate_the_plan_printe
     let tmp = tempfile::tempdir().unwrap();
     let job = load(
         tmp.path(),
-        "[steps.f]\nkind = \"fit\"\ninput = \"pts\"\nlmax = 300\n",
+        "[steps.f]\nkind = \"fit\"\ninput = \"pts\"\nlmax = 300\nsolver = \"direct\"\n",
     )
     .unwrap();
     let planned = job.memory.bytes_of("f").unwrap();
@@ -323,11 +327,12 @@ fn a_fit_too_large_for_this_machine_is_refused_with_the_estimate_the_plan_printe
     );
     let (points, _) =
         PointSet::from_vectors(vec![0.0, 10.0], vec![0.0, 20.0], vec![1.0, 2.0], None).unwrap();
-    let options = FitOptions {
-        regularization: Regularization::None,
-        body_radius_m: 1_950_000.0,
+    let set = ObservationSet::from_points(&points, Quantity::Value, 1_950_000.0);
+    let setup = FitSetup {
+        solver: SolverRequest::Direct,
+        ..FitSetup::generic(300, 1_950_000.0, Regularization::None)
     };
-    match fit(&points, 300, &options) {
+    match fit_observations(&set, &setup) {
         Err(kugel::Error::InsufficientMemory { needed_mib, .. }) => {
             let planned_mib = planned as f64 / kugel::memory::MIB;
             assert!(

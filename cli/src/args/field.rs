@@ -36,6 +36,10 @@ pub struct FieldOptions {
     /// without --downward.
     #[arg(long, value_name = "FACTOR", default_value_t = DEFAULT_MAX_AMPLIFICATION)]
     pub max_amplification: f64,
+    /// Evaluate a model with secular variation (dC_dt, dS_dt) at this decimal year:
+    /// C + (YEAR − epoch)·dC_dt. Without it such a model is taken at its epoch.
+    #[arg(long, value_name = "YEAR", allow_negative_numbers = true)]
+    pub time: Option<f64>,
 }
 
 /// The options checked and parsed.
@@ -109,6 +113,39 @@ pub fn resize_model(
         }
         None => model,
     })
+}
+
+/// The model at `--time` when given: C + (t − epoch)·dC/dt ([`Coefficients::at_time`]);
+/// refused for a model without rates. Without `--time`, a model with rates is taken at its
+/// epoch, and a note says so (unless `quiet`).
+pub fn model_at_time(
+    path: &Path,
+    model: Coefficients,
+    time: Option<f64>,
+    quiet: bool,
+) -> anyhow::Result<Coefficients> {
+    match (time, model.secular()) {
+        (Some(t), Some(_)) => Ok(model.at_time(t)?),
+        (Some(t), None) => Err(Error::invalid(format!(
+            "--time {t}: {} has no secular variation (no dC_dt, dS_dt); a time applies only to a model \
+             with rates (kugel fit --secular-variation --epoch YEAR)",
+            path.display()
+        ))
+        .into()),
+        (None, Some(sv)) => {
+            if !quiet {
+                eprintln!(
+                    "note: {} has secular variation about {}; evaluated at that epoch (give --time YEAR for another)",
+                    path.display(),
+                    sv.epoch_year
+                );
+            }
+            let mut m = model;
+            m.clear_secular();
+            Ok(m)
+        }
+        (None, None) => Ok(model),
+    }
 }
 
 /// Prints the cautions that belong with the requested quantities (always, even with --quiet:

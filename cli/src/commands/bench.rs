@@ -52,6 +52,9 @@ pub struct Args {
     /// Seed of the random inputs.
     #[arg(long, default_value_t = 20_260_101)]
     pub seed: u64,
+    /// Solver of the fit case: auto, direct or iterative.
+    #[arg(long, default_value = "auto")]
+    pub solver: String,
 }
 
 pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
@@ -116,6 +119,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
                 repeat: args.repeat,
                 json: args.json,
                 seed: args.seed,
+                solver: kugel::observe::fit::SolverRequest::parse(&args.solver)?,
             };
             if args.case == Case::Grid {
                 run_gridding_bench(&o)

@@ -46,6 +46,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         .map(Ellipsoid::parse)
         .transpose()?;
     let model = field_options::read_model_truncated(&args.model, args.field.lmax)?;
+    let model = field_options::model_at_time(&args.model, model, args.field.time, ctx.quiet)?;
     if let Some(w) = field_options::total_potential_warning(&model, &parsed) {
         eprintln!("{w}");
     }

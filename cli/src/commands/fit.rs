@@ -20,7 +20,7 @@ use kugel::observe::fit::functional::ModelSpace;
 use kugel::observe::fit::observation::PointConversion;
 use kugel::observe::fit::{
     fit_memory_bytes, fit_observations_with_progress, FitResult, FitSetup, ObservationSet,
-    Regularization, Robust,
+    Regularization, Robust, SolverKind, SolverRequest,
 };
 
 #[derive(Debug, clap::Args)]
@@ -69,7 +69,8 @@ pub struct Args {
     #[arg(long, value_name = "L")]
     pub external_lmax: Option<usize>,
     /// Magnetic: fit a linear rate of change of every internal coefficient (needs --epoch
-    /// and a time column); the rates (nT/year, with sigmas) are written to OUTPUT_rates.
+    /// and a time column); the rates (nT/year, with sigmas) go into the model file (dC_dt,
+    /// dS_dt and the epoch), which `evaluate --time` and `synthesize --time` read.
     #[arg(long)]
     pub secular_variation: bool,
     /// Epoch of the secular variation, decimal year.
@@ -82,6 +83,11 @@ pub struct Args {
     /// Robust reweighting of the rows: huber:C (C in units of sigma).
     #[arg(long, value_name = "huber:C")]
     pub robust: Option<String>,
+    /// direct (normal matrix, Cholesky, exact σ), iterative (conjugate gradients without the
+    /// normal matrix, to relative residual 1e-10; approximate σ, no GCV) or auto (chosen from
+    /// the memory and time estimates; the choice and its reason are printed).
+    #[arg(long, value_name = "KIND", default_value = "auto")]
+    pub solver: String,
     #[command(flatten)]
     pub input: PointInputArgs,
 }
@@ -110,6 +116,7 @@ impl Args {
             epoch: None,
             start: None,
             robust: None,
+            solver: "auto".into(),
             input,
         }
     }
@@ -158,11 +165,16 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     let inputs: Vec<&std::path::Path> = sets.iter().map(|d| d.path.as_path()).collect();
     kugel::io::atomic::refuse_overwrite_of_input(&args.output, &inputs)?;
     let regularization = Regularization::parse(&args.regularization)?;
-    // the size first: a degree that cannot fit is refused before the points are read
-    kugel::memory::check_fits(
-        &format!("the normal matrix of a degree-{} fit", args.lmax),
-        fit_memory_bytes(args.lmax, &regularization),
-    )?;
+    let solver = SolverRequest::parse(&args.solver)?;
+    // the size first: a degree that cannot fit is refused before the points are read (the
+    // direct solver's normal matrix when it is asked for; the library checks the solver it
+    // picks once it knows the number of observations)
+    if solver == SolverRequest::Direct {
+        kugel::memory::check_fits(
+            &format!("the normal matrix of a degree-{} fit", args.lmax),
+            fit_memory_bytes(args.lmax, &regularization),
+        )?;
+    }
     let body_radius_m = args.input.body_radius_m()?;
     let ellipsoid = args
         .ellipsoid
@@ -217,6 +229,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         secular_epoch_year: args.epoch.filter(|_| args.secular_variation),
         start,
         robust: args.robust.as_deref().map(Robust::parse).transpose()?,
+        solver,
     };
     let progress = TerminalProgress::new(ctx.quiet);
     let result = fit_observations_with_progress(&observations, &setup, &progress);
@@ -237,16 +250,13 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     }
     provenance.lmax = Some(args.lmax);
     provenance.normalization = Some(result.model.normalization.name().to_string());
-    // Rates and external terms go to files of their own beside the model (the model file
-    // format has no rate variables yet), written before the model so that a failure leaves
-    // no model without its companions.
-    for (block, suffix) in [(&result.rates, "rates"), (&result.external, "external")] {
-        if let Some(block) = block {
-            let path = companion_path(&args.output, suffix);
-            write_model(&path, block, &provenance)?;
-            if !ctx.quiet {
-                eprintln!("wrote {} ({suffix})", path.display());
-            }
+    // The rates are in the model file itself; external terms go to a file of their own
+    // beside it (a different expansion, in (r/a)^l), written in the same output group.
+    if let Some(block) = &result.external {
+        let path = companion_path(&args.output, "external");
+        write_model(&path, block, &provenance)?;
+        if !ctx.quiet {
+            crate::outputs::wrote(format!("wrote {} (external terms)", path.display()));
         }
     }
     write_model(&args.output, &result.model, &provenance)?;
@@ -310,9 +320,20 @@ fn print_summary(args: &Args, set: &ObservationSet, setup: &FitSetup, result: &F
             );
         }
     }
+    let solver = &result.solver;
+    eprintln!("solver: {}: {}", solver.plan.kind, solver.plan.reason);
+    let condition = match solver.plan.kind {
+        SolverKind::Direct => format!("condition ≈ {:.2e}", result.condition_estimate),
+        SolverKind::Iterative => format!(
+            "{} conjugate-gradient steps to relative residual {:.1e} (tolerance {:e}), condition not estimated",
+            solver.iterations.unwrap_or(0),
+            solver.relative_residual.unwrap_or(f64::NAN),
+            kugel::observe::fit::iterative::CG_TOLERANCE
+        ),
+    };
     eprintln!(
         "fit to L = {} from {} observations ({}): residual RMS {:.6e}, χ²/dof {:.4}, λ = {:.3e}, \
-         effective parameters {:.1}, condition ≈ {:.2e}; σ {}",
+         effective parameters {:.1}, {condition}; σ {}{}",
         args.lmax,
         set.len(),
         setup.regularization.describe(),
@@ -320,11 +341,15 @@ fn print_summary(args: &Args, set: &ObservationSet, setup: &FitSetup, result: &F
         result.chi2_per_dof,
         result.lambda,
         result.effective_parameters,
-        result.condition_estimate,
         if result.sigmas_scaled {
             "scaled by χ²/dof (not every observation has σ)"
         } else {
             "formal, from the input σ"
+        },
+        if solver.plan.kind == SolverKind::Iterative {
+            " (approximate: block-diagonal-by-order inverse)"
+        } else {
+            ""
         }
     );
     if let Some(r) = &setup.robust {
@@ -345,7 +370,7 @@ fn print_summary(args: &Args, set: &ObservationSet, setup: &FitSetup, result: &F
     }
 }
 
-/// `field.nc` → `field_rates.nc` (same folder and extension).
+/// `field.nc` → `field_external.nc` (same folder and extension).
 fn companion_path(output: &std::path::Path, suffix: &str) -> PathBuf {
     let stem = output
         .file_stem()

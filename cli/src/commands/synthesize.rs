@@ -106,6 +106,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     let lmax = args.field.lmax.unwrap_or(model.lmax());
     kugel::field::synthesis::check_synthesis_job(lmax, &parsed.quantities, grid_spec.shape(lmax)?)?;
     let model = field_options::resize_model(&args.model, model, args.field.lmax)?;
+    let model = field_options::model_at_time(&args.model, model, args.field.time, ctx.quiet)?;
     let grid = grid_spec.build(model.lmax())?;
     if let Some(w) = field_options::total_potential_warning(&model, &parsed) {
         eprintln!("{w}");

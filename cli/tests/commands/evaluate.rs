@@ -184,3 +184,72 @@ fn geodetic_points_with_an_ellipsoid() {
     ]);
     assert_eq!(o.status.code(), Some(3));
 }
+
+#[test]
+fn evaluate_at_two_times_follows_the_secular_variation_of_an_axial_dipole() {
+    // Axial dipole: V = a (a/r)² g10 cos θ, B_r = −∂V/∂r = 2 (a/r)³ g10 cos θ, so at r = a
+    // Z (down) = −B_r = −2 g10 cos θ (common practice: the axial dipole field), with
+    // g10(t) = g10 + (t − t₀)·dg10/dt.
+    let dir = tempfile::tempdir().unwrap();
+    let mut c = Coefficients::zeros(1, Normalization::Schmidt);
+    c.set(1, 0, -30_000.0, 0.0);
+    c.reference_radius_m = 6_371_200.0;
+    c.units = "nT".into();
+    let mut rates = Coefficients::zeros(1, Normalization::Schmidt);
+    rates.set(1, 0, 20.0, 0.0);
+    c.set_secular(2030.0, rates).unwrap();
+    let pts = dir.path().join("pts.csv");
+    std::fs::write(&pts, "lat,lon\n45,0\n-30,100\n").unwrap();
+    for name in ["sv.nc", "sv.txt"] {
+        let model = dir.path().join(name);
+        write_model(&model, &c, &Provenance::default()).unwrap();
+        for year in [2030.0, 2036.5] {
+            let out = dir.path().join(format!("z_{name}_{year}.csv"));
+            let o = run_kugel(&[
+                "evaluate",
+                model.to_str().unwrap(),
+                pts.to_str().unwrap(),
+                "-q",
+                "z",
+                "--time",
+                &year.to_string(),
+                "-o",
+                out.to_str().unwrap(),
+            ]);
+            assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+            let table = kugel::io::csv_table::read_csv_table(&out).unwrap();
+            let z = table.numeric_column("z").unwrap();
+            let g10 = -30_000.0 + (year - 2030.0) * 20.0;
+            for (k, lat) in [45.0f64, -30.0].into_iter().enumerate() {
+                let colat = (90.0 - lat).to_radians();
+                let expected = -2.0 * g10 * colat.cos();
+                assert!(
+                    (z[k] - expected).abs() < 1e-9 * expected.abs(),
+                    "{name} {year}: Z {} vs {expected}",
+                    z[k]
+                );
+            }
+        }
+    }
+    // --time for a model without rates is refused, naming the model
+    let plain = dipole_model(dir.path());
+    let out = dir.path().join("refused.csv");
+    let o = run_kugel(&[
+        "evaluate",
+        plain.to_str().unwrap(),
+        pts.to_str().unwrap(),
+        "-q",
+        "z",
+        "--time",
+        "2031",
+        "-o",
+        out.to_str().unwrap(),
+    ]);
+    assert!(!o.status.success());
+    let stderr = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        stderr.contains("dipole.txt") && stderr.contains("no secular variation"),
+        "{stderr}"
+    );
+    assert!(!out.exists());
+}

@@ -55,25 +55,53 @@ pub fn validate_model(coeffs: &Coefficients, path: &Path) -> Result<()> {
             )));
         }
     }
+    check_values(
+        coeffs,
+        ["C", "S", "C_sigma", "S_sigma"],
+        "coefficient ",
+        path,
+    )?;
+    if let Some(sv) = coeffs.secular() {
+        if !sv.epoch_year.is_finite() {
+            return Err(fmt(format!(
+                "epoch of the secular variation (attribute epoch_year) is {}; expected a decimal year",
+                sv.epoch_year
+            )));
+        }
+        check_values(
+            &sv.rates,
+            ["dC_dt", "dS_dt", "dC_dt_sigma", "dS_dt_sigma"],
+            "rate ",
+            path,
+        )?;
+    }
+    Ok(())
+}
+
+/// Every value finite, the sine terms of order 0 zero, sigmas finite and ≥ 0; `names` are the
+/// file's names of the four arrays.
+fn check_values(coeffs: &Coefficients, names: [&str; 4], kind: &str, path: &Path) -> Result<()> {
+    let fmt = |m: String| Error::format(path, m);
+    let [c_name, s_name, cs_name, ss_name] = names;
     for (l, m, c, s) in coeffs.iter() {
         if !c.is_finite() {
             return Err(fmt(format!(
-                "coefficient C at degree {l}, order {m} is not finite ({c})"
+                "{kind}{c_name} at degree {l}, order {m} is not finite ({c})"
             )));
         }
         if !s.is_finite() {
             return Err(fmt(format!(
-                "coefficient S at degree {l}, order {m} is not finite ({s})"
+                "{kind}{s_name} at degree {l}, order {m} is not finite ({s})"
             )));
         }
         if m == 0 && s != 0.0 {
             return Err(fmt(format!(
-                "coefficient S at degree {l}, order 0 is {s}; S_l0 must be 0"
+                "{kind}{s_name} at degree {l}, order 0 is {s}; {s_name}_l0 must be 0"
             )));
         }
     }
     if let Some((cs, ss)) = coeffs.sigmas() {
-        for (which, sig) in [("C_sigma", cs), ("S_sigma", ss)] {
+        for (which, sig) in [(cs_name, cs), (ss_name, ss)] {
             for l in 0..=coeffs.lmax() {
                 for m in 0..=l {
                     let v = sig[crate::coeffs::packed_index(l, m)];

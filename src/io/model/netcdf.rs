@@ -5,6 +5,9 @@
 //! m > l are 0) and, when known, `C_sigma` and `S_sigma`; global attributes `normalization`
 //! (`geodesy`, `schmidt`, `orthonormal`, `unnormalized`), `condon_shortley_phase` (0 or 1),
 //! `reference_radius_m`, optional `gm_m3_s2`, `lmax`, `units`, plus CF and provenance globals.
+//! A model with linear secular variation adds `dC_dt(degree, order)` and `dS_dt` (units per
+//! year), optionally `dC_dt_sigma` and `dS_dt_sigma`, and the global attribute `epoch_year`
+//! (decimal year, a double): C(t) = C + (t − epoch_year)·dC_dt.
 
 use std::collections::BTreeMap;
 use std::path::Path;
@@ -67,19 +70,39 @@ pub fn write_model_netcdf(
     b.write_variable(v_deg, &idx).map_err(we)?;
     b.write_variable(v_ord, &idx).map_err(we)?;
 
-    let mut arrays: Vec<(&str, &str, &[f64])> = vec![
-        ("C", "cosine coefficient C_lm", coeffs.c_packed()),
-        ("S", "sine coefficient S_lm", coeffs.s_packed()),
+    let rate_units = crate::coeffs::rate_units(&coeffs.units);
+    let mut arrays: Vec<(&str, &str, &[f64], &str)> = vec![
+        (
+            "C",
+            "cosine coefficient C_lm",
+            coeffs.c_packed(),
+            &coeffs.units,
+        ),
+        (
+            "S",
+            "sine coefficient S_lm",
+            coeffs.s_packed(),
+            &coeffs.units,
+        ),
     ];
     if let Some((cs, ss)) = coeffs.sigmas() {
-        arrays.push(("C_sigma", "standard error of C_lm", cs));
-        arrays.push(("S_sigma", "standard error of S_lm", ss));
+        arrays.push(("C_sigma", "standard error of C_lm", cs, &coeffs.units));
+        arrays.push(("S_sigma", "standard error of S_lm", ss, &coeffs.units));
+    }
+    if let Some(sv) = coeffs.secular() {
+        let r = &sv.rates;
+        arrays.push(("dC_dt", "rate of change of C_lm", r.c_packed(), &rate_units));
+        arrays.push(("dS_dt", "rate of change of S_lm", r.s_packed(), &rate_units));
+        if let Some((cs, ss)) = r.sigmas() {
+            arrays.push(("dC_dt_sigma", "standard error of dC_lm/dt", cs, &rate_units));
+            arrays.push(("dS_dt_sigma", "standard error of dS_lm/dt", ss, &rate_units));
+        }
     }
     let rows = nc::chunk_rows(l1, 8).min(l1 as u64);
-    for (name, long_name, packed) in arrays {
+    for (name, long_name, packed, units) in arrays {
         let v = b.add_variable::<f64>(name, &[d_deg, d_ord]).map_err(we)?;
         nc::var_text(&mut b, path, v, "long_name", long_name)?;
-        nc::var_text(&mut b, path, v, "units", &coeffs.units)?;
+        nc::var_text(&mut b, path, v, "units", units)?;
         b.set_variable_chunking(v, vec![rows, l1 as u64])
             .map_err(we)?;
         b.set_variable_deflate(v, Some(4), true).map_err(we)?;
@@ -126,13 +149,23 @@ pub fn write_model_netcdf(
         NcAttrValue::Ints(vec![coeffs.lmax() as i32]),
     )?;
     put(&mut b, "units", nc::chars(&coeffs.units))?;
+    if let Some(sv) = coeffs.secular() {
+        put(
+            &mut b,
+            "epoch_year",
+            NcAttrValue::Doubles(vec![sv.epoch_year]),
+        )?;
+    }
     let provenance_names: Vec<String> = provenance
         .to_attributes()
         .into_iter()
         .map(|(k, _)| k)
         .collect();
     for (k, v) in &coeffs.attributes {
-        if RESERVED.contains(&k.as_str()) || provenance_names.contains(k) {
+        if RESERVED.contains(&k.as_str())
+            || provenance_names.contains(k)
+            || (k == "epoch_year" && coeffs.secular().is_some())
+        {
             continue;
         }
         put(&mut b, k, nc::chars(v))?;
@@ -212,7 +245,15 @@ pub fn read_model_netcdf(path: &Path) -> Result<Coefficients> {
         }
     }
     let mut arrays = vec![c_sq];
-    for name in ["S", "C_sigma", "S_sigma"] {
+    for name in [
+        "S",
+        "C_sigma",
+        "S_sigma",
+        "dC_dt",
+        "dS_dt",
+        "dC_dt_sigma",
+        "dS_dt_sigma",
+    ] {
         match read_square(&file, path, name, name == "S")? {
             Some((sq, n, t)) => {
                 if n != l1 || t != transposed {
@@ -225,22 +266,36 @@ pub fn read_model_netcdf(path: &Path) -> Result<Coefficients> {
             None => arrays.push(Vec::new()),
         }
     }
-    let packed: Vec<Vec<f64>> = [("C", 0usize), ("S", 1), ("C_sigma", 2), ("S_sigma", 3)]
-        .iter()
-        .map(|&(name, k)| {
-            if arrays[k].is_empty() {
-                Ok(Vec::new())
-            } else {
-                packed_from_square(&arrays[k], l1, transposed, path, name)
+    let packed: Vec<Vec<f64>> = [
+        ("C", 0usize),
+        ("S", 1),
+        ("C_sigma", 2),
+        ("S_sigma", 3),
+        ("dC_dt", 4),
+        ("dS_dt", 5),
+        ("dC_dt_sigma", 6),
+        ("dS_dt_sigma", 7),
+    ]
+    .iter()
+    .map(|&(name, k)| {
+        if arrays[k].is_empty() {
+            Ok(Vec::new())
+        } else {
+            packed_from_square(&arrays[k], l1, transposed, path, name)
+        }
+    })
+    .collect::<Result<_>>()?;
+    for (name, k) in [("S", 1), ("dS_dt", 5)] {
+        if packed[k].is_empty() {
+            continue;
+        }
+        for l in 0..l1 {
+            let s_l0 = packed[k][packed_index(l, 0)];
+            if s_l0 != 0.0 {
+                return Err(fmt(format!(
+                    "variable '{name}' holds {s_l0} at degree {l}, order 0; {name}_l0 must be 0 (sin 0λ = 0), so the file's layout differs from this one"
+                )));
             }
-        })
-        .collect::<Result<_>>()?;
-    for l in 0..l1 {
-        let s_l0 = packed[1][packed_index(l, 0)];
-        if s_l0 != 0.0 {
-            return Err(fmt(format!(
-                "variable 'S' holds {s_l0} at degree {l}, order 0; S_l0 must be 0 (sin 0λ = 0), so the file's layout differs from this one"
-            )));
         }
     }
     let mut coeffs =
@@ -259,6 +314,42 @@ pub fn read_model_netcdf(path: &Path) -> Result<Coefficients> {
     coeffs.gm_m3_s2 = gm_m3_s2;
     coeffs.units = units.unwrap_or_else(|| "1".to_string());
     coeffs.attributes = carried_attributes(&globals);
+    match (packed[4].is_empty(), packed[5].is_empty()) {
+        (true, true) => {}
+        (false, false) => {
+            let epoch = global_number("epoch_year")?.ok_or_else(|| {
+                fmt("variables 'dC_dt' and 'dS_dt' need the global attribute 'epoch_year' (decimal year of the rates' epoch)".into())
+            })?;
+            let mut rates = Coefficients::from_packed(
+                lmax,
+                packed[4].clone(),
+                packed[5].clone(),
+                normalization,
+            )?;
+            rates.condon_shortley = condon_shortley;
+            match (packed[6].is_empty(), packed[7].is_empty()) {
+                (false, false) => rates.set_sigmas(packed[6].clone(), packed[7].clone())?,
+                (true, true) => {}
+                _ => return Err(fmt(
+                    "only one of 'dC_dt_sigma' and 'dS_dt_sigma' is present; give both or neither"
+                        .into(),
+                )),
+            }
+            coeffs
+                .set_secular(epoch, rates)
+                .map_err(|e| fmt(e.to_string()))?;
+            coeffs.attributes.remove("epoch_year");
+        }
+        _ => return Err(fmt(
+            "only one of 'dC_dt' and 'dS_dt' is present; a model with secular variation needs both"
+                .into(),
+        )),
+    }
+    if packed[4].is_empty() && !(packed[6].is_empty() && packed[7].is_empty()) {
+        return Err(fmt(
+            "'dC_dt_sigma'/'dS_dt_sigma' without the rates 'dC_dt' and 'dS_dt'".into(),
+        ));
+    }
     super::validate_model(&coeffs, path)?;
     Ok(coeffs)
 }

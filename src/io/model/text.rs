@@ -3,8 +3,10 @@
 //! Data lines hold `l m C S` or `l m C S σC σS`, separated by whitespace and/or commas; a
 //! leading non-numeric keyword column (as some published tables carry) is skipped; Fortran
 //! `D` exponents are accepted. `#` starts a comment. Header lines `key = value` set
-//! `normalization`, `condon_shortley_phase` (0/1), `reference_radius_m`, `gm_m3_s2`, `units`
-//! and `lmax`; other keys are kept as metadata. Pairs (l, m) that are absent read as 0 and are
+//! `normalization`, `condon_shortley_phase` (0/1), `reference_radius_m`, `gm_m3_s2`, `units`,
+//! `lmax` and `epoch_year`; other keys are kept as metadata. A table with an `epoch_year`
+//! header carries linear secular variation: its data lines hold `l m C S dC_dt dS_dt` or
+//! `l m C S σC σS dC_dt dS_dt σdC_dt σdS_dt` (rates per year, about the epoch). Pairs (l, m) that are absent read as 0 and are
 //! counted in the report.
 
 use std::collections::{BTreeMap, HashSet};
@@ -80,12 +82,14 @@ fn parse_data_line(path: &Path, line: usize, body: &str) -> Result<Row> {
             tokens.remove(0);
         }
     }
-    if tokens.len() != 4 && tokens.len() != 6 {
+    if ![4, 6, 10].contains(&tokens.len()) {
         return Err(line_error(
             path,
             line,
             format!(
-                "expected 4 columns (l m C S) or 6 (l m C S sigmaC sigmaS), found {} numeric columns",
+                "expected 4 columns (l m C S) or 6 (l m C S sigmaC sigmaS; with an epoch_year header \
+                 l m C S dC_dt dS_dt), or 10 with an epoch_year header (l m C S sigmaC sigmaS dC_dt dS_dt \
+                 sigma_dC_dt sigma_dS_dt), found {} numeric columns",
                 tokens.len()
             ),
         ));
@@ -99,7 +103,20 @@ fn parse_data_line(path: &Path, line: usize, body: &str) -> Result<Row> {
             format!("order m = {m} exceeds degree l = {l}"),
         ));
     }
-    let names = ["C", "S", "sigma C", "sigma S"];
+    let names = if tokens.len() == 10 {
+        [
+            "C",
+            "S",
+            "sigma C",
+            "sigma S",
+            "dC_dt",
+            "dS_dt",
+            "sigma dC_dt",
+            "sigma dS_dt",
+        ]
+    } else {
+        ["C", "S", "column 5", "column 6", "", "", "", ""]
+    };
     let mut values = Vec::with_capacity(tokens.len() - 2);
     for (k, t) in tokens[2..].iter().enumerate() {
         let v = parse_number(t)
@@ -210,23 +227,60 @@ fn build(
             ))
         }
     };
-    let with_sigma = rows.first().map(|r| r.values.len() == 4).unwrap_or(false);
-    if let Some(r) = rows.iter().find(|r| (r.values.len() == 4) != with_sigma) {
+    let epoch = header_number(path, &headers, "epoch_year")?;
+    let width = rows.first().map_or(2, |r| r.values.len());
+    if let Some(r) = rows.iter().find(|r| r.values.len() != width) {
         return Err(line_error(
             path,
             r.line,
             format!(
-                "{} columns here but {} on the first data line; give sigmas on every line or on none",
+                "{} columns here but {} on the first data line; give the same columns on every line",
                 r.values.len() + 2,
-                if with_sigma { 6 } else { 4 }
+                width + 2
             ),
         ));
     }
+    // where the σ and the rates sit among the values after l and m
+    let (sigma_at, rate_at, rate_sigma_at) = match (epoch.is_some(), width) {
+        (false, 2) => (None, None, None),
+        (false, 4) => (Some(2), None, None),
+        (true, 4) => (None, Some(2), None),
+        (true, 8) => (Some(2), Some(4), Some(6)),
+        (true, _) => {
+            return Err(line_error(
+                path,
+                rows[0].line,
+                format!(
+                    "{} columns in a table with an epoch_year header; expected 6 (l m C S dC_dt dS_dt) or 10 \
+                     (l m C S sigmaC sigmaS dC_dt dS_dt sigma_dC_dt sigma_dS_dt)",
+                    width + 2
+                ),
+            ))
+        }
+        (false, _) => {
+            return Err(line_error(
+                path,
+                rows[0].line,
+                format!(
+                    "{} columns need an epoch_year header (rates of change); without it a line holds 4 or 6 columns",
+                    width + 2
+                ),
+            ))
+        }
+    };
+    let with_sigma = sigma_at.is_some();
     let n = packed_len(lmax);
-    crate::memory::check_fits("the coefficient table", (n * 8 * 4) as u64)?;
+    crate::memory::check_fits("the coefficient table", (n * 8 * 8) as u64)?;
     let mut coeffs = Coefficients::zeros(lmax, normalization);
     coeffs.condon_shortley = condon_shortley;
     let (mut cs, mut ss) = if with_sigma {
+        (vec![0.0; n], vec![0.0; n])
+    } else {
+        (Vec::new(), Vec::new())
+    };
+    let mut rates = Coefficients::zeros(lmax, normalization);
+    rates.condon_shortley = condon_shortley;
+    let (mut rcs, mut rss) = if rate_sigma_at.is_some() {
         (vec![0.0; n], vec![0.0; n])
     } else {
         (Vec::new(), Vec::new())
@@ -247,7 +301,24 @@ fn build(
                 format!("S_{{{},0}} = {} but S_l0 must be 0", r.l, r.values[1]),
             ));
         }
-        if let Some(v) = r.values.get(2..).and_then(|s| s.iter().find(|v| **v < 0.0)) {
+        if let Some(rate) = rate_at {
+            if r.m == 0 && r.values[rate + 1] != 0.0 {
+                return Err(line_error(
+                    path,
+                    r.line,
+                    format!(
+                        "dS_dt at ({}, 0) is {} but the sine terms of order 0 are 0",
+                        r.l,
+                        r.values[rate + 1]
+                    ),
+                ));
+            }
+        }
+        let sigma_values = [sigma_at, rate_sigma_at]
+            .into_iter()
+            .flatten()
+            .flat_map(|k| [r.values[k], r.values[k + 1]]);
+        if let Some(v) = sigma_values.into_iter().find(|v| *v < 0.0) {
             return Err(line_error(
                 path,
                 r.line,
@@ -255,14 +326,24 @@ fn build(
             ));
         }
         coeffs.set(r.l, r.m, r.values[0], r.values[1]);
-        if with_sigma {
-            let i = packed_index(r.l, r.m);
-            cs[i] = r.values[2];
-            ss[i] = r.values[3];
+        let i = packed_index(r.l, r.m);
+        if let Some(k) = sigma_at {
+            cs[i] = r.values[k];
+            ss[i] = r.values[k + 1];
+        }
+        if let Some(k) = rate_at {
+            rates.set(r.l, r.m, r.values[k], r.values[k + 1]);
+        }
+        if let Some(k) = rate_sigma_at {
+            rcs[i] = r.values[k];
+            rss[i] = r.values[k + 1];
         }
     }
     if with_sigma {
         coeffs.set_sigmas(cs, ss)?;
+    }
+    if rate_sigma_at.is_some() {
+        rates.set_sigmas(rcs, rss)?;
     }
     match header_number(path, &headers, "reference_radius_m")? {
         Some(r) if r <= 0.0 => {
@@ -296,6 +377,9 @@ fn build(
     if let Some((u, _)) = headers.get("units") {
         coeffs.units = u.clone();
     }
+    if let Some(epoch) = epoch {
+        coeffs.set_secular(epoch, rates)?;
+    }
     const KNOWN: &[&str] = &[
         "normalization",
         "condon_shortley_phase",
@@ -303,6 +387,7 @@ fn build(
         "reference_radius_m",
         "gm_m3_s2",
         "units",
+        "epoch_year",
     ];
     for (k, (v, _)) in headers {
         if !KNOWN.contains(&k.as_str()) {
@@ -352,6 +437,10 @@ pub fn model_text(coeffs: &Coefficients, provenance: &Provenance) -> String {
     }
     let _ = writeln!(out, "units = {}", one_line(&coeffs.units));
     let _ = writeln!(out, "lmax = {}", coeffs.lmax());
+    let secular = coeffs.secular();
+    if let Some(sv) = secular {
+        let _ = writeln!(out, "epoch_year = {:e}", sv.epoch_year);
+    }
     let mut extra: Vec<(String, String)> = provenance.to_attributes();
     if let Some(previous) = coeffs.attributes.get("history") {
         for (k, v) in extra.iter_mut() {
@@ -361,7 +450,7 @@ pub fn model_text(coeffs: &Coefficients, provenance: &Provenance) -> String {
         }
     }
     for (k, v) in &coeffs.attributes {
-        if !extra.iter().any(|(e, _)| e == k) {
+        if !extra.iter().any(|(e, _)| e == k) && !(k == "epoch_year" && secular.is_some()) {
             extra.push((k.clone(), v.clone()));
         }
     }
@@ -370,19 +459,41 @@ pub fn model_text(coeffs: &Coefficients, provenance: &Provenance) -> String {
             let _ = writeln!(out, "{k} = {}", one_line(&v).replace('#', " "));
         }
     }
-    out.push_str(if sig.is_some() {
-        "# l m C S sigma_C sigma_S\n"
-    } else {
-        "# l m C S\n"
-    });
-    for (l, m, c, s) in coeffs.iter() {
-        match sig {
-            Some((sc, ss)) => {
-                let i = packed_index(l, m);
-                let _ = writeln!(out, "{l} {m} {c:e} {s:e} {:e} {:e}", sc[i], ss[i]);
+    match secular {
+        None => {
+            out.push_str(if sig.is_some() {
+                "# l m C S sigma_C sigma_S\n"
+            } else {
+                "# l m C S\n"
+            });
+            for (l, m, c, s) in coeffs.iter() {
+                let _ = write!(out, "{l} {m} {c:e} {s:e}");
+                if let Some((sc, ss)) = sig {
+                    let i = packed_index(l, m);
+                    let _ = write!(out, " {:e} {:e}", sc[i], ss[i]);
+                }
+                out.push('\n');
             }
-            None => {
-                let _ = writeln!(out, "{l} {m} {c:e} {s:e}");
+        }
+        Some(sv) => {
+            let rates = &sv.rates;
+            let both = sig.zip(rates.sigmas());
+            out.push_str(if both.is_some() {
+                "# l m C S sigma_C sigma_S dC_dt dS_dt sigma_dC_dt sigma_dS_dt (rates per year)\n"
+            } else {
+                "# l m C S dC_dt dS_dt (rates per year)\n"
+            });
+            for (l, m, c, s) in coeffs.iter() {
+                let i = packed_index(l, m);
+                let _ = write!(out, "{l} {m} {c:e} {s:e}");
+                if let Some(((sc, ss), _)) = both {
+                    let _ = write!(out, " {:e} {:e}", sc[i], ss[i]);
+                }
+                let _ = write!(out, " {:e} {:e}", rates.c(l, m), rates.s(l, m));
+                if let Some((_, (rc, rs))) = both {
+                    let _ = write!(out, " {:e} {:e}", rc[i], rs[i]);
+                }
+                out.push('\n');
             }
         }
     }
@@ -392,6 +503,15 @@ pub fn model_text(coeffs: &Coefficients, provenance: &Provenance) -> String {
 /// Writes a text coefficient table atomically.
 pub fn write_model_text(path: &Path, coeffs: &Coefficients, provenance: &Provenance) -> Result<()> {
     coeffs.check_finite()?;
+    if let Some(sv) = coeffs.secular() {
+        if coeffs.sigmas().is_some() != sv.rates.sigmas().is_some() {
+            return Err(Error::invalid(format!(
+                "{}: a text table gives σ for both the coefficients and their rates, or for neither; \
+                 this model has them for only one (write NetCDF, .nc, to keep them)",
+                path.display()
+            )));
+        }
+    }
     crate::io::atomic::write_bytes_atomic(path, model_text(coeffs, provenance).as_bytes())
 }
 

@@ -72,6 +72,15 @@ impl UnknownLayout {
         d
     }
 
+    /// Order of each unknown.
+    pub fn orders(&self) -> Vec<usize> {
+        let mut o = vec![0; self.len()];
+        for m in 0..=self.lmax {
+            o[self.offsets[m]..self.offsets[m + 1]].fill(m);
+        }
+        o
+    }
+
     /// Unknown vector (and optional standard deviations) as a coefficient set.
     pub fn to_coefficients(&self, x: &[f64], sigma: Option<&[f64]>) -> Coefficients {
         let mut c = Coefficients::zeros(self.lmax, Normalization::Geodesy);
@@ -148,6 +157,38 @@ impl LegendreTable {
     }
 }
 
+impl LegendreTable {
+    /// All P̄_lm(cos θ) in order-major layout: order m's run l = m..L starts at
+    /// `order_major_start(L, m)`, the layout of the C block of [`UnknownLayout`]. The same
+    /// recursion as [`LegendreTable::fill`], value for value.
+    pub fn fill_order_major(&self, t: f64, u: f64, out: &mut [f64]) {
+        let lmax = self.lmax;
+        let mut u_pow_m = 1.0;
+        let mut start = 0;
+        for m in 0..=lmax {
+            if m > 0 {
+                u_pow_m *= u;
+            }
+            let run = &mut out[start..start + lmax + 1 - m];
+            run[0] = self.sectoral[m] * u_pow_m;
+            if m < lmax {
+                run[1] = self.a[packed_index(m + 1, m)] * t * run[0];
+            }
+            for l in (m + 2)..=lmax {
+                let k = packed_index(l, m);
+                run[l - m] = self.a[k] * t * run[l - m - 1] - self.b[k] * run[l - m - 2];
+            }
+            start += lmax + 1 - m;
+        }
+    }
+}
+
+/// Start of order m's run in the order-major layout of degree `lmax`.
+pub fn order_major_start(lmax: usize, m: usize) -> usize {
+    // Σ_{k<m} (L + 1 − k)
+    m * (lmax + 1) - m * (m.saturating_sub(1)) / 2
+}
+
 /// Writes the design row of an observation at (lat, lon) in degrees into `row` (length
 /// (L+1)²), using `p` (length packed_len(L)) as scratch.
 pub fn design_row(
@@ -193,6 +234,24 @@ mod tests {
             }
         }
         assert!(seen.iter().all(|&s| s));
+    }
+
+    #[test]
+    fn order_major_values_are_the_packed_ones() {
+        let table = LegendreTable::new(9);
+        let (mut packed, mut major) = (vec![0.0; packed_len(9)], vec![0.0; packed_len(9)]);
+        let (u, t) = 0.7f64.sin_cos();
+        table.fill(t, u, &mut packed);
+        table.fill_order_major(t, u, &mut major);
+        for m in 0..=9 {
+            for l in m..=9 {
+                assert_eq!(
+                    major[order_major_start(9, m) + l - m],
+                    packed[packed_index(l, m)]
+                );
+            }
+        }
+        assert_eq!(order_major_start(9, 10), packed_len(9));
     }
 
     #[test]

@@ -262,22 +262,46 @@ impl RowBuilder {
         Ok((r_ref / r, c))
     }
 
+    /// Whether every row is a scalar functional k_l(r) P̄_lm (cos mλ | sin mλ) of the internal
+    /// coefficients alone (plain values and gravity, no rates or external terms).
+    pub fn rows_are_scalar(&self) -> bool {
+        !matches!(self.space, ModelSpace::Magnetic { .. })
+            && !self.layout.secular_variation
+            && self.layout.external.is_none()
+    }
+
+    /// The Legendre recursion table of the rows.
+    pub fn legendre_table(&self) -> &LegendreTable {
+        &self.table
+    }
+
+    /// (cos θ, sin θ, λ) of an observation.
+    pub fn angles_of(o: &Observation) -> (f64, f64, f64) {
+        Self::angles(o)
+    }
+
+    /// The degree factors k_l (l = 0..L) of a scalar observation at its own radius: row(C_lm)
+    /// = k_l P̄_lm cos mλ, row(S_lm) = k_l P̄_lm sin mλ.
+    pub fn scalar_degree_factors(&self, o: &Observation) -> Result<Vec<f64>> {
+        let (s, c) = self.continuation(o, self.layout.internal.lmax)?;
+        let scale = match self.space {
+            ModelSpace::Gravity(scale) => Some(scale),
+            _ => None,
+        };
+        scalar_factors(o.quantity, scale, s, &c).ok_or_else(|| {
+            Error::invalid(format!(
+                "internal: quantity `{}` has no scalar degree factors",
+                o.quantity
+            ))
+        })
+    }
+
     fn fill_scalar(&self, o: &Observation, sc: &mut RowScratch) -> Result<f64> {
         let layout = &self.layout.internal;
         let lmax = layout.lmax;
         let (t, u, lambda) = Self::angles(o);
         self.table.fill(t, u, &mut sc.p);
-        let (s, c) = self.continuation(o, lmax)?;
-        let scale = match self.space {
-            ModelSpace::Gravity(scale) => Some(scale),
-            _ => None,
-        };
-        let k = scalar_factors(o.quantity, scale, s, &c).ok_or_else(|| {
-            Error::invalid(format!(
-                "internal: quantity `{}` has no scalar degree factors",
-                o.quantity
-            ))
-        })?;
+        let k = self.scalar_degree_factors(o)?;
         sc.row.iter_mut().for_each(|v| *v = 0.0);
         for m in 0..=lmax {
             let (sm, cm) = (m as f64 * lambda).sin_cos();
@@ -406,7 +430,7 @@ impl RowBuilder {
     }
 }
 
-fn dot(a: &[f64], b: &[f64]) -> f64 {
+pub(super) fn dot(a: &[f64], b: &[f64]) -> f64 {
     a.iter().zip(b).map(|(x, y)| x * y).sum()
 }
 

@@ -39,19 +39,25 @@ use crate::error::{Error, Result};
 pub mod design;
 pub mod functional;
 pub mod gcv;
+pub mod iterative;
 pub mod normal;
 pub mod observation;
 pub mod parameters;
 pub mod robust;
+pub mod scalar_normal;
 pub mod solve;
+pub mod solver_choice;
 
-use self::functional::{ModelSpace, RowBuilder};
+use self::functional::{ModelSpace, RowBuilder, RowScratch};
 use self::gcv::GcvSpectrum;
+use self::iterative::{solve_iterative, RowSource, CG_TOLERANCE};
 use self::normal::assemble_rows;
 pub use self::observation::{DataSet, Observation, ObservationSet};
 use self::parameters::ParameterLayout;
 pub use self::robust::Robust;
-use self::solve::solve;
+use self::scalar_normal::ScalarNormalOperator;
+use self::solve::{solve, Solution};
+pub use self::solver_choice::{plan_solver, SolverKind, SolverPlan, SolverRequest};
 use crate::field::{NormalField, Quantity};
 use crate::observe::gridding::EARTH_MEAN_RADIUS_M;
 use crate::observe::points::PointSet;
@@ -189,6 +195,8 @@ pub struct FitSetup {
     pub start: Option<Coefficients>,
     /// Robust reweighting of the rows.
     pub robust: Option<Robust>,
+    /// Direct, iterative, or chosen from the estimates ([`solver_choice`]).
+    pub solver: SolverRequest,
 }
 
 impl FitSetup {
@@ -204,8 +212,25 @@ impl FitSetup {
             secular_epoch_year: None,
             start: None,
             robust: None,
+            solver: SolverRequest::Auto,
         }
     }
+}
+
+/// How the normal equations were solved.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SolverReport {
+    /// The solver used, its reason and the estimates behind the choice.
+    pub plan: SolverPlan,
+    /// Conjugate-gradient steps over all passes (iterative solver).
+    pub iterations: Option<usize>,
+    /// ‖b − (N + λP)x‖/‖b‖ of the last pass (iterative solver), recomputed from x.
+    pub relative_residual: Option<f64>,
+    /// Seconds spent building N and b (direct) or b (iterative), over all passes.
+    pub assembly_seconds: f64,
+    /// Seconds spent solving, over all passes (iterative: the conjugate gradients with their
+    /// passes over the observations).
+    pub solve_seconds: f64,
 }
 
 /// χ² of one data set.
@@ -264,6 +289,8 @@ pub struct FitResult {
     pub iterations: Vec<IterationReport>,
     /// Rows down-weighted by the robust weights in the final pass.
     pub downweighted_rows: usize,
+    /// The solver and its convergence.
+    pub solver: SolverReport,
     pub warnings: Vec<String>,
 }
 
@@ -438,10 +465,15 @@ pub fn fit_observations_with_progress(
 ) -> Result<FitResult> {
     check_observations(set, setup)?;
     let lmax = setup.lmax;
-    // the estimate first: nothing of the size of the degree is built before it
+    // the smallest estimate first (the matrix-free solver's): nothing of the size of the
+    // degree is built before it
+    let l1 = (lmax as u64).saturating_add(1);
     crate::memory::check_fits(
-        &format!("the normal matrix of a degree-{lmax} fit"),
-        fit_memory_bytes(lmax, &setup.regularization),
+        &format!("a degree-{lmax} fit"),
+        solver_choice::iterative_memory_bytes(
+            crate::memory::saturating_product(&[l1, l1]),
+            rayon::current_num_threads() as u64,
+        ),
     )?;
     let magnetic = matches!(setup.space, ModelSpace::Magnetic { .. });
     let mut fixed = setup.fixed_degrees.clone();
@@ -460,10 +492,28 @@ pub fn fit_observations_with_progress(
             "every degree is fixed: the fit has no unknowns",
         ));
     }
-    crate::memory::check_fits(
-        &format!("the normal matrix of a degree-{lmax} fit ({u} unknowns)"),
-        unknowns_memory_bytes(u as u64, &setup.regularization),
+    let plan = plan_solver(
+        setup.solver,
+        set.len(),
+        u,
+        layout.full_len(),
+        &setup.regularization,
+        crate::memory::available_bytes(),
+        rayon::current_num_threads(),
     )?;
+    crate::memory::check_fits(
+        &match plan.kind {
+            SolverKind::Direct => {
+                format!("the normal matrix of a degree-{lmax} fit ({u} unknowns)")
+            }
+            SolverKind::Iterative => {
+                format!("the matrix-free solver of a degree-{lmax} fit ({u} unknowns)")
+            }
+        },
+        plan.bytes(),
+    )?;
+    progress.note(&format!("solver: {}: {}", plan.kind, plan.reason));
+    let order_groups = layout.free_groups_by_order();
     let r_ref = setup.space.reference_radius_m();
     let lat: Vec<f64> = set
         .observations
@@ -502,46 +552,116 @@ pub fn fit_observations_with_progress(
     let base_weights: Vec<f64> = (0..n_obs).map(|i| set.weight(i)).collect();
     let mut robust_factor = vec![1.0; n_obs];
     let mut iterations = Vec::new();
+    let (mut assembly_seconds, mut solve_seconds) = (0.0, 0.0);
+    let mut cg_iterations = 0usize;
+    let mut cg_residual = None;
+    let mut warm_start: Option<Vec<f64>> = None;
 
     let (solution, lambda, x_full, residuals) = loop {
         let pass = iterations.len() + 1;
         // Without a start model, the first pass of an F fit uses the vector rows alone.
         let skip_f = has_f && current.is_none();
         let lin = current.clone();
-        let normals = assemble_rows(
-            u,
-            n_obs,
-            || (builder.scratch(), vec![0.0; 0]),
-            |i, (sc, _), col| {
-                let o = &set.observations[i];
-                if skip_f && o.quantity == Quantity::F {
-                    col.iter_mut().for_each(|v| *v = 0.0);
-                    return Ok((0.0, 0.0));
-                }
-                let offset = builder.fill(o, lin.as_deref(), sc)?;
-                layout.gather(&sc.row, col);
-                Ok((base_weights[i] * robust_factor[i], o.value - offset))
-            },
-            progress,
-        )?;
-        progress.stage("solving the normal equations", 0);
-        let lambda = match setup.regularization {
-            Regularization::None => 0.0,
-            Regularization::Damping(l) => l,
-            Regularization::Kaula { .. } => 1.0,
-            Regularization::Gcv | Regularization::KaulaGcv { .. } => {
-                GcvSpectrum::new(
-                    &normals.n,
+        let init = || (builder.scratch(), vec![0.0; 0]);
+        let row = |i: usize, (sc, _): &mut (RowScratch, Vec<f64>), col: &mut [f64]| {
+            let o = &set.observations[i];
+            if skip_f && o.quantity == Quantity::F {
+                col.iter_mut().for_each(|v| *v = 0.0);
+                return Ok((0.0, 0.0));
+            }
+            let offset = builder.fill(o, lin.as_deref(), sc)?;
+            layout.gather(&sc.row, col);
+            Ok((base_weights[i] * robust_factor[i], o.value - offset))
+        };
+        let (solution, lambda, used) = match plan.kind {
+            SolverKind::Direct => {
+                let clock = std::time::Instant::now();
+                let normals = assemble_rows(u, n_obs, init, row, progress)?;
+                assembly_seconds += clock.elapsed().as_secs_f64();
+                let clock = std::time::Instant::now();
+                progress.stage("solving the normal equations", 0);
+                let lambda = match setup.regularization {
+                    Regularization::Gcv | Regularization::KaulaGcv { .. } => {
+                        GcvSpectrum::new(
+                            &normals.n,
+                            &prior,
+                            &normals.b,
+                            normals.y_w_y,
+                            normals.observations,
+                        )
+                        .choose()
+                        .lambda
+                    }
+                    fixed => fixed_lambda(&fixed),
+                };
+                let solution = solve(&normals.n, &prior, lambda, &normals.b)?;
+                solve_seconds += clock.elapsed().as_secs_f64();
+                (solution, lambda, normals.observations)
+            }
+            SolverKind::Iterative => {
+                let clock = std::time::Instant::now();
+                let source = RowSource {
+                    unknowns: u,
+                    observations: n_obs,
+                    init,
+                    row,
+                };
+                progress.stage("right-hand side", 0);
+                let rhs = source.right_hand_side()?;
+                assembly_seconds += clock.elapsed().as_secs_f64();
+                let clock = std::time::Instant::now();
+                let lambda = fixed_lambda(&setup.regularization);
+                let pass_weights: Vec<f64> = (0..n_obs)
+                    .map(|i| base_weights[i] * robust_factor[i])
+                    .collect();
+                let scalar = ScalarNormalOperator {
+                    set,
+                    builder: &builder,
+                    weights: &pass_weights,
+                };
+                let normal_times = |p: &[f64]| -> Result<Vec<f64>> {
+                    if builder.rows_are_scalar() {
+                        scalar.normal_times(p)
+                    } else {
+                        source.normal_times(p)
+                    }
+                };
+                let it = solve_iterative(
+                    &source,
+                    &normal_times,
+                    &rhs,
+                    order_groups.clone(),
                     &prior,
-                    &normals.b,
-                    normals.y_w_y,
-                    normals.observations,
-                )
-                .choose()
-                .lambda
+                    lambda,
+                    warm_start.as_deref(),
+                    progress,
+                )?;
+                solve_seconds += clock.elapsed().as_secs_f64();
+                cg_iterations += it.iterations;
+                cg_residual = Some(it.relative_residual);
+                if !it.converged {
+                    if it.relative_residual > 1e-6 {
+                        return Err(Error::invalid(format!(
+                            "the conjugate gradients did not converge ({} steps, relative residual {:.1e}): the data \
+                             may not determine every coefficient; lower --lmax, regularise (damping:λ, kaula:A,p) \
+                             or use --solver direct",
+                            it.iterations, it.relative_residual
+                        )));
+                    }
+                    warnings.push(format!(
+                        "the conjugate gradients stopped at relative residual {:.1e} after {} steps (tolerance {CG_TOLERANCE:e})",
+                        it.relative_residual, it.iterations
+                    ));
+                }
+                warm_start = Some(it.x.clone());
+                let solution = Solution {
+                    x: it.x,
+                    covariance_diagonal: it.approximate_covariance_diagonal,
+                    condition_estimate: f64::NAN,
+                };
+                (solution, lambda, rhs.observations)
             }
         };
-        let solution = solve(&normals.n, &prior, lambda, &normals.b)?;
         let x_full = layout.expand(&solution.x);
         let residuals = predict_all(&builder, set, &x_full)?;
         let residuals: Vec<f64> = set
@@ -579,7 +699,7 @@ pub fn fit_observations_with_progress(
             .map(|i| base_weights[i] * robust_factor[i] * residuals[i] * residuals[i])
             .sum();
         let trace_h = effective_parameters(&prior, lambda, &solution.covariance_diagonal);
-        let dof = normals.observations as f64 - trace_h;
+        let dof = used as f64 - trace_h;
         iterations.push(IterationReport {
             iteration: pass,
             relative_change,
@@ -684,10 +804,9 @@ pub fn fit_observations_with_progress(
         .external
         .as_ref()
         .map(|e| block(layout.external_offset(), e));
-    if let Some(epoch) = setup.secular_epoch_year {
-        model
-            .attributes
-            .insert("epoch_year".into(), format!("{epoch}"));
+    if let (Some(epoch), Some(r)) = (setup.secular_epoch_year, &rates) {
+        // the model file carries the rates (dC_dt, dS_dt with σ) and the epoch
+        model.set_secular(epoch, r.clone())?;
     }
     if !setup.fixed_degrees.is_empty() {
         let list: Vec<String> = setup.fixed_degrees.iter().map(|l| l.to_string()).collect();
@@ -710,14 +829,40 @@ pub fn fit_observations_with_progress(
     model
         .attributes
         .insert("fit_residual_rms".into(), format!("{residual_rms}"));
+    let covariance = match plan.kind {
+        SolverKind::Direct => "posterior covariance diagonal",
+        SolverKind::Iterative => {
+            "APPROXIMATE posterior covariance diagonal (inverse of the block-diagonal-by-order \
+             preconditioner of the iterative solver; coupling between orders neglected)"
+        }
+    };
     model.attributes.insert(
         "fit_sigma_convention".into(),
         if sigmas_scaled {
-            "posterior covariance diagonal scaled by the a-posteriori variance factor chi2/dof (not every observation has sigma)".into()
+            format!("{covariance} scaled by the a-posteriori variance factor chi2/dof (not every observation has sigma)")
         } else {
-            "formal posterior covariance diagonal from the input sigma, unscaled".into()
+            format!("formal {covariance} from the input sigma, unscaled")
         },
     );
+    model.attributes.insert(
+        "fit_solver".into(),
+        match plan.kind {
+            SolverKind::Direct => plan.kind.to_string(),
+            SolverKind::Iterative => format!(
+                "{}, {cg_iterations} steps, relative residual {:.1e} (tolerance {CG_TOLERANCE:e})",
+                plan.kind,
+                cg_residual.unwrap_or(f64::NAN)
+            ),
+        },
+    );
+    if plan.kind == SolverKind::Iterative {
+        warnings.push(
+            "σ from the iterative solver are approximate (block-diagonal-by-order inverse, coupling between \
+             orders neglected); χ²/dof uses the same approximation for the effective parameters; the \
+             condition number is not estimated; use --solver direct for exact σ"
+                .into(),
+        );
+    }
     Ok(FitResult {
         model,
         rates,
@@ -733,8 +878,26 @@ pub fn fit_observations_with_progress(
         datasets,
         iterations,
         downweighted_rows,
+        solver: SolverReport {
+            iterations: (plan.kind == SolverKind::Iterative).then_some(cg_iterations),
+            relative_residual: cg_residual,
+            plan,
+            assembly_seconds,
+            solve_seconds,
+        },
         warnings,
     })
+}
+
+/// λ of a regularisation that fixes it (GCV chooses it from the spectrum of N instead).
+fn fixed_lambda(regularization: &Regularization) -> f64 {
+    match regularization {
+        Regularization::None => 0.0,
+        Regularization::Damping(l) => *l,
+        Regularization::Kaula { .. } => 1.0,
+        // the solver choice keeps GCV on the direct path
+        Regularization::Gcv | Regularization::KaulaGcv { .. } => f64::NAN,
+    }
 }
 
 /// tr H = u − λ Σ P_ii [(N + λP)⁻¹]_ii.

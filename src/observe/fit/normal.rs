@@ -73,17 +73,8 @@ where
         let end = (start + BLOCK_POINTS).min(count);
         let nb = end - start;
         let cols = &mut block[..u * nb];
-        let wy: crate::error::Result<Vec<(f64, f64)>> = cols
-            .par_chunks_mut(u)
-            .enumerate()
-            .map_init(&init, |scratch, (k, col)| {
-                let (w, y) = row(start + k, scratch, col)?;
-                let sw = w.sqrt();
-                col.iter_mut().for_each(|v| *v *= sw);
-                Ok((sw, sw * y))
-            })
-            .collect();
-        for (k, (sw, v)) in wy?.into_iter().enumerate() {
+        let wy = fill_weighted_columns(u, cols, |k| start + k, &init, &row)?;
+        for (k, (sw, v)) in wy.into_iter().enumerate() {
             sqrt_wy[k] = v;
             used += usize::from(sw > 0.0);
         }
@@ -112,6 +103,30 @@ where
         y_w_y,
         observations: used,
     })
+}
+
+/// Fills the columns of `cols` (u × k, column-major) with the weighted design rows √w_i a_i
+/// of observations `index(0..k)`, in parallel, and returns (√w_i, √w_i y_i) per column.
+pub(super) fn fill_weighted_columns<S, I, F>(
+    u: usize,
+    cols: &mut [f64],
+    index: impl Fn(usize) -> usize + Sync + Send,
+    init: &I,
+    row: &F,
+) -> crate::error::Result<Vec<(f64, f64)>>
+where
+    I: Fn() -> S + Sync + Send,
+    F: Fn(usize, &mut S, &mut [f64]) -> crate::error::Result<(f64, f64)> + Sync + Send,
+{
+    cols.par_chunks_mut(u)
+        .enumerate()
+        .map_init(init, |scratch, (k, col)| {
+            let (w, y) = row(index(k), scratch, col)?;
+            let sw = w.sqrt();
+            col.iter_mut().for_each(|v| *v *= sw);
+            Ok((sw, sw * y))
+        })
+        .collect()
 }
 
 /// Model values A x at every point (parallel; one design row per point).

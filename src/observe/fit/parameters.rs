@@ -101,6 +101,29 @@ impl ParameterLayout {
         self.free.iter().map(|&i| self.kind[i]).collect()
     }
 
+    /// The free unknowns grouped by order m (internal, rate and external unknowns of one
+    /// order together), as indices into the free vector; orders without free unknowns are
+    /// left out. The blocks of the iterative solver's preconditioner.
+    pub fn free_groups_by_order(&self) -> Vec<Vec<usize>> {
+        let mut order = self.internal.orders();
+        if self.secular_variation {
+            order.extend(self.internal.orders());
+        }
+        if let Some(e) = &self.external {
+            order.extend(e.orders());
+        }
+        let top = self
+            .external
+            .as_ref()
+            .map_or(self.internal.lmax, |e| e.lmax.max(self.internal.lmax));
+        let mut groups = vec![Vec::new(); top + 1];
+        for (k, &full) in self.free.iter().enumerate() {
+            groups[order[full]].push(k);
+        }
+        groups.retain(|g| !g.is_empty());
+        groups
+    }
+
     /// The full vector from the free one (fixed unknowns zero).
     pub fn expand(&self, free_values: &[f64]) -> Vec<f64> {
         let mut full = vec![0.0; self.full_len()];
@@ -132,5 +155,13 @@ mod tests {
         assert_eq!(full[p.internal.c_index(0, 0)], 0.0);
         assert_eq!(full[p.internal.c_index(2, 0)], 1.0);
         assert_eq!(full[p.external_offset()], 0.0);
+        // every free unknown in exactly one order group; order 0 holds the zonal terms
+        let groups = p.free_groups_by_order();
+        let mut seen: Vec<usize> = groups.iter().flatten().copied().collect();
+        seen.sort_unstable();
+        assert_eq!(seen, (0..p.free_len()).collect::<Vec<_>>());
+        assert_eq!(groups.len(), 4);
+        // order 0: C_20, C_30 (internal and rate), C_10 external
+        assert_eq!(groups[0].len(), 2 + 2 + 1);
     }
 }

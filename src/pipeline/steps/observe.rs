@@ -10,7 +10,9 @@ use crate::io::grid::write::{write_grid, GridFile};
 use crate::io::model::write_model;
 use crate::observe::fit::functional::ModelSpace;
 use crate::observe::fit::observation::PointConversion;
-use crate::observe::fit::{fit_observations, FitSetup, ObservationSet, Regularization, Robust};
+use crate::observe::fit::{
+    fit_observations, FitSetup, ObservationSet, Regularization, Robust, SolverRequest,
+};
 use crate::observe::gaps::GapPolicy;
 use crate::observe::gridding::{grid_points, GriddingMethod, GriddingOptions};
 use crate::observe::points::PointSet;
@@ -255,6 +257,7 @@ pub fn fit(name: &str, step: &FitStep, env: &StepEnv) -> Result<StepOutcome> {
         secular_epoch_year: step.epoch,
         start: None,
         robust: step.robust.as_deref().map(Robust::parse).transpose()?,
+        solver: SolverRequest::parse(step.solver_spec())?,
     };
     let result = fit_observations(&set, &setup)?;
     let mut model = result.model.clone();
@@ -329,8 +332,23 @@ pub fn fit(name: &str, step: &FitStep, env: &StepEnv) -> Result<StepOutcome> {
         vec!["χ²/dof".into(), format!("{:.3}", result.chi2_per_dof)],
         vec![
             "condition estimate".into(),
-            format!("{:.3e}", result.condition_estimate),
+            if result.condition_estimate.is_finite() {
+                format!("{:.3e}", result.condition_estimate)
+            } else {
+                "not estimated (iterative solver)".into()
+            },
         ],
+        vec![
+            "solver".into(),
+            match (result.solver.iterations, result.solver.relative_residual) {
+                (Some(steps), Some(r)) => format!(
+                    "{}: {steps} steps, relative residual {r:.1e}; σ approximate",
+                    result.solver.plan.kind
+                ),
+                _ => result.solver.plan.kind.to_string(),
+            },
+        ],
+        vec!["solver choice".into(), result.solver.plan.reason.clone()],
     ];
     out.report.push((
         ReportPart::Models,
