@@ -6,3 +6,17 @@ pub mod observe;
 pub mod points;
 pub mod rotation;
 pub mod transform;
+
+/// Prints a benchmark result as one JSON line (`--json`) or as the line of text `text` makes.
+pub fn print_line_or_json<T: serde::Serialize>(
+    result: &T,
+    json: bool,
+    text: impl FnOnce() -> String,
+) -> anyhow::Result<()> {
+    if json {
+        println!("{}", serde_json::to_string(result)?);
+    } else {
+        println!("{}", text());
+    }
+    Ok(())
+}

@@ -67,15 +67,12 @@ pub fn run_nodes_bench(args: &NodesBenchArgs) -> anyhow::Result<NodesBenchResult
 
 /// Prints a result as one line of text or one JSON line.
 pub fn print_nodes_result(r: &NodesBenchResult, json: bool) -> anyhow::Result<()> {
-    if json {
-        println!("{}", serde_json::to_string(r)?);
-    } else {
-        println!(
+    super::print_line_or_json(r, json, || {
+        format!(
             "Gauss–Legendre rule of {} points on {} threads: {:.4} s (median of {}), Σw − 2 = {:.1e}",
             r.n, r.threads, r.nodes_s, r.repeat, r.weight_sum_error
-        );
-    }
-    Ok(())
+        )
+    })
 }
 
 #[cfg(test)]

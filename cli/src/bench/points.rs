@@ -94,15 +94,12 @@ pub fn run_points_bench(args: &PointsBenchArgs) -> anyhow::Result<PointsBenchRes
 
 /// Prints a result as one line of text or one JSON line.
 pub fn print_points_result(r: &PointsBenchResult, json: bool) -> anyhow::Result<()> {
-    if json {
-        println!("{}", serde_json::to_string(r)?);
-    } else {
-        println!(
+    super::print_line_or_json(r, json, || {
+        format!(
             "point synthesis: {} points at degree {} on {} threads: {:.3} s (median of {}), {:.2e} (l, m) terms/s, peak RSS {:.0} MiB",
             r.points, r.lmax, r.threads, r.evaluate_s, r.repeat, r.terms_per_s, r.peak_rss_mb
-        );
-    }
-    Ok(())
+        )
+    })
 }
 
 #[cfg(test)]

@@ -90,10 +90,8 @@ pub fn run_rotation_bench(args: &RotationBenchArgs) -> anyhow::Result<RotationBe
 
 /// Prints a result as one line of text or one JSON line.
 pub fn print_rotation_result(r: &RotationBenchResult, json: bool) -> anyhow::Result<()> {
-    if json {
-        println!("{}", serde_json::to_string(r)?);
-    } else {
-        println!(
+    super::print_line_or_json(r, json, || {
+        format!(
             "rotation: degree {} on {} threads: {:.3} s per rotation (median of {}); rotation then inverse: worst error {:.2e} of the largest coefficient, goal {:.0e}: {}; peak RSS {:.0} MiB",
             r.lmax,
             r.threads,
@@ -103,9 +101,8 @@ pub fn print_rotation_result(r: &RotationBenchResult, json: bool) -> anyhow::Res
             r.goal,
             if r.pass { "pass" } else { "FAIL" },
             r.peak_rss_mb
-        );
-    }
-    Ok(())
+        )
+    })
 }
 
 #[cfg(test)]

@@ -16,6 +16,24 @@ fn p(path: &Path) -> &str {
     path.to_str().unwrap()
 }
 
+/// Runs `kugel tapers ARGS -o OUT`, which must succeed, and returns the file with its
+/// concentration factors.
+fn tapers_file(args: &[&str], out: &Path) -> (NcFile, Vec<f64>) {
+    let mut all = vec!["tapers"];
+    all.extend_from_slice(args);
+    all.extend_from_slice(&["-o", p(out)]);
+    let o = run_kugel(&all);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let f = NcFile::open(out).unwrap();
+    let conc = f
+        .read_variable_as_f64("concentration")
+        .unwrap()
+        .iter()
+        .copied()
+        .collect();
+    (f, conc)
+}
+
 fn model_file(dir: &Path, lmax: usize) -> std::path::PathBuf {
     let m = crate::support::random_model(lmax, 17, |l| 1.0 / (1.0 + l as f64).powi(2));
     let path = dir.join("m.nc");
@@ -70,25 +88,17 @@ fn rotate_pole_moves_the_point_to_the_north_pole() {
 fn tapers_file_holds_sorted_windows_and_the_shannon_number() {
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("t.nc");
-    let o = run_kugel(&[
-        "tapers",
-        "--cap-radius-deg",
-        "20",
-        "--lmax",
-        "10",
-        "-o",
-        p(&out),
-        "--centre",
-        "40,-100",
-    ]);
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    let f = NcFile::open(&out).unwrap();
-    let conc: Vec<f64> = f
-        .read_variable_as_f64("concentration")
-        .unwrap()
-        .iter()
-        .copied()
-        .collect();
+    let (f, conc) = tapers_file(
+        &[
+            "--cap-radius-deg",
+            "20",
+            "--lmax",
+            "10",
+            "--centre",
+            "40,-100",
+        ],
+        &out,
+    );
     assert_eq!(conc.len(), 121);
     assert!(conc.windows(2).all(|w| w[0] >= w[1]));
     let n: f64 = conc.iter().sum();
@@ -198,25 +208,8 @@ fn polygon_and_mask_regions_give_windows_and_localised_spectra() {
     )
     .unwrap();
     let out = dir.path().join("t.nc");
-    let o = run_kugel(&[
-        "tapers",
-        "--region",
-        &format!("polygon:{}", p(&ring)),
-        "--lmax",
-        "8",
-        "-o",
-        p(&out),
-        "--keep",
-        "20",
-    ]);
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
-    let f = NcFile::open(&out).unwrap();
-    let conc: Vec<f64> = f
-        .read_variable_as_f64("concentration")
-        .unwrap()
-        .iter()
-        .copied()
-        .collect();
+    let region = format!("polygon:{}", p(&ring));
+    let (f, conc) = tapers_file(&["--region", &region, "--lmax", "8", "--keep", "20"], &out);
     assert_eq!(conc.len(), 20);
     assert!(
         conc.windows(2).all(|w| w[0] >= w[1]) && conc[0] > 0.9,

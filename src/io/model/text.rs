@@ -450,7 +450,9 @@ pub fn model_text(coeffs: &Coefficients, provenance: &Provenance) -> String {
         }
     }
     for (k, v) in &coeffs.attributes {
-        if !extra.iter().any(|(e, _)| e == k) && !(k == "epoch_year" && secular.is_some()) {
+        // the epoch of a rate-carrying model is written with the rates, not as a loose attribute
+        let written_with_rates = k == "epoch_year" && secular.is_some();
+        if !written_with_rates && !extra.iter().any(|(e, _)| e == k) {
             extra.push((k.clone(), v.clone()));
         }
     }
