@@ -3,7 +3,7 @@
 //!
 //! A scalar row is a_i(C_lm) = k_l(r_i) P̄_lm(cos θ_i) cos mλ_i, a_i(S_lm) = k_l P̄_lm sin mλ_i
 //! ([`super::functional`]). Per observation the columns k_l P̄_lm are computed order by order
-//! (order-major, [`LegendreTable::fill_order_major`]) into one buffer; the synthesis
+//! (order-major, [`super::design::LegendreTable::fill_order_major`]) into one buffer; the synthesis
 //! a_iᵀ p = Σ_m cos mλ Σ_l k_l P̄_lm C_lm + sin mλ Σ_l k_l P̄_lm S_lm then runs over contiguous
 //! runs of p (the order-major layout of [`UnknownLayout`]), and its adjoint adds
 //! w_i (a_iᵀ p) cos mλ k_l P̄_lm (and the sine part) into the same runs of the result. Two
