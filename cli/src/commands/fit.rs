@@ -11,8 +11,6 @@ use super::CommandContext;
 use crate::args::data_sets::DataSetArg;
 use crate::args::PointInputArgs;
 use crate::progress_bar::TerminalProgress;
-use kugel::field::degree_factors::PotentialScale;
-use kugel::field::quantity::QuantityFamily;
 use kugel::field::{Ellipsoid, NormalField, Quantity};
 use kugel::io::model::write_model;
 use kugel::io::provenance::Provenance;
@@ -203,7 +201,12 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
             index,
         )?;
     }
-    let space = model_space(&observations, args, body_radius_m)?;
+    let space = ModelSpace::for_observations(
+        &observations.observations,
+        body_radius_m,
+        args.gm_m3_s2,
+        "--gm-m3-s2",
+    )?;
     if args.secular_variation != args.epoch.is_some() {
         anyhow::bail!(kugel::Error::invalid(
             "--secular-variation and --epoch YEAR go together"
@@ -264,44 +267,6 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
         crate::outputs::wrote(format!("wrote {}", args.output.display()));
     }
     Ok(())
-}
-
-/// What the coefficients are, from the quantities observed.
-fn model_space(
-    set: &ObservationSet,
-    args: &Args,
-    body_radius_m: f64,
-) -> anyhow::Result<ModelSpace> {
-    let family = set
-        .observations
-        .iter()
-        .map(|o| o.quantity.family())
-        .find(|f| *f != QuantityFamily::Generic)
-        .unwrap_or(QuantityFamily::Generic);
-    Ok(match family {
-        QuantityFamily::Generic => ModelSpace::Generic {
-            reference_radius_m: body_radius_m,
-        },
-        QuantityFamily::Magnetic => ModelSpace::Magnetic {
-            reference_radius_m: body_radius_m,
-        },
-        QuantityFamily::Gravity => {
-            let gm = args.gm_m3_s2.ok_or_else(|| {
-                kugel::Error::invalid(
-                    "gravity quantities need the body's GM: pass --gm-m3-s2 (and --body-radius-km for R)",
-                )
-            })?;
-            if !(gm.is_finite() && gm > 0.0) {
-                anyhow::bail!(kugel::Error::invalid(format!(
-                    "--gm-m3-s2 {gm} must be a positive number"
-                )));
-            }
-            ModelSpace::Gravity(PotentialScale {
-                reference_radius_m: body_radius_m,
-                gm_m3_s2: gm,
-            })
-        }
-    })
 }
 
 fn print_summary(args: &Args, set: &ObservationSet, setup: &FitSetup, result: &FitResult) {

@@ -51,6 +51,43 @@ pub enum ModelSpace {
 }
 
 impl ModelSpace {
+    /// The space that `observations` call for on a body of reference radius
+    /// `reference_radius_m`: the family of the first row that is not a plain value (generic
+    /// when all are). Gravity needs the body's GM, `gm_m3_s2`, finite and positive;
+    /// `gm_setting` names where the user gives it (a flag or a config key) in the refusal.
+    pub fn for_observations(
+        observations: &[Observation],
+        reference_radius_m: f64,
+        gm_m3_s2: Option<f64>,
+        gm_setting: &str,
+    ) -> Result<ModelSpace> {
+        let family = observations
+            .iter()
+            .map(|o| o.quantity.family())
+            .find(|f| *f != QuantityFamily::Generic)
+            .unwrap_or(QuantityFamily::Generic);
+        Ok(match family {
+            QuantityFamily::Generic => ModelSpace::Generic { reference_radius_m },
+            QuantityFamily::Magnetic => ModelSpace::Magnetic { reference_radius_m },
+            QuantityFamily::Gravity => {
+                let gm = gm_m3_s2.ok_or_else(|| {
+                    Error::invalid(format!(
+                        "{gm_setting}: the body's GM is needed to fit gravity quantities"
+                    ))
+                })?;
+                if !(gm.is_finite() && gm > 0.0) {
+                    return Err(Error::invalid(format!(
+                        "{gm_setting} {gm} must be a positive number"
+                    )));
+                }
+                ModelSpace::Gravity(PotentialScale {
+                    reference_radius_m,
+                    gm_m3_s2: gm,
+                })
+            }
+        })
+    }
+
     pub fn reference_radius_m(&self) -> f64 {
         match *self {
             ModelSpace::Generic { reference_radius_m }

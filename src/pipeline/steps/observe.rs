@@ -3,8 +3,6 @@
 use super::{ReportPart, StepEnv, StepOutcome};
 use crate::coeffs::Coefficients;
 use crate::error::{Error, Result};
-use crate::field::degree_factors::PotentialScale;
-use crate::field::quantity::QuantityFamily;
 use crate::field::{Ellipsoid, NormalField, Quantity};
 use crate::io::grid::write::{write_grid, GridFile};
 use crate::io::model::write_model;
@@ -214,35 +212,16 @@ fn fit_observations_of(step: &FitStep, env: &StepEnv) -> Result<ObservationSet> 
     Ok(set)
 }
 
-/// What the fitted coefficients are, from the observed quantities and the body.
-fn fit_space(set: &ObservationSet, env: &StepEnv) -> Result<ModelSpace> {
-    let body = &env.job.config.body;
-    let family = set
-        .observations
-        .iter()
-        .map(|o| o.quantity.family())
-        .find(|f| *f != QuantityFamily::Generic)
-        .unwrap_or(QuantityFamily::Generic);
-    Ok(match family {
-        QuantityFamily::Generic => ModelSpace::Generic {
-            reference_radius_m: body.radius_m,
-        },
-        QuantityFamily::Magnetic => ModelSpace::Magnetic {
-            reference_radius_m: body.radius_m,
-        },
-        QuantityFamily::Gravity => ModelSpace::Gravity(PotentialScale {
-            reference_radius_m: body.radius_m,
-            gm_m3_s2: body
-                .gm_m3_s2
-                .ok_or_else(|| Error::invalid("body.gm_m3_s2: needed to fit gravity quantities"))?,
-        }),
-    })
-}
-
 pub fn fit(name: &str, step: &FitStep, env: &StepEnv) -> Result<StepOutcome> {
     let lmax = step.lmax;
     let set = fit_observations_of(step, env)?;
-    let space = fit_space(&set, env)?;
+    let body = &env.job.config.body;
+    let space = ModelSpace::for_observations(
+        &set.observations,
+        body.radius_m,
+        body.gm_m3_s2,
+        "body.gm_m3_s2",
+    )?;
     let regularization = Regularization::parse(step.regularization_spec())?;
     let setup = FitSetup {
         lmax,
