@@ -6,6 +6,12 @@ of N calls each, in rounds alternating with the benchmark so machine load affect
 The Python calls take their plans from the native module's cache, so the ratio that counts is
 a call's time over the engine's transform time alone. Prints one JSON line.
 
+A second figure does not depend on machine load drifting between the benchmark process and
+this one: inside this process, every public call is paired with the engine's own timing of the
+same transform (`kugel._native.engine_transform_seconds`: the plan's synthesis and analysis as
+`kugel bench` times them, plan from the same cache), and the medians of both are compared
+(`*_overhead_in_process`).
+
     python python/bench/overhead.py --kugel target/release/kugel --lmax 255 --calls 20
 """
 
@@ -56,6 +62,7 @@ def main():
         into.append(time.perf_counter() - t)
 
     bench, py_syn, py_ana, cold_syn, cold_ana = [], [], [], [], []
+    engine_syn, engine_ana, paired_syn, paired_ana = [], [], [], []
     for _ in range(args.rounds):
         out = subprocess.run([args.kugel, "bench", "--lmax", str(L), "--json", "--repeat",
                               str(args.repeat)], capture_output=True, text=True, check=True)
@@ -67,6 +74,14 @@ def main():
             timed(lambda: kugel.synthesize(model), cold_syn)
             evict()
             timed(lambda: kugel.analyze(values, grid="gauss"), cold_ana)
+            # warm again, then the engine alone and the public calls back to back
+            kugel.synthesize(model)
+            kugel.analyze(values, grid="gauss")
+            s_engine, a_engine = kugel._native.engine_transform_seconds(model)
+            engine_syn.append(s_engine)
+            engine_ana.append(a_engine)
+            timed(lambda: kugel.synthesize(model), paired_syn)
+            timed(lambda: kugel.analyze(values, grid="gauss"), paired_ana)
     med = statistics.median
     syn = med(b["synthesis_s"] for b in bench)
     ana = med(b["analysis_s"] for b in bench)
@@ -89,6 +104,10 @@ def main():
         "synthesize_overhead_vs_transform": med(py_syn) / syn - 1.0,
         "analyze_overhead_vs_transform": med(py_ana) / ana - 1.0,
         # what a call would cost if it built its plan each time, as one command-line run does
+        "engine_synthesis_in_process_s": med(engine_syn),
+        "engine_analysis_in_process_s": med(engine_ana),
+        "synthesize_overhead_in_process": med(paired_syn) / med(engine_syn) - 1.0,
+        "analyze_overhead_in_process": med(paired_ana) / med(engine_ana) - 1.0,
         "synthesize_overhead_vs_plan_plus_transform": med(py_syn) / (plan + syn) - 1.0,
         "analyze_overhead_vs_plan_plus_transform": med(py_ana) / (plan + ana) - 1.0,
     }

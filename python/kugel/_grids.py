@@ -147,6 +147,34 @@ def field_arguments(quantity, altitude_km, radius_km, filter, normal_field, down
     )
 
 
+_COORDINATES = {}
+_COORDINATES_KEPT = 8
+
+
+def _map_coordinates(lat, lon):
+    """The latitude and longitude coordinates of a map, built once per grid.
+
+    Building xarray's coordinate indexes costs about as much as the rest of a call's Python
+    side, so the last few grids' ``xarray.Coordinates`` are kept, keyed by the coordinate
+    values themselves, with read-only arrays so that no result can change another's.
+    """
+    key = (lat.tobytes(), lon.tobytes())
+    found = _COORDINATES.get(key)
+    if found is not None:
+        return found
+    lat = lat.copy()
+    lon = lon.copy()
+    lat.flags.writeable = False
+    lon.flags.writeable = False
+    coords = {"lat": ("lat", lat, LAT_ATTRS), "lon": ("lon", lon, LON_ATTRS)}
+    if hasattr(_xr, "Coordinates"):
+        coords = _xr.Coordinates(coords)
+    if len(_COORDINATES) >= _COORDINATES_KEPT:
+        _COORDINATES.pop(next(iter(_COORDINATES)))
+    _COORDINATES[key] = coords
+    return coords
+
+
 def _check_model(model):
     if not isinstance(model, Model):
         raise TypeError(f"expected a kugel.Model, got {type(model).__name__}")
@@ -203,10 +231,7 @@ def synthesize(model, grid="gauss", quantity="value", altitude_km=0.0, filter=No
         if len(variables) == 1:
             return variables[0]["data"]
         return {v["name"]: v["data"] for v in variables}
-    coords = {
-        "lat": ("lat", out["lat"], LAT_ATTRS),
-        "lon": ("lon", out["lon"], LON_ATTRS),
-    }
+    coords = _map_coordinates(out["lat"], out["lon"])
     common = dict(out["attributes"])
     common["Conventions"] = "CF-1.8"
     arrays = {}

@@ -8,7 +8,9 @@
 
 use pyo3::prelude::*;
 
+mod buffers;
 mod complex;
+mod engine_timing;
 mod errors;
 mod field_options;
 mod model;
@@ -44,5 +46,9 @@ fn native(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(regional::localised_compare, m)?)?;
     m.add_function(wrap_pyfunction!(complex::to_complex, m)?)?;
     m.add_function(wrap_pyfunction!(complex::from_complex, m)?)?;
+    m.add_function(wrap_pyfunction!(
+        engine_timing::engine_transform_seconds,
+        m
+    )?)?;
     Ok(())
 }

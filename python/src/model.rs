@@ -25,24 +25,30 @@ fn packed(name: &str, a: ArrayView2<'_, f64>, lmax: usize) -> kugel::Result<Vec<
             lmax + 1
         )));
     }
-    let mut out = vec![0.0; packed_len(lmax)];
-    for l in 0..=lmax {
-        for m in 0..=l {
-            out[packed_index(l, m)] = a[[l, m]];
+    let mut out = Vec::with_capacity(packed_len(lmax));
+    // row l holds (l, 0..=l), the packed layout's next l + 1 entries: copied as slices when
+    // the rows are contiguous, as every array numpy creates in C order is
+    for (l, row) in a.rows().into_iter().enumerate() {
+        match row.as_slice() {
+            Some(values) => out.extend_from_slice(&values[..=l]),
+            None => out.extend(row.iter().take(l + 1)),
         }
     }
+    debug_assert_eq!(out.len(), packed_len(lmax));
     Ok(out)
 }
 
 /// A square (L+1, L+1) array, zero above the diagonal, from packed values.
 fn square(packed_values: &[f64], lmax: usize) -> Array2<f64> {
-    let mut out = Array2::zeros((lmax + 1, lmax + 1));
-    for l in 0..=lmax {
-        for m in 0..=l {
-            out[[l, m]] = packed_values[packed_index(l, m)];
-        }
+    let n = lmax + 1;
+    // written once, row by row: the l + 1 packed values, then the zeros above the diagonal
+    let mut out = Vec::with_capacity(n * n);
+    for l in 0..n {
+        let start = packed_index(l, 0);
+        out.extend_from_slice(&packed_values[start..=start + l]);
+        out.resize(out.len() + n - l - 1, 0.0);
     }
-    out
+    Array2::from_shape_vec((n, n), out).expect("(L+1)² values")
 }
 
 fn array_attr<'py>(

@@ -10,6 +10,7 @@ use numpy::{PyArray1, PyArray2, PyReadonlyArray1, PyReadonlyArray2};
 use pyo3::prelude::*;
 use pyo3::types::{PyDict, PyList};
 
+use crate::buffers;
 use crate::errors::IntoPyResult;
 use crate::field_options::{target_surface, FieldOptions};
 use crate::model::{coefficients_of, model_dict};
@@ -18,7 +19,7 @@ use kugel::coeffs::{Coefficients, Normalization};
 use kugel::error::Error;
 use kugel::field::cautions;
 use kugel::field::synthesis::{longitude_densified, synthesize_on_densified_plan};
-use kugel::io::grid::layout::{engine_grid, engine_order_field, first_infinite};
+use kugel::io::grid::layout::{engine_grid, engine_order_field_in, first_infinite};
 use kugel::io::grid::read::UserGrid;
 use kugel::io::grid::write::grid_kind_name;
 use kugel::progress::Silent;
@@ -88,7 +89,7 @@ fn user_grid(
     } else {
         field.reversed_axes()
     };
-    let values = engine_order_field(lat_axis, lon_axis, by_lat_lon);
+    let values = engine_order_field_in(lat_axis, lon_axis, by_lat_lon, buffers::take());
     if let Some((i, k)) = first_infinite(&values, lat_axis, lon_axis) {
         return Err(Error::format(
             &path,
@@ -156,12 +157,14 @@ pub fn analyze_grid<'py>(
     let lon = lon_deg.as_array().to_vec();
     let (model, notes) = py
         .detach(|| -> kugel::Result<(Coefficients, Vec<String>)> {
-            let user = user_grid(view, &lat, &lon, lat_first, &src)?;
+            let mut user = user_grid(view, &lat, &lon, lat_first, &src)?;
             user.require_complete()?;
             let lmax = lmax.unwrap_or(user.grid.max_exact_degree);
             user.check_degree(lmax)?;
             let plan = plan_cache::plan(lmax, &user.grid)?;
-            let mut model = plan.analyse(&user.field)?;
+            let analysed = plan.analyse(&user.field);
+            buffers::give_back(std::mem::take(&mut user.field).into_raw_vec_and_offset().0);
+            let mut model = analysed?;
             model.reference_radius_m = reference_radius_m.unwrap_or(EARTH_MEAN_RADIUS_M);
             model.units = user.units.clone();
             model.attributes.insert(
@@ -176,7 +179,10 @@ pub fn analyze_grid<'py>(
                 grid_kind_name(user.grid.kind).into(),
             );
             let phase = condon_shortley.unwrap_or(normalization.default_condon_shortley());
-            Ok((model.converted(normalization, phase)?, user.notes))
+            if (model.normalization, model.condon_shortley) != (normalization, phase) {
+                model = model.converted(normalization, phase)?;
+            }
+            Ok((model, user.notes))
         })
         .py_err()?;
     Ok((model_dict(py, &model)?, notes))

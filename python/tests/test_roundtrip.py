@@ -125,3 +125,31 @@ def test_cached_plans_give_the_same_bits_from_many_threads(model30):
         assert np.array_equal(m, first)
     for m in models:
         assert np.array_equal(m.C, models[0].C) and np.array_equal(m.S, models[0].S)
+
+
+def test_reused_buffers_and_coordinates_keep_results_apart(model30):
+    # analysis copies each map into a working buffer kept between calls, and synthesis keeps
+    # the coordinates of recent grids: alternating two fields of one shape, and changing a
+    # result's coordinate attributes, must leave every other result as it was
+    other = random_model(30, seed=7)
+    map_a = kugel.synthesize(model30)
+    map_b = kugel.synthesize(other)
+    first = kugel.analyze(map_a.values, grid="gauss")
+    kugel.analyze(map_b.values, grid="gauss")
+    again = kugel.analyze(map_a.values, grid="gauss")
+    assert np.array_equal(first.C, again.C) and np.array_equal(first.S, again.S)
+
+    map_a.lat.attrs["note"] = "changed by the user"
+    fresh = kugel.synthesize(model30)
+    assert "note" not in fresh.lat.attrs and "note" not in map_b.lat.attrs
+    assert np.array_equal(fresh.lat.values, map_a.lat.values)
+    # the kept coordinate values cannot be changed in place through a result
+    with pytest.raises(ValueError):
+        map_a.lat.values[0] = 0.0
+    assert fresh.lat.values[0] != 0.0
+
+
+def test_engine_timing_hook_times_the_same_transform(model30):
+    # the overhead benchmark's in-process reference: positive, finite seconds
+    synthesis_s, analysis_s = kugel._native.engine_transform_seconds(model30)
+    assert 0.0 < synthesis_s < 60.0 and 0.0 < analysis_s < 60.0

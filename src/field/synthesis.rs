@@ -3,11 +3,12 @@
 //! field, apply degree weights (filters), then per quantity scale a copy of the coefficients by
 //! its k_l ([`super::degree_factors`]) and synthesise once.
 
+use std::borrow::Cow;
 use std::collections::BTreeMap;
 
 use ndarray::{Array2, Zip};
 
-use crate::coeffs::Coefficients;
+use crate::coeffs::{Coefficients, Normalization};
 use crate::error::{Error, Result};
 use crate::sht::{evaluate_points, Grid, TransformPlan};
 
@@ -142,13 +143,14 @@ impl<'a> SynthesisRequest<'a> {
     }
 }
 
-/// The model after checks, conversion, normal-field removal and filtering.
-struct Prepared {
-    coeffs: Coefficients,
+/// The model after checks, conversion, normal-field removal and filtering (the model itself,
+/// borrowed, when none of them changes a value).
+struct Prepared<'m> {
+    coeffs: Cow<'m, Coefficients>,
     scale: Option<PotentialScale>,
 }
 
-fn prepare(model: &Coefficients, request: &SynthesisRequest) -> Result<Prepared> {
+fn prepare<'m>(model: &'m Coefficients, request: &SynthesisRequest) -> Result<Prepared<'m>> {
     if request.quantities.is_empty() {
         return Err(Error::invalid("no quantity requested"));
     }
@@ -171,12 +173,22 @@ fn prepare(model: &Coefficients, request: &SynthesisRequest) -> Result<Prepared>
             model.reference_radius_m
         )));
     }
-    let mut coeffs = model.to_geodesy()?;
-    coeffs.check_finite()?;
-    request.normal_field.remove_from(&mut coeffs)?;
-    if let Some(chain) = request.filter {
-        chain.apply(&mut coeffs)?;
-    }
+    let unchanged = model.normalization == Normalization::Geodesy
+        && !model.condon_shortley
+        && request.normal_field == NormalField::None
+        && request.filter.is_none();
+    let coeffs = if unchanged {
+        model.check_finite()?;
+        Cow::Borrowed(model)
+    } else {
+        let mut coeffs = model.to_geodesy()?;
+        coeffs.check_finite()?;
+        request.normal_field.remove_from(&mut coeffs)?;
+        if let Some(chain) = request.filter {
+            chain.apply(&mut coeffs)?;
+        }
+        Cow::Owned(coeffs)
+    };
     let scale = match (kind, model.gm_m3_s2) {
         (ModelKind::GravityPotential, Some(gm)) => Some(PotentialScale {
             reference_radius_m: model.reference_radius_m,
@@ -188,6 +200,16 @@ fn prepare(model: &Coefficients, request: &SynthesisRequest) -> Result<Prepared>
 }
 
 /// A copy of `coeffs` with degree l scaled by `k[l]`.
+/// [`scaled`], or `coeffs` itself when every factor is exactly 1 (a value on the reference
+/// sphere): the product would change no bit, and the copy costs a pass over the set per call.
+fn scaled_unless_unit<'c>(coeffs: &'c Coefficients, k: &[f64]) -> Cow<'c, Coefficients> {
+    if k.iter().all(|&f| f == 1.0) {
+        Cow::Borrowed(coeffs)
+    } else {
+        Cow::Owned(scaled(coeffs, k))
+    }
+}
+
 fn scaled(coeffs: &Coefficients, k: &[f64]) -> Coefficients {
     let mut out = coeffs.clone();
     out.clear_sigmas();
@@ -385,12 +407,15 @@ pub fn synthesize_with_plan(
         .iter()
         .map(|&q| scalar_factors(q, prepared.scale, s, &c))
         .collect();
-    let mut sets = Vec::with_capacity(one_pass_sets(qs));
+    let mut sets: Vec<Cow<'_, Coefficients>> = Vec::with_capacity(one_pass_sets(qs));
     for k in factors.iter().flatten() {
-        sets.push(scaled(&prepared.coeffs, k));
+        sets.push(scaled_unless_unit(&prepared.coeffs, k));
     }
     if radial {
-        sets.push(scaled(&prepared.coeffs, &magnetic_radial_factors(s, &c)));
+        sets.push(Cow::Owned(scaled(
+            &prepared.coeffs,
+            &magnetic_radial_factors(s, &c),
+        )));
     }
     progress.stage(
         "synthesising",
@@ -399,7 +424,7 @@ pub fn synthesize_with_plan(
     let mut values = if sets.is_empty() {
         Vec::new()
     } else {
-        plan.synthesise_many(&sets.iter().collect::<Vec<_>>())?
+        plan.synthesise_many(&sets.iter().map(|c| c.as_ref()).collect::<Vec<_>>())?
     };
     progress.advance(sets.len() as u64);
     drop(sets);

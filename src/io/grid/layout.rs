@@ -281,17 +281,37 @@ pub fn engine_order_field(
     lon: &LongitudeAxis,
     values: ArrayView2<'_, f64>,
 ) -> Array2<f64> {
+    engine_order_field_in(lat, lon, values, Vec::new())
+}
+
+/// [`engine_order_field`] written into `buffer` (cleared first; its allocation is reused when
+/// large enough), for callers that keep a working buffer between calls: a fresh buffer of a
+/// map's size is new memory the system hands out page by page, a reused one is not.
+pub fn engine_order_field_in(
+    lat: &LatitudeAxis,
+    lon: &LongitudeAxis,
+    values: ArrayView2<'_, f64>,
+    buffer: Vec<f64>,
+) -> Array2<f64> {
     let runs = column_runs(&lon.order);
-    let mut field = Array2::zeros((lat.order.len(), lon.order.len()));
-    for (r, &i) in lat.order.iter().enumerate() {
+    let (nlat, nlon) = (lat.order.len(), lon.order.len());
+    // built row by row with `extend`, so the buffer is written once (no zeroing first);
+    // file rows that are contiguous (C-ordered arrays, every row of a NetCDF variable)
+    // are copied as slices
+    let mut out = buffer;
+    out.clear();
+    out.reserve(nlat * nlon);
+    for &i in &lat.order {
         let source = values.row(i);
-        let mut row = field.row_mut(r);
-        for &(column, file_column, len) in &runs {
-            row.slice_mut(s![column..column + len])
-                .assign(&source.slice(s![file_column..file_column + len]));
+        for &(_, file_column, len) in &runs {
+            let part = source.slice(s![file_column..file_column + len]);
+            match part.as_slice() {
+                Some(values) => out.extend_from_slice(values),
+                None => out.extend(part.iter()),
+            }
         }
     }
-    field
+    Array2::from_shape_vec((nlat, nlon), out).expect("nlat rows of nlon values each")
 }
 
 /// Maximal runs of engine columns whose file columns are consecutive, as (first engine
@@ -317,6 +337,19 @@ pub fn first_infinite(
     lat: &LatitudeAxis,
     lon: &LongitudeAxis,
 ) -> Option<(usize, usize)> {
+    // the common case, a field with no infinite value, in one pass the compiler vectorises;
+    // the indexed search runs only to locate the value for the message
+    let clean = match field.as_slice() {
+        Some(values) => {
+            let mut blocks = values.chunks_exact(8);
+            blocks.all(|b| b.iter().fold(true, |ok, v| ok & !v.is_infinite()))
+                && blocks.remainder().iter().all(|v| !v.is_infinite())
+        }
+        None => field.iter().all(|v| !v.is_infinite()),
+    };
+    if clean {
+        return None;
+    }
     field
         .indexed_iter()
         .find(|(_, v)| v.is_infinite())
