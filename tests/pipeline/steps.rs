@@ -432,11 +432,7 @@ fn evaluate_and_synthesize_take_a_model_input_at_its_time() {
     kugel::io::model::write_model(&dir.join("still.nc"), &still, &Provenance::default()).unwrap();
     // Z at the north pole on the reference sphere: Z = −B_r = −2·g10 (axial dipole, r = a;
     // common practice), so −2·(−100 + 10·2.5) = 150 nT at 2022.5
-    std::fs::write(
-        dir.join("pole.csv"),
-        "lat,lon,quantity,value\n90,0,z,150\n",
-    )
-    .unwrap();
+    std::fs::write(dir.join("pole.csv"), "lat,lon,quantity,value\n90,0,z,150\n").unwrap();
     let config = |model_file: &str| {
         format!(
             "[body]\nradius_m = 1950000.0\n[output]\nfolder = \"out\"\nformats = [\"csv\", \"netcdf\"]\n\
@@ -454,7 +450,13 @@ fn evaluate_and_synthesize_take_a_model_input_at_its_time() {
     };
     let summary = run_job(&job, &options, &Silent).unwrap();
     let r = summary.steps.iter().find(|s| s.name == "r").unwrap();
-    let rms: f64 = r.numbers[0].1.split_whitespace().next().unwrap().parse().unwrap();
+    let rms: f64 = r.numbers[0]
+        .1
+        .split_whitespace()
+        .next()
+        .unwrap()
+        .parse()
+        .unwrap();
     assert!(rms < 1e-9, "residual at the pole {rms} nT");
     // the same file without rates: refused when the step runs, naming the step and the model
     std::fs::write(dir.join("job.toml"), config("still.nc")).unwrap();
@@ -464,5 +466,8 @@ fn evaluate_and_synthesize_take_a_model_input_at_its_time() {
         err.contains("time: 2022.5 given, but model 'sv' has no secular variation"),
         "{err}"
     );
-    assert!(err.contains("step 'm'") || err.contains("step 'r'"), "{err}");
+    assert!(
+        err.contains("step 'm'") || err.contains("step 'r'"),
+        "{err}"
+    );
 }

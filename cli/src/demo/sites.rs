@@ -131,8 +131,7 @@ fn in_cap(lat0_deg: f64, lon0_deg: f64, radius_deg: f64, rng: &mut ChaCha8Rng) -
     let (lat0, lon0) = (lat0_deg.to_radians(), lon0_deg.to_radians());
     let sin_lat = lat0.sin() * d.cos() + lat0.cos() * d.sin() * azimuth.cos();
     let lat = sin_lat.clamp(-1.0, 1.0).asin();
-    let lon = lon0
-        + (azimuth.sin() * d.sin() * lat0.cos()).atan2(d.cos() - lat0.sin() * sin_lat);
+    let lon = lon0 + (azimuth.sin() * d.sin() * lat0.cos()).atan2(d.cos() - lat0.sin() * sin_lat);
     (lat.to_degrees(), lon.to_degrees().rem_euclid(360.0))
 }
 

@@ -177,8 +177,13 @@ pub fn sample(design: &SurveyDesign, scenario: &Scenario, truth: &Truth) -> Resu
     if let Coverage::Stations(_) = design.coverage {
         // stations stand on the ground: their altitude above the reference sphere is the
         // truth topography there, rounded to the metre as written
-        let heights_m = evaluate(&truth.topography, &sites, scenario.radius_m, &[Quantity::Value])?
-            .remove(0);
+        let heights_m = evaluate(
+            &truth.topography,
+            &sites,
+            scenario.radius_m,
+            &[Quantity::Value],
+        )?
+        .remove(0);
         for (s, h) in sites.iter_mut().zip(heights_m) {
             s.altitude_km = round_to(h / 1e3, 3);
         }
@@ -188,8 +193,8 @@ pub fn sample(design: &SurveyDesign, scenario: &Scenario, truth: &Truth) -> Resu
         Sensed::Magnetic => &truth.magnetic,
     };
     let values = evaluate(model, &sites, scenario.radius_m, &design.quantities)?;
-    let noise = Normal::new(0.0, design.noise)
-        .map_err(|e| Error::invalid(format!("survey noise: {e}")))?;
+    let noise =
+        Normal::new(0.0, design.noise).map_err(|e| Error::invalid(format!("survey noise: {e}")))?;
     let mut rows = Vec::with_capacity(sites.len() * design.quantities.len());
     for (i, site) in sites.iter().enumerate() {
         for (k, &quantity) in design.quantities.iter().enumerate() {
@@ -276,7 +281,11 @@ mod tests {
             .map(|(c, r)| (r.value - c).powi(2))
             .sum::<f64>()
             / 2000.0;
-        assert!((var.sqrt() / d.noise - 1.0).abs() < 0.05, "σ {}", var.sqrt());
+        assert!(
+            (var.sqrt() / d.noise - 1.0).abs() < 0.05,
+            "σ {}",
+            var.sqrt()
+        );
     }
 
     #[test]
@@ -287,7 +296,15 @@ mod tests {
         h.sites = 300;
         let stations = sample(&h, &s, &truth).unwrap();
         let sites: Vec<Site> = stations.rows.iter().map(|r| r.site).collect();
-        let topo = evaluate(&truth.topography, &sites, s.radius_m, &[Quantity::Value])
+        // the topography on the reference sphere (a value at altitude would be continued)
+        let ground: Vec<Site> = sites
+            .iter()
+            .map(|s| Site {
+                altitude_km: 0.0,
+                ..*s
+            })
+            .collect();
+        let topo = evaluate(&truth.topography, &ground, s.radius_m, &[Quantity::Value])
             .unwrap()
             .remove(0);
         for (site, t) in sites.iter().zip(topo) {

@@ -240,5 +240,8 @@ fn describe_campaign(d: &SurveyDesign) -> String {
             n.camps
         ),
     };
-    format!("{what} ({units}); {coverage}; noise σ = {} {units}", d.noise)
+    format!(
+        "{what} ({units}); {coverage}; noise σ = {} {units}",
+        d.noise
+    )
 }

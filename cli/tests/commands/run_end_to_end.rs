@@ -99,7 +99,15 @@ fn reduced_demo_runs_and_outputs_reopen() {
     assert_eq!(residuals.rows.len(), 2000);
     assert_eq!(
         residuals.headers,
-        ["lat_deg", "lon_deg", "altitude_km", "quantity", "observed", "model", "residual"]
+        [
+            "lat_deg",
+            "lon_deg",
+            "altitude_km",
+            "quantity",
+            "observed",
+            "model",
+            "residual"
+        ]
     );
     // the magnetic residuals are per component, each row at its own altitude, with the
     // declination caution in the sidecar
@@ -163,7 +171,12 @@ fn reduced_demo_runs_and_outputs_reopen() {
     assert!(html.contains("legal height"), "geoid caution");
     assert!(html.contains("not for navigation"), "magnetic caution");
     // the joint fit's table of campaigns, readable: names, counts and χ²/n
-    for text in ["<th>data set</th>", "<th>χ²/n</th>", "<td>early</td>", "<td>late</td>"] {
+    for text in [
+        "<th>data set</th>",
+        "<th>χ²/n</th>",
+        "<td>early</td>",
+        "<td>late</td>",
+    ] {
         assert!(html.contains(text), "{text} missing from the report");
     }
     assert!(!html.contains("src=\"http"), "nothing loaded from outside");

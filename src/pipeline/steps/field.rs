@@ -14,12 +14,12 @@ use crate::field::synthesis::{
     evaluate_at_points, synthesize_on_grid, GeocentricPoint, SynthesisRequest, TargetSurface,
 };
 use crate::field::{Ellipsoid, ModelKind};
-use crate::observe::fit::observation::{ObservationSet, PointConversion};
 use crate::io::csv_sidecar::{write_sidecar, CsvSidecar};
 use crate::io::csv_table::write_csv_table;
 use crate::io::filter_spectra::parse_filter_chain;
 use crate::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use crate::io::provenance::Provenance;
+use crate::observe::fit::observation::{ObservationSet, PointConversion};
 use crate::pipeline::file_names::StepFiles;
 use crate::pipeline::products::Product;
 use crate::pipeline::step_spec::{EvaluateStep, SynthesizeStep};
@@ -56,9 +56,11 @@ pub(super) fn model_at_time<'a>(
     notes: &mut Vec<String>,
 ) -> Result<Cow<'a, Coefficients>> {
     match (time, model.secular()) {
-        (Some(t), Some(_)) => Ok(Cow::Owned(model.at_time(t).map_err(|e| {
-            Error::invalid(format!("steps.{step_name}.time: {e}"))
-        })?)),
+        (Some(t), Some(_)) => {
+            Ok(Cow::Owned(model.at_time(t).map_err(|e| {
+                Error::invalid(format!("steps.{step_name}.time: {e}"))
+            })?))
+        }
         (Some(t), None) => Err(Error::invalid(format!(
             "steps.{step_name}.time: {t} given, but model '{model_name}' has no secular variation \
              (no dC_dt, dS_dt); a time applies only to a model with rates (a fit step with epoch)"
@@ -227,8 +229,7 @@ fn observed_rows(
 ) -> Result<ObservationSet> {
     let points = env.points(&step.points)?;
     let extras = &points.set.extras;
-    if step.altitude_km.is_some() && (extras.altitude_km.is_some() || extras.height_m.is_some())
-    {
+    if step.altitude_km.is_some() && (extras.altitude_km.is_some() || extras.height_m.is_some()) {
         return Err(Error::invalid(format!(
             "steps.{name}.altitude_km: the points '{}' carry their own altitude or height column; leave the key out",
             step.points
@@ -236,7 +237,10 @@ fn observed_rows(
     }
     let default_q = match &step.quantity {
         Some(q) => q.parse::<Quantity>()?,
-        None => points.quantity.parse::<Quantity>().unwrap_or(Quantity::Value),
+        None => points
+            .quantity
+            .parse::<Quantity>()
+            .unwrap_or(Quantity::Value),
     };
     let ellipsoid = match env.job.config.inputs.get(&step.points) {
         Some(crate::pipeline::input_spec::Input::Points(p)) => {
@@ -316,8 +320,10 @@ pub fn evaluate(name: &str, step: &EvaluateStep, env: &StepEnv) -> Result<StepOu
         .collect::<Vec<_>>()
         .join(", ");
 
-    let mut out = StepOutcome::default();
-    out.cautions = cautions_for(&quantities);
+    let mut out = StepOutcome {
+        cautions: cautions_for(&quantities),
+        ..Default::default()
+    };
     if env.job.config.output.wants("csv") {
         let table: Vec<Vec<String>> = (0..residual.len())
             .map(|i| {
@@ -325,7 +331,10 @@ pub fn evaluate(name: &str, step: &EvaluateStep, env: &StepEnv) -> Result<StepOu
                 vec![
                     points.set.lat_deg[i].to_string(),
                     points.set.lon_deg[i].to_string(),
-                    format!("{:.3}", (o.position.radius_m - model.reference_radius_m) / 1e3),
+                    format!(
+                        "{:.3}",
+                        (o.position.radius_m - model.reference_radius_m) / 1e3
+                    ),
                     o.quantity.name().to_string(),
                     format!("{:.6}", o.value),
                     format!("{:.6}", modelled[i]),
@@ -379,10 +388,7 @@ pub fn evaluate(name: &str, step: &EvaluateStep, env: &StepEnv) -> Result<StepOu
     let style = MapStyle {
         title: format!("{name}: residuals"),
         units: units.clone(),
-        degree_range: format!(
-            "observed minus model {what} (degrees 0-{})",
-            model.lmax()
-        ),
+        degree_range: format!("observed minus model {what} (degrees 0-{})", model.lmax()),
         ..Default::default()
     };
     let png = render_points_png(&points.set.lat_deg, &points.set.lon_deg, &residual, &style);
@@ -392,7 +398,8 @@ pub fn evaluate(name: &str, step: &EvaluateStep, env: &StepEnv) -> Result<StepOu
         out.files.push((file, "residual map".into()));
     }
     for n in notes {
-        out.report.push((ReportPart::Residuals, Block::Paragraph(n)));
+        out.report
+            .push((ReportPart::Residuals, Block::Paragraph(n)));
     }
     let stats_rows = by_quantity
         .iter()
@@ -413,10 +420,12 @@ pub fn evaluate(name: &str, step: &EvaluateStep, env: &StepEnv) -> Result<StepOu
     out.report.push((
         ReportPart::Residuals,
         Block::Table {
-            headers: ["step", "quantity", "points", "mean", "RMS", "max |r|", "units"]
-                .iter()
-                .map(|s| s.to_string())
-                .collect(),
+            headers: [
+                "step", "quantity", "points", "mean", "RMS", "max |r|", "units",
+            ]
+            .iter()
+            .map(|s| s.to_string())
+            .collect(),
             rows: stats_rows,
         },
     ));
