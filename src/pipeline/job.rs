@@ -320,6 +320,14 @@ fn step_summary(step: &Step) -> String {
             if let Some(h) = s.altitude_km {
                 parts.push(format!("altitude {h} km"));
             }
+            if let Some(t) = s.time {
+                parts.push(format!("at {t}"));
+            }
+        }
+        Step::Evaluate(s) => {
+            if let Some(t) = s.time {
+                parts.push(format!("at {t}"));
+            }
         }
         Step::Tapers(s) => parts.push(format!("{}, windows of degree {}", s.region, s.window_lmax)),
         Step::RegionalSpectrum(s) => {
@@ -328,11 +336,7 @@ fn step_summary(step: &Step) -> String {
         Step::RegionalCompare(s) => {
             parts.push(format!("{}, windows of degree {}", s.region, s.window_lmax))
         }
-        Step::Grid(_)
-        | Step::Analyze(_)
-        | Step::Spectrum(_)
-        | Step::Compare(_)
-        | Step::Evaluate(_) => {}
+        Step::Grid(_) | Step::Analyze(_) | Step::Spectrum(_) | Step::Compare(_) => {}
     }
     parts.join("; ")
 }

@@ -221,7 +221,7 @@ fn describe_campaign(d: &SurveyDesign) -> String {
     };
     let coverage = match &d.coverage {
         Coverage::Orbit(o) => format!(
-            "{} sites along the tracks of a {}°-inclined orbit ({} samples per revolution, no site poleward of ±{}°), at {} ± {} km altitude",
+            "{} sites along the tracks of an orbit inclined {}° to the equator ({} samples per revolution, no site poleward of ±{}°), at {} ± {} km altitude",
             d.sites,
             o.inclination_deg,
             o.samples_per_revolution,
