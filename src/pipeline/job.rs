@@ -121,6 +121,7 @@ impl Job {
         for (name, step) in &config.steps {
             check_step(name, step, &kinds, &base_dir, &mut problems);
         }
+        check_times(&config, &mut problems);
         check_file_names(&config, &mut problems);
         check_output_folder(&config, &base_dir, &mut problems);
         let levels = match dag::levels(&deps) {
@@ -319,6 +320,14 @@ fn step_summary(step: &Step) -> String {
             if let Some(h) = s.altitude_km {
                 parts.push(format!("altitude {h} km"));
             }
+            if let Some(t) = s.time {
+                parts.push(format!("at {t}"));
+            }
+        }
+        Step::Evaluate(s) => {
+            if let Some(t) = s.time {
+                parts.push(format!("at {t}"));
+            }
         }
         Step::Tapers(s) => parts.push(format!("{}, windows of degree {}", s.region, s.window_lmax)),
         Step::RegionalSpectrum(s) => {
@@ -327,11 +336,7 @@ fn step_summary(step: &Step) -> String {
         Step::RegionalCompare(s) => {
             parts.push(format!("{}, windows of degree {}", s.region, s.window_lmax))
         }
-        Step::Grid(_)
-        | Step::Analyze(_)
-        | Step::Spectrum(_)
-        | Step::Compare(_)
-        | Step::Evaluate(_) => {}
+        Step::Grid(_) | Step::Analyze(_) | Step::Spectrum(_) | Step::Compare(_) => {}
     }
     parts.join("; ")
 }
@@ -803,6 +808,45 @@ fn check_step(
         }
     }
     problems.extend(found);
+}
+
+/// The `time` of synthesize and evaluate steps: a finite decimal year, for a model with
+/// secular variation. Whether a step's model has rates is known here for models the job makes
+/// (a fit step has them exactly when it has an `epoch`; a filter keeps its model's; grid and
+/// analyze steps have none); a model input is checked when the step runs.
+fn check_times(config: &Config, problems: &mut Vec<String>) {
+    for (name, step) in &config.steps {
+        let (model, time) = match step {
+            Step::Synthesize(s) => (&s.model, s.time),
+            Step::Evaluate(s) => (&s.model, s.time),
+            _ => continue,
+        };
+        let Some(t) = time else { continue };
+        if !t.is_finite() {
+            problems.push(format!(
+                "steps.{name}.time: must be a finite decimal year, not {t}"
+            ));
+            continue;
+        }
+        if model_has_rates(config, model, 0) == Some(false) {
+            problems.push(format!(
+                "steps.{name}.time: {t} given, but model '{model}' has no secular variation \
+                 (no dC_dt, dS_dt); a time applies only to a model with rates (a fit step with epoch)"
+            ));
+        }
+    }
+}
+
+/// Whether the model product `name` has secular variation, when the config alone tells.
+fn model_has_rates(config: &Config, name: &str, depth: usize) -> Option<bool> {
+    match config.steps.get(name)? {
+        Step::Fit(f) => Some(f.epoch.is_some()),
+        Step::Grid(_) | Step::Analyze(_) => Some(false),
+        // the dependency graph has no cycles once checked; the depth bound keeps a cyclic
+        // config (reported by the graph check) from recursing here
+        Step::Filter(f) if depth < 64 => model_has_rates(config, &f.model, depth + 1),
+        _ => None,
+    }
 }
 
 /// A region spec parses and its file, if any, exists (its content is checked when the step runs).

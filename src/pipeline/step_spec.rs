@@ -156,6 +156,9 @@ pub struct SynthesizeStep {
     pub filter: Option<String>,
     /// Band limit of the output Gauss grid (default: the model's).
     pub grid_lmax: Option<usize>,
+    /// Decimal year at which a model with secular variation is mapped (default: its epoch);
+    /// refused for a model without rates.
+    pub time: Option<f64>,
 }
 
 #[derive(Debug, Clone, Deserialize)]
@@ -164,11 +167,15 @@ pub struct EvaluateStep {
     pub model: String,
     /// The point set at which to evaluate (residuals are observed − model).
     pub points: String,
-    /// The quantity the points observed (default "potential" for potential inputs, else
-    /// "value").
+    /// The quantity the points observed, for rows without a `quantity` column (default: the
+    /// input's `quantity`, else "value").
     pub quantity: Option<String>,
-    /// Height of the points above the reference sphere, km (default 0).
+    /// Height of the points above the reference sphere, km (default 0), for points without
+    /// an `altitude_km` or `height_m` column (each row is otherwise evaluated at its own).
     pub altitude_km: Option<f64>,
+    /// Decimal year at which a model with secular variation is evaluated (default: its
+    /// epoch); refused for a model without rates.
+    pub time: Option<f64>,
 }
 
 #[derive(Debug, Clone, Deserialize)]

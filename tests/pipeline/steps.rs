@@ -118,11 +118,18 @@ fn each_kind_accepts_exactly_its_documented_keys() {
         (StepKind::Filter, &["model", "filter"]),
         (
             StepKind::Synthesize,
-            &["model", "quantities", "altitude_km", "filter", "grid_lmax"],
+            &[
+                "model",
+                "quantities",
+                "altitude_km",
+                "filter",
+                "grid_lmax",
+                "time",
+            ],
         ),
         (
             StepKind::Evaluate,
-            &["model", "points", "quantity", "altitude_km"],
+            &["model", "points", "quantity", "altitude_km", "time"],
         ),
         (StepKind::Tapers, &["region", "window_lmax", "keep"]),
         (
@@ -362,5 +369,105 @@ fn synthesis_estimate_uses_the_synthesis_estimator() {
     assert_eq!(
         job.memory.bytes_of("m"),
         Some(synthesis_memory_bytes(4, &qs, 11, 24))
+    );
+}
+
+#[test]
+fn a_time_for_a_model_without_rates_is_refused_naming_the_step_and_the_model() {
+    let tmp = tempfile::tempdir().unwrap();
+    // a fit without epoch has no rates: both step kinds refuse the time when the config is
+    // checked, and a non-finite time is refused as such
+    let steps = format!(
+        "{FIT}[steps.m]\nkind = \"synthesize\"\nmodel = \"f\"\nquantities = [\"value\"]\ntime = 2030.5\n\
+         [steps.r]\nkind = \"evaluate\"\nmodel = \"f\"\npoints = \"pts\"\ntime = 2031.0\n\
+         [steps.g]\nkind = \"filter\"\nmodel = \"f\"\nfilter = \"gauss:300\"\n\
+         [steps.n]\nkind = \"synthesize\"\nmodel = \"g\"\nquantities = [\"value\"]\ntime = nan\n"
+    );
+    let err = load(tmp.path(), &steps).unwrap_err();
+    assert!(
+        err.contains("steps.m.time: 2030.5 given, but model 'f' has no secular variation"),
+        "{err}"
+    );
+    assert!(
+        err.contains("steps.r.time: 2031 given, but model 'f' has no secular variation"),
+        "{err}"
+    );
+    assert!(
+        err.contains("steps.n.time: must be a finite decimal year"),
+        "{err}"
+    );
+    // a filter of a fit without epoch has none either
+    let steps = format!(
+        "{FIT}[steps.g]\nkind = \"filter\"\nmodel = \"f\"\nfilter = \"gauss:300\"\n\
+         [steps.m]\nkind = \"synthesize\"\nmodel = \"g\"\nquantities = [\"value\"]\ntime = 2030.5\n"
+    );
+    let err = load(tmp.path(), &steps).unwrap_err();
+    assert!(err.contains("model 'g' has no secular variation"), "{err}");
+    // a fit with an epoch has rates: the time passes the check
+    let steps = "[steps.f]\nkind = \"fit\"\ninput = \"pts\"\nlmax = 4\nepoch = 2030.0\n\
+                 [steps.m]\nkind = \"synthesize\"\nmodel = \"f\"\nquantities = [\"value\"]\ntime = 2030.5\n";
+    load(tmp.path(), steps).unwrap();
+}
+
+#[test]
+fn evaluate_and_synthesize_take_a_model_input_at_its_time() {
+    use kugel::coeffs::{Coefficients, Normalization};
+    use kugel::io::provenance::Provenance;
+    use kugel::pipeline::run::{run_job, RunOptions};
+    use kugel::progress::Silent;
+
+    let tmp = tempfile::tempdir().unwrap();
+    let dir = tmp.path();
+    // a degree-1 magnetic model with rates: g10 = −100 nT + 10 nT/yr about 2020
+    let mut model = Coefficients::zeros(1, Normalization::Schmidt);
+    model.set(1, 0, -100.0, 0.0);
+    model.reference_radius_m = 1_950_000.0;
+    model.units = "nT".into();
+    let mut rates = Coefficients::zeros(1, Normalization::Schmidt);
+    rates.set(1, 0, 10.0, 0.0);
+    model.set_secular(2020.0, rates).unwrap();
+    kugel::io::model::write_model(&dir.join("sv.nc"), &model, &Provenance::default()).unwrap();
+    let mut still = model.clone();
+    still.clear_secular();
+    kugel::io::model::write_model(&dir.join("still.nc"), &still, &Provenance::default()).unwrap();
+    // Z at the north pole on the reference sphere: Z = −B_r = −2·g10 (axial dipole, r = a;
+    // common practice), so −2·(−100 + 10·2.5) = 150 nT at 2022.5
+    std::fs::write(dir.join("pole.csv"), "lat,lon,quantity,value\n90,0,z,150\n").unwrap();
+    let config = |model_file: &str| {
+        format!(
+            "[body]\nradius_m = 1950000.0\n[output]\nfolder = \"out\"\nformats = [\"csv\", \"netcdf\"]\n\
+             [inputs.sv]\nkind = \"model\"\npath = \"{model_file}\"\n\
+             [inputs.pole]\nkind = \"points\"\npath = \"pole.csv\"\n\
+             [steps.r]\nkind = \"evaluate\"\nmodel = \"sv\"\npoints = \"pole\"\ntime = 2022.5\n\
+             [steps.m]\nkind = \"synthesize\"\nmodel = \"sv\"\nquantities = [\"z\"]\ntime = 2022.5\n"
+        )
+    };
+    std::fs::write(dir.join("job.toml"), config("sv.nc")).unwrap();
+    let job = Job::load(&dir.join("job.toml")).unwrap();
+    let options = RunOptions {
+        quiet: true,
+        ..Default::default()
+    };
+    let summary = run_job(&job, &options, &Silent).unwrap();
+    let r = summary.steps.iter().find(|s| s.name == "r").unwrap();
+    let rms: f64 = r.numbers[0]
+        .1
+        .split_whitespace()
+        .next()
+        .unwrap()
+        .parse()
+        .unwrap();
+    assert!(rms < 1e-9, "residual at the pole {rms} nT");
+    // the same file without rates: refused when the step runs, naming the step and the model
+    std::fs::write(dir.join("job.toml"), config("still.nc")).unwrap();
+    let job = Job::load(&dir.join("job.toml")).unwrap();
+    let err = run_job(&job, &options, &Silent).unwrap_err().to_string();
+    assert!(
+        err.contains("time: 2022.5 given, but model 'sv' has no secular variation"),
+        "{err}"
+    );
+    assert!(
+        err.contains("step 'm'") || err.contains("step 'r'"),
+        "{err}"
     );
 }

@@ -18,7 +18,7 @@ pub struct Args {
 pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     let scenario = Scenario::oressa();
     let progress = TerminalProgress::new(ctx.quiet);
-    progress.stage("writing the demo", 4);
+    progress.stage("writing the demo", 5);
     let report = write_demo(&args.out, &scenario, |stage| {
         progress.note(stage);
         progress.advance(1);

@@ -7,6 +7,17 @@
 //! x, y per coefficient, h = σ_h x and g = σ_g (ρ_l x + sqrt(1 − ρ_l²) y), so the expected
 //! degree correlation is ρ_l and the expected admittance ρ_l σ_g/σ_h per metre. ρ_l rises from
 //! 0 at degree 1 towards ρ_max with degree, as on bodies whose long wavelengths are compensated.
+//! The gravity truth stops at `gravity_lmax`, below the topography's band limit, so that the
+//! demo's fits to that degree can explain their data (real data carry every degree; an
+//! omission error would only blur the per-campaign χ² the demo shows).
+//!
+//! Magnetism: Oressa has no dynamo, only a magnetised crust. Its internal Schmidt
+//! semi-normalised Gauss coefficients g_lm, h_lm (nT at the reference radius a) are drawn with
+//! a Lowes–Mauersberger spectrum (Lowes 1966, J. Geophys. Res. 71:2179; R_l = (l + 1)
+//! Σ_m (g_lm² + h_lm²)) of the shape crustal spectra have, R_l = K·l·(1 − d/a)^{2l+4}: rising
+//! with degree for uncorrelated crustal sources and damped by their mean depth d (from
+//! memory; K and d are invented). Each of the 2l + 1 coefficients of degree l then has the
+//! RMS sqrt(R_l / ((l + 1)(2l + 1))).
 
 use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
@@ -20,8 +31,15 @@ pub struct Scenario {
     pub body_name: &'static str,
     pub radius_m: f64,
     pub gm_m3_s2: f64,
-    /// Band limit of the truth fields.
+    /// Band limit of the truth topography (and of the topography grid).
     pub truth_lmax: usize,
+    /// Band limit of the truth gravity field (at most `truth_lmax`).
+    pub gravity_lmax: usize,
+    /// Band limit of the truth crustal magnetic field.
+    pub magnetic_lmax: usize,
+    /// Lowes–Mauersberger scale K (nT²) and mean source depth d (m) of the crustal field.
+    pub magnetic_scale_nt2: f64,
+    pub magnetic_depth_m: f64,
     /// Kaula amplitude A and exponent p of the gravity coefficients.
     pub kaula_amplitude: f64,
     pub kaula_exponent: f64,
@@ -43,6 +61,10 @@ impl Scenario {
             // a rocky body of mean density ~3,000 kg m⁻³ at this radius
             gm_m3_s2: 6.21e12,
             truth_lmax: 100,
+            gravity_lmax: 50,
+            magnetic_lmax: 40,
+            magnetic_scale_nt2: 3.0,
+            magnetic_depth_m: 25_000.0,
             kaula_amplitude: 1.5e-4,
             kaula_exponent: 2.0,
             topo_amplitude_m: 2_400.0,
@@ -66,11 +88,19 @@ impl Scenario {
         self.gm_m3_s2 / self.radius_m
     }
 
+    /// Expected Lowes–Mauersberger spectrum R_l (nT²) of the crustal field at the reference
+    /// radius, K·l·(1 − d/a)^{2l+4}.
+    pub fn magnetic_lowes_nt2(&self, l: usize) -> f64 {
+        let q = 1.0 - self.magnetic_depth_m / self.radius_m;
+        self.magnetic_scale_nt2 * l as f64 * q.powi(2 * l as i32 + 4)
+    }
+
     /// Draws the truth fields.
     pub fn truth(&self) -> Truth {
         let mut rng = ChaCha8Rng::seed_from_u64(self.seed);
         let lmax = self.truth_lmax;
-        let mut gravity = Coefficients::zeros(lmax, Normalization::Geodesy);
+        let gravity_lmax = self.gravity_lmax.min(lmax);
+        let mut gravity = Coefficients::zeros(gravity_lmax, Normalization::Geodesy);
         let mut topo = Coefficients::zeros(lmax, Normalization::Geodesy);
         // degrees 0 and 1 of the disturbing potential vanish (mass in the normal field, origin
         // at the centre of mass); topography keeps a zero mean radius anomaly too
@@ -88,7 +118,9 @@ impl Scenario {
                 };
                 let (hc, gc) = draw();
                 let (hs, gs) = if m > 0 { draw() } else { (0.0, 0.0) };
-                gravity.set(l, m, gc, gs);
+                if l <= gravity_lmax {
+                    gravity.set(l, m, gc, gs);
+                }
                 topo.set(l, m, hc, hs);
             }
         }
@@ -112,15 +144,55 @@ impl Scenario {
         Truth {
             gravity,
             topography: topo,
+            magnetic: self.magnetic_truth(),
         }
+    }
+
+    /// Draws the crustal magnetic field from its own stream (the gravity and topography draws
+    /// stay as they are when the magnetic design changes).
+    fn magnetic_truth(&self) -> Coefficients {
+        let mut rng = ChaCha8Rng::seed_from_u64(self.seed ^ MAGNETIC_STREAM);
+        let lmax = self.magnetic_lmax;
+        let mut magnetic = Coefficients::zeros(lmax, Normalization::Schmidt);
+        for l in 1..=lmax {
+            let rms = (self.magnetic_lowes_nt2(l) / ((l + 1) * (2 * l + 1)) as f64).sqrt();
+            for m in 0..=l {
+                let g: f64 = StandardNormal.sample(&mut rng);
+                let h: f64 = if m > 0 {
+                    StandardNormal.sample(&mut rng)
+                } else {
+                    0.0
+                };
+                magnetic.set(l, m, rms * g, rms * h);
+            }
+        }
+        magnetic.reference_radius_m = self.radius_m;
+        magnetic.units = "nT".into();
+        magnetic
+            .attributes
+            .insert("field_kind".into(), "magnetic".into());
+        magnetic.attributes.insert(
+            "title".into(),
+            format!(
+                "{} crustal magnetic field: invented synthetic truth, internal Schmidt \
+                 semi-normalised Gauss coefficients in nT (kugel demo, not a real body)",
+                self.body_name
+            ),
+        );
+        magnetic
     }
 }
 
-/// The synthetic truth: gravity (dimensionless) and topography (m) coefficients.
+/// Mixed into the seed for the magnetic draws.
+const MAGNETIC_STREAM: u64 = 0x6d61_676e_6574;
+
+/// The synthetic truth: gravity (dimensionless), topography (m) and crustal magnetic (Schmidt
+/// Gauss coefficients, nT) coefficients.
 #[derive(Debug, Clone)]
 pub struct Truth {
     pub gravity: Coefficients,
     pub topography: Coefficients,
+    pub magnetic: Coefficients,
 }
 
 #[cfg(test)]
@@ -131,6 +203,7 @@ mod tests {
     fn truth_is_reproducible_and_follows_the_power_law() {
         let mut s = Scenario::oressa();
         s.truth_lmax = 40;
+        s.gravity_lmax = 40;
         let a = s.truth();
         let b = s.truth();
         assert_eq!(a.gravity, b.gravity, "same seed, same truth");
@@ -153,5 +226,31 @@ mod tests {
         assert!((mean - 1.0).abs() < 0.15, "mean power ratio {mean}");
         assert_eq!(a.gravity.c(1, 0), 0.0);
         assert!(s.correlation(30) > 0.8 && s.correlation(2) < 0.15);
+    }
+
+    #[test]
+    fn magnetic_truth_follows_its_lowes_spectrum() {
+        let s = Scenario::oressa();
+        let m = s.truth().magnetic;
+        assert_eq!(m.normalization, Normalization::Schmidt);
+        assert_eq!(m.units, "nT");
+        assert_eq!(m.c(0, 0), 0.0, "no monopole");
+        // R_l = (l+1) Σ_m (g² + h²) (Lowes 1966) summed over degrees 10..40 against the
+        // expected sum: each R_l is a scaled χ² with 2l + 1 degrees of freedom, so the sum of
+        // about 1,600 squares lies within ±10% of its mean (about 4 standard errors; common
+        // practice: χ² spread)
+        let (mut drawn, mut expected) = (0.0, 0.0);
+        for l in 10..=s.magnetic_lmax {
+            let mut r = 0.0;
+            for k in 0..=l {
+                r += m.c(l, k).powi(2) + m.s(l, k).powi(2);
+            }
+            drawn += (l + 1) as f64 * r;
+            expected += s.magnetic_lowes_nt2(l);
+        }
+        assert!(
+            (drawn / expected - 1.0).abs() < 0.1,
+            "Lowes sum {drawn} vs {expected}"
+        );
     }
 }

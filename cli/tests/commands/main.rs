@@ -4,6 +4,7 @@
 
 mod analyze_convert;
 mod bad_inputs;
+mod demo_joint_fit;
 mod determinism;
 mod evaluate;
 mod filter;

@@ -1,19 +1,25 @@
 //! synthesize and evaluate steps: physical quantities on grids and at points
 //! (`field::synthesis`).
 
+use std::borrow::Cow;
+use std::collections::BTreeMap;
+
 use super::{ReportPart, StepEnv, StepOutcome};
-use crate::error::Result;
-use crate::field::cautions::caution_for;
+use crate::coeffs::Coefficients;
+use crate::error::{Error, Result};
+use crate::field::cautions::{caution_for, DECLINATION_CAUTION};
 use crate::field::normal_field::NormalField;
-use crate::field::quantity::Quantity;
+use crate::field::quantity::{Quantity, QuantityFamily};
 use crate::field::synthesis::{
     evaluate_at_points, synthesize_on_grid, GeocentricPoint, SynthesisRequest, TargetSurface,
 };
+use crate::field::{Ellipsoid, ModelKind};
 use crate::io::csv_sidecar::{write_sidecar, CsvSidecar};
 use crate::io::csv_table::write_csv_table;
 use crate::io::filter_spectra::parse_filter_chain;
 use crate::io::grid::write::{write_grid, GridFile, GridWriteOptions, LonConvention};
 use crate::io::provenance::Provenance;
+use crate::observe::fit::observation::{ObservationSet, PointConversion};
 use crate::pipeline::file_names::StepFiles;
 use crate::pipeline::products::Product;
 use crate::pipeline::step_spec::{EvaluateStep, SynthesizeStep};
@@ -38,8 +44,70 @@ fn quantities(names: &[String]) -> Result<Vec<Quantity>> {
     names.iter().map(|q| q.parse::<Quantity>()).collect()
 }
 
+/// The model a synthesize or evaluate step works on at its `time` key: C + (t − t₀)·dC/dt for a
+/// model with secular variation ([`Coefficients::at_time`]), the model at its epoch t₀ when no
+/// time is given (said in `notes`). A time for a model without rates is refused, naming the
+/// step and the model.
+pub(super) fn model_at_time<'a>(
+    step_name: &str,
+    model_name: &str,
+    model: &'a Coefficients,
+    time: Option<f64>,
+    notes: &mut Vec<String>,
+) -> Result<Cow<'a, Coefficients>> {
+    match (time, model.secular()) {
+        (Some(t), Some(_)) => {
+            Ok(Cow::Owned(model.at_time(t).map_err(|e| {
+                Error::invalid(format!("steps.{step_name}.time: {e}"))
+            })?))
+        }
+        (Some(t), None) => Err(Error::invalid(format!(
+            "steps.{step_name}.time: {t} given, but model '{model_name}' has no secular variation \
+             (no dC_dt, dS_dt); a time applies only to a model with rates (a fit step with epoch)"
+        ))),
+        (None, Some(sv)) => {
+            notes.push(format!(
+                "{step_name}: model '{model_name}' has secular variation; evaluated at its epoch {} (give time = YEAR for another)",
+                sv.epoch_year
+            ));
+            let mut m = model.clone();
+            m.clear_secular();
+            Ok(Cow::Owned(m))
+        }
+        (None, None) => Ok(Cow::Borrowed(model)),
+    }
+}
+
+/// The cautions that belong with these quantities: declination and geoid have their own;
+/// every magnetic quantity carries the declination caution, since a magnetic model's maps
+/// and values are one step from a declination.
+pub(super) fn cautions_for(quantities: &[Quantity]) -> Vec<String> {
+    let mut out: Vec<String> = Vec::new();
+    for &q in quantities {
+        let text = caution_for(q).or(if q.family() == QuantityFamily::Magnetic {
+            Some(DECLINATION_CAUTION)
+        } else {
+            None
+        });
+        if let Some(t) = text {
+            if !out.iter().any(|c| c == t) {
+                out.push(t.to_string());
+            }
+        }
+    }
+    out
+}
+
 pub fn synthesize(name: &str, step: &SynthesizeStep, env: &StepEnv) -> Result<StepOutcome> {
-    let model = env.model(&step.model)?;
+    let mut notes = Vec::new();
+    let model = model_at_time(
+        name,
+        &step.model,
+        env.model(&step.model)?,
+        step.time,
+        &mut notes,
+    )?;
+    let model = model.as_ref();
     let qs = quantities(&step.quantities)?;
     let chain = step
         .filter
@@ -62,7 +130,7 @@ pub fn synthesize(name: &str, step: &SynthesizeStep, env: &StepEnv) -> Result<St
 
     let filter_text = chain.as_ref().map(|c| c.describe());
     let degree_range = format!(
-        "degrees 0-{}{}{}",
+        "degrees 0-{}{}{}{}",
         model.lmax(),
         filter_text
             .as_ref()
@@ -72,9 +140,13 @@ pub fn synthesize(name: &str, step: &SynthesizeStep, env: &StepEnv) -> Result<St
             format!(", at {:.1} km altitude", altitude_m / 1e3)
         } else {
             String::new()
-        }
+        },
+        step.time.map(|t| format!(", at {t}")).unwrap_or_default()
     );
     let mut out = StepOutcome::default();
+    for n in notes {
+        out.report.push((ReportPart::Maps, Block::Paragraph(n)));
+    }
     let mut file = GridFile::from_engine_grid(
         &grid,
         format!(
@@ -107,9 +179,6 @@ pub fn synthesize(name: &str, step: &SynthesizeStep, env: &StepEnv) -> Result<St
                 caption: format!("{}: {} ({units}), {degree_range}", name, q.long_name()),
             },
         ));
-        if let Some(c) = caution_for(*q) {
-            out.cautions.push(c.to_string());
-        }
         variables.push(q.variable_name());
         file.push(
             &q.variable_name(),
@@ -119,12 +188,17 @@ pub fn synthesize(name: &str, step: &SynthesizeStep, env: &StepEnv) -> Result<St
             data.clone(),
         );
     }
+    out.cautions = cautions_for(&qs);
     if !out.cautions.is_empty() {
         file.attributes
             .push(("caution".into(), out.cautions.join(" ")));
     }
     file.attributes
         .push(("kugel_altitude_m".into(), altitude_m.to_string()));
+    if let Some(t) = step.time {
+        file.attributes
+            .push(("kugel_time_year".into(), t.to_string()));
+    }
     file.attributes.push((
         "kugel_reference_radius_m".into(),
         model.reference_radius_m.to_string(),
@@ -144,46 +218,125 @@ pub fn synthesize(name: &str, step: &SynthesizeStep, env: &StepEnv) -> Result<St
     Ok(out)
 }
 
-pub fn evaluate(name: &str, step: &EvaluateStep, env: &StepEnv) -> Result<StepOutcome> {
-    let model = env.model(&step.model)?;
+/// Where and what each point of `points_name` observed: its own altitude, ellipsoidal height
+/// and quantity columns when it has them (the conversion the fit uses,
+/// [`ObservationSet::push_point_file`]), else the step's `altitude_km` and `quantity`.
+fn observed_rows(
+    name: &str,
+    step: &EvaluateStep,
+    model: &Coefficients,
+    env: &StepEnv,
+) -> Result<ObservationSet> {
     let points = env.points(&step.points)?;
-    let default_q = if points.quantity == "potential" {
-        "potential"
-    } else {
-        "value"
+    let extras = &points.set.extras;
+    if step.altitude_km.is_some() && (extras.altitude_km.is_some() || extras.height_m.is_some()) {
+        return Err(Error::invalid(format!(
+            "steps.{name}.altitude_km: the points '{}' carry their own altitude or height column; leave the key out",
+            step.points
+        )));
+    }
+    let default_q = match &step.quantity {
+        Some(q) => q.parse::<Quantity>()?,
+        None => points
+            .quantity
+            .parse::<Quantity>()
+            .unwrap_or(Quantity::Value),
     };
-    let q: Quantity = step.quantity.as_deref().unwrap_or(default_q).parse()?;
-    let radius = model.reference_radius_m + step.altitude_km.unwrap_or(0.0) * 1e3;
-    let sites: Vec<GeocentricPoint> = points
-        .set
-        .lat_deg
-        .iter()
-        .zip(&points.set.lon_deg)
-        .map(|(&la, &lo)| GeocentricPoint::from_degrees(la, lo, radius))
-        .collect();
-    let mut request = SynthesisRequest::new(vec![q]);
-    request.normal_field = NormalField::None;
-    let modelled = evaluate_at_points(model, &sites, &request)?.remove(0);
-    let residual: Vec<f64> = points
-        .set
-        .value
+    let ellipsoid = match env.job.config.inputs.get(&step.points) {
+        Some(crate::pipeline::input_spec::Input::Points(p)) => {
+            p.ellipsoid.as_deref().map(Ellipsoid::parse).transpose()?
+        }
+        _ => None,
+    };
+    let path = env
+        .job
+        .input_path(&step.points)
+        .unwrap_or_else(|| step.points.clone().into());
+    let mut set = ObservationSet::default();
+    let d = set.add_dataset(&step.points, 1.0, points.set.sigma.is_some())?;
+    set.push_point_file(
+        &path,
+        &points.set,
+        &PointConversion {
+            default_quantity: default_q,
+            reference_radius_m: model.reference_radius_m + step.altitude_km.unwrap_or(0.0) * 1e3,
+            ellipsoid,
+        },
+        d,
+    )?;
+    Ok(set)
+}
+
+pub fn evaluate(name: &str, step: &EvaluateStep, env: &StepEnv) -> Result<StepOutcome> {
+    let mut notes = Vec::new();
+    let model = model_at_time(
+        name,
+        &step.model,
+        env.model(&step.model)?,
+        step.time,
+        &mut notes,
+    )?;
+    let model = model.as_ref();
+    let points = env.points(&step.points)?;
+    let rows = observed_rows(name, step, model, env)?;
+    let obs = &rows.observations;
+    // rows of one quantity are evaluated together (the request is per quantity)
+    let mut by_quantity: BTreeMap<Quantity, Vec<usize>> = BTreeMap::new();
+    for (i, o) in obs.iter().enumerate() {
+        by_quantity.entry(o.quantity).or_default().push(i);
+    }
+    let mut modelled = vec![f64::NAN; obs.len()];
+    for (&q, idx) in &by_quantity {
+        ModelKind::of(model).check_supports(model, q)?;
+        let sites: Vec<GeocentricPoint> = idx.iter().map(|&i| obs[i].position).collect();
+        let mut request = SynthesisRequest::new(vec![q]);
+        request.normal_field = NormalField::None;
+        let values = evaluate_at_points(model, &sites, &request)?.remove(0);
+        for (&i, v) in idx.iter().zip(values) {
+            modelled[i] = v;
+        }
+    }
+    let residual: Vec<f64> = obs
         .iter()
         .zip(&modelled)
-        .map(|(o, m)| o - m)
+        .map(|(o, m)| o.value - m)
         .collect();
-    let stats = ResidualStats::of(&residual);
-    let units = q
-        .units()
-        .map_or_else(|| points.units.clone(), str::to_string);
+    let quantities: Vec<Quantity> = by_quantity.keys().copied().collect();
+    let units_of = |q: Quantity| -> String {
+        q.units()
+            .map_or_else(|| points.units.clone(), str::to_string)
+    };
+    let mut unit_names: Vec<String> = quantities.iter().map(|&q| units_of(q)).collect();
+    unit_names.dedup();
+    // one unit for the whole table when the quantities share it (x, y, z in nT)
+    let units = if unit_names.len() == 1 {
+        unit_names[0].clone()
+    } else {
+        "see the quantity column".to_string()
+    };
+    let what = quantities
+        .iter()
+        .map(|q| q.name())
+        .collect::<Vec<_>>()
+        .join(", ");
 
-    let mut out = StepOutcome::default();
+    let mut out = StepOutcome {
+        cautions: cautions_for(&quantities),
+        ..Default::default()
+    };
     if env.job.config.output.wants("csv") {
-        let rows: Vec<Vec<String>> = (0..residual.len())
+        let table: Vec<Vec<String>> = (0..residual.len())
             .map(|i| {
+                let o = &obs[i];
                 vec![
                     points.set.lat_deg[i].to_string(),
                     points.set.lon_deg[i].to_string(),
-                    format!("{:.6}", points.set.value[i]),
+                    format!(
+                        "{:.3}",
+                        (o.position.radius_m - model.reference_radius_m) / 1e3
+                    ),
+                    o.quantity.name().to_string(),
+                    format!("{:.6}", o.value),
                     format!("{:.6}", modelled[i]),
                     format!("{:.6}", residual[i]),
                 ]
@@ -193,17 +346,32 @@ pub fn evaluate(name: &str, step: &EvaluateStep, env: &StepEnv) -> Result<StepOu
         let path = env.staging_dir.join(&file);
         write_csv_table(
             &path,
-            &["lat_deg", "lon_deg", "observed", "model", "residual"],
-            &rows,
+            &[
+                "lat_deg",
+                "lon_deg",
+                "altitude_km",
+                "quantity",
+                "observed",
+                "model",
+                "residual",
+            ],
+            &table,
         )?;
         let mut sidecar =
             CsvSidecar::with_provenance(&env.provenance_for(Some(model.lmax()), None));
         sidecar
             .column("lat_deg", "degree_north", "latitude")
             .column("lon_deg", "degree_east", "longitude")
-            .column("observed", &units, &format!("observed {}", q.name()))
-            .column("model", &units, &format!("model {}", q.name()))
+            .column(
+                "altitude_km",
+                "km",
+                "geocentric radius of the point minus the model's reference radius",
+            )
+            .column("quantity", "1", "the quantity observed on the row")
+            .column("observed", &units, "observed value")
+            .column("model", &units, "model value")
             .column("residual", &units, "observed minus model");
+        sidecar.cautions = out.cautions.clone();
         write_sidecar(&path, &sidecar)?;
         out.files.push((
             format!("{file}.json"),
@@ -212,8 +380,7 @@ pub fn evaluate(name: &str, step: &EvaluateStep, env: &StepEnv) -> Result<StepOu
         out.files.push((
             file,
             format!(
-                "observed − model {} at {} points ({units})",
-                q.name(),
+                "observed − model {what} at {} points ({units})",
                 residual.len()
             ),
         ));
@@ -221,11 +388,7 @@ pub fn evaluate(name: &str, step: &EvaluateStep, env: &StepEnv) -> Result<StepOu
     let style = MapStyle {
         title: format!("{name}: residuals"),
         units: units.clone(),
-        degree_range: format!(
-            "observed minus model {} (degrees 0-{})",
-            q.name(),
-            model.lmax()
-        ),
+        degree_range: format!("observed minus model {what} (degrees 0-{})", model.lmax()),
         ..Default::default()
     };
     let png = render_points_png(&points.set.lat_deg, &points.set.lon_deg, &residual, &style);
@@ -234,21 +397,36 @@ pub fn evaluate(name: &str, step: &EvaluateStep, env: &StepEnv) -> Result<StepOu
         crate::io::atomic::write_bytes_atomic(&env.staging_dir.join(&file), &png)?;
         out.files.push((file, "residual map".into()));
     }
-    out.report.push((
-        ReportPart::Residuals,
-        Block::Table {
-            headers: ["step", "points", "mean", "RMS", "max |r|", "units"]
-                .iter()
-                .map(|s| s.to_string())
-                .collect(),
-            rows: vec![vec![
+    for n in notes {
+        out.report
+            .push((ReportPart::Residuals, Block::Paragraph(n)));
+    }
+    let stats_rows = by_quantity
+        .iter()
+        .map(|(&q, idx)| {
+            let r: Vec<f64> = idx.iter().map(|&i| residual[i]).collect();
+            let stats = ResidualStats::of(&r);
+            vec![
                 name.to_string(),
-                residual.len().to_string(),
+                q.name().to_string(),
+                r.len().to_string(),
                 format!("{:.4}", stats.mean),
                 format!("{:.4}", stats.rms),
                 format!("{:.4}", stats.max_abs),
-                units.clone(),
-            ]],
+                units_of(q),
+            ]
+        })
+        .collect();
+    out.report.push((
+        ReportPart::Residuals,
+        Block::Table {
+            headers: [
+                "step", "quantity", "points", "mean", "RMS", "max |r|", "units",
+            ]
+            .iter()
+            .map(|s| s.to_string())
+            .collect(),
+            rows: stats_rows,
         },
     ));
     out.report.push((
@@ -258,6 +436,7 @@ pub fn evaluate(name: &str, step: &EvaluateStep, env: &StepEnv) -> Result<StepOu
             caption: format!("{name}: observed minus model at each observation ({units})"),
         },
     ));
+    let stats = ResidualStats::of(&residual);
     out.numbers
         .push(("residual RMS".into(), format!("{:.4} {units}", stats.rms)));
     out.product = Some(Product::Residuals { rms: stats.rms });

@@ -282,15 +282,24 @@ pub fn fit(name: &str, step: &FitStep, env: &StepEnv) -> Result<StepOutcome> {
         format!("fitted coefficients with sigmas to degree {lmax}"),
     ));
     for (d, summary) in result.datasets.iter().enumerate() {
-        let label = if result.datasets.len() > 1 {
-            format!("residual RMS ({})", summary.name)
+        let of = if result.datasets.len() > 1 {
+            format!(" ({})", summary.name)
         } else {
-            "residual RMS".into()
+            String::new()
         };
         out.numbers.push((
-            label,
+            format!("residual RMS{of}"),
             format!("{:.4} {}", summary.residual_rms, units_of(d)),
         ));
+        out.numbers.push((
+            format!("χ²/n{of}"),
+            format!("{:.3}", summary.chi2_per_observation),
+        ));
+    }
+    if let ModelSpace::Magnetic { .. } = space {
+        // a magnetic model's maps and values are one step from a declination
+        out.cautions
+            .push(crate::field::cautions::DECLINATION_CAUTION.to_string());
     }
     out.numbers
         .push(("χ²/dof".into(), format!("{:.3}", result.chi2_per_dof)));
@@ -356,7 +365,7 @@ pub fn fit(name: &str, step: &FitStep, env: &StepEnv) -> Result<StepOutcome> {
                 s.name.clone(),
                 s.observations.to_string(),
                 format!("{}", set.datasets[d].weight_factor),
-                format!("{:.4e}", s.chi2),
+                format!("{:.1}", s.chi2),
                 format!("{:.3}", s.chi2_per_observation),
                 format!("{:.4} {}", s.residual_rms, units_of(d)),
             ]
@@ -375,6 +384,16 @@ pub fn fit(name: &str, step: &FitStep, env: &StepEnv) -> Result<StepOutcome> {
             ],
             rows: dataset_rows,
         },
+    ));
+    out.report.push((
+        ReportPart::Models,
+        Block::Paragraph(format!(
+            "χ² of a data set is Σ w·r² over its n rows (w = weight factor/σ², r = observed − \
+             model). When the stated σ are right and the model can explain the data, χ²/n is \
+             near 1 − p/n, where p ≥ 0 is the set's share of the fit's {:.1} effective \
+             parameters (the shares add up to it).",
+            result.effective_parameters
+        )),
     ));
     if result.iterations.len() > 1 {
         out.report.push((
