@@ -8,6 +8,7 @@ mod block;
 mod lanes;
 mod order;
 mod path;
+mod per_thread;
 #[allow(unsafe_code)]
 mod unsafe_parts;
 

@@ -19,6 +19,7 @@ use realfft::num_complex::Complex64;
 
 use super::order::{analysis_order, synth_order, AnalysisJob, OrderScratch, SynthJob};
 use super::path::{KernelPath, PORTABLE_FUSED};
+use super::per_thread::PerThread;
 use crate::coeffs::{packed_index, packed_len};
 
 type SynthFn = unsafe fn(&SynthJob, &mut OrderScratch, &mut OrderFourierColumns);
@@ -211,22 +212,20 @@ impl<'g> FourierGrids<'g> {
 
     /// Runs `body` once for every order in `orders` (≤ lmax), in parallel, one task per order,
     /// each with a writer to that order's columns and a per-thread state from `init`.
-    pub(crate) fn for_each_order<S, I, F>(&mut self, orders: Range<usize>, init: I, body: F)
+    pub(crate) fn for_each_order<S: Send, I, F>(&mut self, orders: Range<usize>, init: I, body: F)
     where
         I: Fn() -> S + Sync + Send,
         F: Fn(&mut S, &mut OrderFourierColumns) + Sync + Send,
     {
         assert!(orders.end <= self.lmax + 1, "order beyond lmax");
         let grids: &FourierGrids = self;
-        orders
-            .into_par_iter()
-            .with_max_len(1)
-            .for_each_init(init, |state, m| {
-                // the only place a writer is made: one per order of a range, so never two
-                // for the same m at once
-                let mut out = OrderFourierColumns { grids, m };
-                body(state, &mut out);
-            });
+        let scratch = PerThread::for_current_pool();
+        orders.into_par_iter().with_max_len(1).for_each(|m| {
+            // the only place a writer is made: one per order of a range, so never two for
+            // the same m at once
+            let mut out = OrderFourierColumns { grids, m };
+            scratch.with(&init, |state| body(state, &mut out));
+        });
     }
 }
 
@@ -295,18 +294,19 @@ impl<'c> CoefficientSums<'c> {
     }
 
     /// Runs `body` once for every order 0..=lmax, in parallel, one task per order.
-    pub(crate) fn for_each_order<S, I, F>(&mut self, init: I, body: F)
+    pub(crate) fn for_each_order<S: Send, I, F>(&mut self, init: I, body: F)
     where
         I: Fn() -> S + Sync + Send,
         F: Fn(&mut S, &mut OrderCoefficientSums) + Sync + Send,
     {
         let sums: &CoefficientSums = self;
+        let scratch = PerThread::for_current_pool();
         (0..self.lmax + 1)
             .into_par_iter()
             .with_max_len(1)
-            .for_each_init(init, |state, m| {
+            .for_each(|m| {
                 let mut out = OrderCoefficientSums { sums, m };
-                body(state, &mut out);
+                scratch.with(&init, |state| body(state, &mut out));
             });
     }
 }
