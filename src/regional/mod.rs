@@ -7,6 +7,7 @@
 pub mod cap;
 pub mod concentration;
 pub mod coupling;
+pub mod edge_bands;
 pub mod estimate;
 pub mod multitaper;
 pub mod polygon;

@@ -153,7 +153,13 @@ impl WignerSmallDHalf {
             }
             for (offset, out_row) in out.chunks_mut(side).enumerate() {
                 let i = first_row + offset;
-                stepper.row(n1, i, old_row(i), i.checked_sub(1).and_then(&old_row), &mut mid_this);
+                stepper.row(
+                    n1,
+                    i,
+                    old_row(i),
+                    i.checked_sub(1).and_then(&old_row),
+                    &mut mid_this,
+                );
                 let prev = if i >= 1 { Some(&mid_prev[..]) } else { None };
                 stepper.row(2 * l, i, Some(&mid_this), prev, out_row);
                 std::mem::swap(&mut mid_prev, &mut mid_this);
