@@ -135,8 +135,14 @@ impl WignerSmallDHalf {
             d: self.cos_half,
             sqrt_int: &self.sqrt_int,
         };
-        self.next.clear();
-        self.next.resize((l + 1) * side, 0.0);
+        // every entry of every row is written below, so the buffer is not cleared first (at
+        // L = 2,000 zeroing it cost a sixth of the instructions and a pass over memory)
+        let needed = (l + 1) * side;
+        if self.next.len() < needed {
+            self.next.resize(needed, 0.0);
+        } else {
+            self.next.truncate(needed);
+        }
         let rows = l + 1;
         let block = |first_row: usize, out: &mut [f64]| {
             let n1 = 2 * l - 1;
