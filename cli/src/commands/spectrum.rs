@@ -12,7 +12,7 @@ use crate::tables::{display_name, TableOutputs};
 use kugel::error::Error;
 use kugel::io::model::read_model;
 use kugel::io::provenance::Provenance;
-use kugel::regional::localised_spectrum_with_expected;
+use kugel::regional::{degree_average, localised_spectrum_with_expected};
 use kugel::report::plots::regional::localised_spectrum_svg;
 use kugel::report::plots::spectrum_svg;
 use kugel::spectral::{Spectrum, SpectrumOptions};
@@ -164,6 +164,13 @@ fn run_localised(
             local.lmax_window,
             local.lmax - local.lmax_window
         ));
+        let (first, last) = (local.lmax_window, local.lmax - local.lmax_window);
+        if let Ok(avg) = degree_average(&local, &set, &expected, first, last) {
+            outputs.report(&format!(
+                "over degrees {first}..{last} the localised power is {:.4} ± {:.4} times the expectation from the model's own global spectrum (standard error from the estimate's covariance, about {:.1} independent degrees)\n",
+                avg.mean_ratio, avg.standard_error, avg.effective_degrees
+            ));
+        }
     }
     Ok(())
 }

@@ -142,6 +142,25 @@ fn localised_spectrum_and_comparison_run_and_refuse_a_window_at_the_model_degree
         p(&csv),
     ]);
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    // without --quiet the report gives the average over the reliable degrees
+    let loud = crate::run_kugel(&[
+        "spectrum",
+        p(&input),
+        "--region",
+        "cap:30,-60,50",
+        "--window-lmax",
+        "6",
+    ]);
+    assert!(loud.status.success());
+    let said = format!(
+        "{}{}",
+        String::from_utf8_lossy(&loud.stdout),
+        String::from_utf8_lossy(&loud.stderr)
+    );
+    assert!(
+        said.contains("times the expectation") && said.contains("independent degrees"),
+        "{said}"
+    );
     let text = std::fs::read_to_string(&csv).unwrap();
     let header = text.lines().next().unwrap();
     for col in [
