@@ -123,7 +123,7 @@ impl ComplexCoefficients {
         out.reference_radius_m = self.reference_radius_m;
         out.gm_m3_s2 = self.gm_m3_s2;
         out.units = self.units.clone();
-        let r2 = std::f64::consts::SQRT_2;
+        let h = std::f64::consts::FRAC_1_SQRT_2;
         let close =
             |a: f64, b: f64, scale: f64| (a - b).abs() <= 1e-10 * scale.max(f64::MIN_POSITIVE);
         for l in 0..=self.lmax {
@@ -144,9 +144,12 @@ impl ComplexCoefficients {
                 };
                 let (pr, pi) = self.get(l, m as i64);
                 let (nr, ni) = self.get(l, -(m as i64));
-                // a_m = φ (C − iS)/√2 · k, a_−m = (C + iS)/√2 · k
-                let (c1, s1) = (phase * pr * r2 / k, -phase * pi * r2 / k);
-                let (c2, s2) = (nr * r2 / k, ni * r2 / k);
+                // a_m = φ (C − iS)/√2 · k, a_−m = (C + iS)/√2 · k; dividing by the same
+                // rounded 1/√2 that `from_real` multiplied by returns each geodesy value to
+                // within one ulp (multiplying by √2 instead can miss by two)
+                let hk = h * k;
+                let (c1, s1) = (phase * pr / hk, -phase * pi / hk);
+                let (c2, s2) = (nr / hk, ni / hk);
                 let scale = c1.abs().max(s1.abs()).max(c2.abs()).max(s2.abs());
                 if !close(c1, c2, scale) || !close(s1, s2, scale) {
                     return Err(Error::invalid(format!(

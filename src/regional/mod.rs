@@ -7,6 +7,8 @@
 pub mod cap;
 pub mod concentration;
 pub mod coupling;
+pub mod degree_average;
+pub mod edge_bands;
 pub mod estimate;
 pub mod multitaper;
 pub mod polygon;
@@ -18,6 +20,7 @@ pub mod tapers;
 pub use cap::{cap_shannon_number, cap_tapers_at_pole, check_cap_radius, Taper};
 pub use concentration::{concentration_matrix, region_tapers, LatitudeRows};
 pub use coupling::{coupling_matrix, expected_localised_spectrum};
+pub use degree_average::{degree_average, DegreeAverage};
 pub use estimate::{estimate_windows, localised_spectrum_with_expected};
 pub use multitaper::{
     localised_comparison, localised_spectrum, reliable_degrees, Estimate, LocalisedComparison,

@@ -17,6 +17,7 @@
 //! triangles that contain it. The tests check the area against Girard's theorem
 //! (A = Σ interior angles − (n − 2)π).
 
+use super::edge_bands::EdgeBands;
 use crate::error::{Error, Result};
 
 type Vec3 = [f64; 3];
@@ -74,6 +75,8 @@ pub struct SphericalPolygon {
     /// True when the region is the right side of the boundary as listed (the left is larger).
     complement: bool,
     area_sr: f64,
+    /// The edges by the latitudes they span, for [`SphericalPolygon::intervals_at`].
+    bands: EdgeBands,
     /// Name for messages, e.g. the file.
     pub source: String,
 }
@@ -81,6 +84,10 @@ pub struct SphericalPolygon {
 /// Arcs of a latitude circle shorter than this (radians) that cannot be classified are left
 /// out (module notes of `intervals_at`).
 const TINY_ARC_RAD: f64 = 1e-6;
+
+/// Crossings of a latitude circle closer than this (radians along the circle) are not
+/// trusted to classify the arc between them (see `intervals_at`).
+const CLOSE_CUTS_RAD: f64 = 1e-9;
 
 /// Smallest angular distance (radians, as a chord-free measure) below which two things count
 /// as touching.
@@ -159,8 +166,10 @@ impl SphericalPolygon {
             reference_in_left: false,
             complement: false,
             area_sr: 0.0,
+            bands: EdgeBands::new(&[]),
             source: source.to_string(),
         };
+        polygon.bands = EdgeBands::new(&polygon.edge_z_spans());
         polygon.check_simple()?;
         polygon.choose_reference();
         let fan: f64 = (0..n)
@@ -345,23 +354,47 @@ impl SphericalPolygon {
         self.in_left(p).map(|inside| inside != self.complement)
     }
 
+    /// Highest and lowest point of edge i's great circle that lie on the edge (none, one or
+    /// both), as z = cos θ.
+    fn edge_extremes(&self, i: usize) -> Vec<f64> {
+        let (_, _, nrm) = self.edge(i);
+        let top = [-nrm[2] * nrm[0], -nrm[2] * nrm[1], 1.0 - nrm[2] * nrm[2]];
+        let mut out = Vec::new();
+        if norm(top) > 1e-12 {
+            let top = unit(top);
+            for p in [top, [-top[0], -top[1], -top[2]]] {
+                if self.on_arc(i, p, 0.0) {
+                    out.push(p[2]);
+                }
+            }
+        }
+        out
+    }
+
+    /// [z_lo, z_hi] of every edge: its ends and any interior extreme.
+    fn edge_z_spans(&self) -> Vec<(f64, f64)> {
+        (0..self.points.len())
+            .map(|i| {
+                let (a, b, _) = self.edge(i);
+                let mut lo = a[2].min(b[2]);
+                let mut hi = a[2].max(b[2]);
+                for z in self.edge_extremes(i) {
+                    lo = lo.min(z);
+                    hi = hi.max(z);
+                }
+                (lo, hi)
+            })
+            .collect()
+    }
+
     /// z = cos θ values where the width of the region's latitude circles is not smooth: every
     /// vertex, every interior extreme latitude of an edge, and ±1.
     pub fn latitude_breaks(&self) -> Vec<f64> {
         let mut z = vec![-1.0, 1.0];
         for i in 0..self.points.len() {
-            let (a, _, nrm) = self.edge(i);
+            let (a, _, _) = self.edge(i);
             z.push(a[2]);
-            // highest and lowest point of the edge's great circle
-            let top = [-nrm[2] * nrm[0], -nrm[2] * nrm[1], 1.0 - nrm[2] * nrm[2]];
-            if norm(top) > 1e-12 {
-                let top = unit(top);
-                for p in [top, [-top[0], -top[1], -top[2]]] {
-                    if self.on_arc(i, p, 0.0) {
-                        z.push(p[2]);
-                    }
-                }
-            }
+            z.extend(self.edge_extremes(i));
         }
         z.sort_by(f64::total_cmp);
         z.dedup_by(|a, b| (*a - *b).abs() < 1e-14);
@@ -370,7 +403,113 @@ impl SphericalPolygon {
 
     /// Longitude intervals (radians, each `start < end`, possibly reaching past 2π) that the
     /// region covers on the circle of latitude with cos(colatitude) = `z`.
+    ///
+    /// The circle meets the boundary where it crosses an edge; only the edges whose latitude
+    /// range holds z are looked at ([`EdgeBands`]). Between two neighbouring crossings the
+    /// circle is all inside or all outside, and which one follows from the crossing edge
+    /// alone: along the circle n·P = ρ h cos(λ − δ) + n_z z (n the edge's unit normal A × B,
+    /// h = |(n_x, n_y)|, δ = atan2(n_y, n_x)), which falls through zero at λ = δ + s and rises
+    /// at λ = δ − s (s = arccos(−n_z z/(ρ h)) ∈ (0, π)), and the left side of an edge (n·P > 0)
+    /// is the left region L of the oriented boundary (module notes). Each arc is classified
+    /// from both of its ends; where the two disagree, or a crossing lies within 10⁻⁹ rad of
+    /// another (a circle through a vertex or touching one), the arc is classified by the fan
+    /// test as in [`SphericalPolygon::intervals_at_reference`]. So a row costs the edges
+    /// near its latitude, not crossings × vertices, and gives the reference's intervals.
     pub fn intervals_at(&self, z: f64) -> Result<Vec<(f64, f64)>> {
+        let rho = ((1.0 - z) * (1.0 + z)).max(0.0).sqrt();
+        let two_pi = 2.0 * std::f64::consts::PI;
+        // (longitude, the arc after it lies in L)
+        let mut cuts: Vec<(f64, bool)> = Vec::new();
+        if rho > 0.0 {
+            for i in self.bands.meeting(z) {
+                let (_, _, nrm) = self.edge(i);
+                let h = nrm[0].hypot(nrm[1]);
+                if h < 1e-15 {
+                    continue;
+                }
+                let c = -nrm[2] * z / (rho * h);
+                if c.abs() > 1.0 {
+                    continue;
+                }
+                let delta = nrm[1].atan2(nrm[0]);
+                let spread = c.acos();
+                for (lam, left_after) in [(delta + spread, false), (delta - spread, true)] {
+                    let p = [rho * lam.cos(), rho * lam.sin(), z];
+                    if self.on_arc(i, p, 1e-9) {
+                        cuts.push((lam.rem_euclid(two_pi), left_after));
+                    }
+                }
+            }
+        }
+        cuts.sort_by(|a, b| a.0.total_cmp(&b.0));
+        if cuts.is_empty() {
+            return self.intervals_at_reference(z);
+        }
+        let n = cuts.len();
+        let lam_at = |j: usize| cuts[j % n].0 + two_pi * (j / n) as f64;
+        let crowded = |j: usize| {
+            // j in n..2n so that j − 1 does not wrap below 0
+            (lam_at(j) - lam_at(j - 1)) * rho < CLOSE_CUTS_RAD
+                || (lam_at(j + 1) - lam_at(j)) * rho < CLOSE_CUTS_RAD
+        };
+        let at = |lam: f64| [rho * lam.cos(), rho * lam.sin(), z];
+        let mut out: Vec<(f64, f64)> = Vec::new();
+        for j in 0..n {
+            let start = cuts[j].0;
+            let end = cuts.get(j + 1).map(|c| c.0).unwrap_or(cuts[0].0 + two_pi);
+            if end - start < 1e-15 {
+                continue;
+            }
+            let from_start = cuts[j].1;
+            let from_end = !cuts[(j + 1) % n].1;
+            let inside = if from_start == from_end && !crowded(n + j) && !crowded(n + j + 1) {
+                from_start != self.complement
+            } else {
+                self.classify_arc(&at, rho, z, start, end)?
+            };
+            if inside {
+                match out.last_mut() {
+                    Some(last) if (last.1 - start).abs() < 1e-15 => last.1 = end,
+                    _ => out.push((start, end)),
+                }
+            }
+        }
+        Ok(out)
+    }
+
+    /// Whether the arc (start, end) of the latitude circle z lies in the region, by the fan
+    /// test at a few interior points (costs O(vertices) each).
+    fn classify_arc(
+        &self,
+        at: &dyn Fn(f64) -> Vec3,
+        rho: f64,
+        z: f64,
+        start: f64,
+        end: f64,
+    ) -> Result<bool> {
+        for f in [0.5, 0.37, 0.63, 0.21, 0.79] {
+            if let Some(inside) = self.contains(at(start + f * (end - start))) {
+                return Ok(inside);
+            }
+        }
+        if (end - start) * rho < TINY_ARC_RAD {
+            // a sliver beside a vertex, on a circle that nearly touches it: whichever side
+            // it is on, it adds less than its width times the row's weight
+            return Ok(false);
+        }
+        Err(Error::invalid(format!(
+            "{}: cannot tell inside from outside near latitude {:.6}°, longitude {:.6}°; \
+             the polygon is degenerate there (edges closer than about 1e-9 rad)",
+            self.source,
+            90.0 - z.acos().to_degrees(),
+            (0.5 * (start + end)).to_degrees()
+        )))
+    }
+
+    /// The reference for [`SphericalPolygon::intervals_at`]: every edge is tried for a
+    /// crossing and every arc between crossings classified by the fan test, so a row costs
+    /// crossings × vertices. Kept for the tests and for circles without crossings.
+    pub fn intervals_at_reference(&self, z: f64) -> Result<Vec<(f64, f64)>> {
         let rho = ((1.0 - z) * (1.0 + z)).max(0.0).sqrt();
         let two_pi = 2.0 * std::f64::consts::PI;
         let mut cuts = Vec::new();

@@ -18,7 +18,7 @@
 //!
 //! Any normalisation and phase is accepted; the set is converted to `geodesy` without the
 //! phase, rotated, and converted back. The d-matrices come degree after degree from Risbo's
-//! recursion ([`super::WignerSmallD`]); since degree l needs degree l − 1 the recursion itself
+//! recursion ([`super::WignerSmallDHalf`], only the rows m' ≥ 0); since degree l needs degree l − 1 the recursion itself
 //! runs in order (its rows in parallel), and each degree's product runs over m' in parallel.
 //! Standard errors cannot be rotated without their covariances and are dropped (the result
 //! says so in its `rotation_note` attribute).
@@ -26,7 +26,7 @@
 use rayon::prelude::*;
 
 use super::euler::EulerAngles;
-use super::wigner_d::WignerSmallD;
+use super::wigner_d_half::WignerSmallDHalf;
 use crate::coeffs::{packed_index, Coefficients};
 use crate::error::Result;
 use crate::memory;
@@ -39,7 +39,7 @@ const PARALLEL_FROM_DEGREE: usize = 96;
 /// internal copy).
 pub fn rotation_memory_bytes(lmax: usize) -> u64 {
     let packed = ((lmax + 1) * (lmax + 2) / 2) as u64;
-    WignerSmallD::memory_bytes(lmax) + 4 * packed * 8
+    WignerSmallDHalf::memory_bytes(lmax) + 4 * packed * 8
 }
 
 /// The set rotated by `angles` (module notes), in the input's normalisation and phase.
@@ -68,7 +68,7 @@ pub fn rotate_many(
     let packed = ((lmax + 1) * (lmax + 2) / 2) as u64;
     memory::check_fits(
         &format!("rotating {} degree-{lmax} model(s)", sets.len()),
-        WignerSmallD::memory_bytes(lmax) + 3 * sets.len() as u64 * packed * 8,
+        WignerSmallDHalf::memory_bytes(lmax) + 3 * sets.len() as u64 * packed * 8,
     )?;
     let mut inputs = Vec::with_capacity(sets.len());
     let mut outputs = Vec::with_capacity(sets.len());
@@ -81,7 +81,7 @@ pub fn rotate_many(
         outputs.push(out);
     }
     progress.stage("rotating", lmax as u64 + 1);
-    let mut d = WignerSmallD::new(angles.beta_rad, lmax);
+    let mut d = WignerSmallDHalf::new(angles.beta_rad, lmax);
     let mut degree_out: Vec<(f64, f64)> = Vec::with_capacity(lmax + 1);
     for l in 0..=lmax {
         if l > 0 {
@@ -127,7 +127,7 @@ pub fn rotate_many(
 fn rotate_degree(
     g: &Coefficients,
     l: usize,
-    d: &WignerSmallD,
+    d: &WignerSmallDHalf,
     angles: &EulerAngles,
     out: &mut Vec<(f64, f64)>,
 ) {
@@ -148,17 +148,14 @@ fn rotate_degree(
         })
         .collect();
     let one = |mp: usize| -> (f64, f64) {
-        let mpi = mp as isize;
-        let mut re = d.get(mpi, 0) * b[0].0;
+        // entry l − m of the row is d_{m'm}, entry l + m is d_{m',−m}
+        let row = d.row(mp);
+        let (up, down) = (&row[..=l], &row[l..]);
+        let mut re = down[0] * b[0].0;
         let mut im = 0.0;
         for (m, bm) in b.iter().enumerate().skip(1) {
-            let mi = m as isize;
-            let direct = d.get(mpi, mi);
-            let mirrored = if m % 2 == 1 {
-                -d.get(mpi, -mi)
-            } else {
-                d.get(mpi, -mi)
-            };
+            let direct = up[l - m];
+            let mirrored = if m % 2 == 1 { -down[m] } else { down[m] };
             re += (direct + mirrored) * bm.0;
             im += (direct - mirrored) * bm.1;
         }

@@ -239,6 +239,65 @@ def check_spectrum(kugel, tmp, model_nc):
         check(False, "spectrum.csv: no column named like the degree-variance variable %r" % found)
 
 
+def check_complex_file(kugel, tmp, model_nc):
+    """`convert --form complex` to NetCDF and `rotate` of the complex file (docs/conventions.md
+    section 8): attributes, the order axis -L..L, empty cells |m| > l, and values from the
+    closed-form relation a_lm = (-1)^m sqrt(4 pi) (C - iS)/sqrt(2), a_l,-m = sqrt(4 pi) (C + iS)/sqrt(2)
+    for orthonormal complex harmonics with the Condon-Shortley phase (N_geodesy / N_orthonormal
+    = sqrt(4 pi), docs/conventions.md section 2)."""
+    cx = os.path.join(tmp, "complex.nc")
+    run(kugel, "convert", model_nc, cx, "--form", "complex", "--normalization", "orthonormal",
+        "--condon-shortley", "on")
+    k = math.sqrt(4 * math.pi)
+    h = 1 / math.sqrt(2)
+
+    def expected(l, m):
+        c, s = expected_coefficient(l, abs(m))
+        if m == 0:
+            return complex(k * c, 0.0)
+        if m > 0:
+            return (-1) ** m * k * h * complex(c, -s)
+        return k * h * complex(c, s)
+
+    with netCDF4.Dataset(cx) as ds:
+        name = "complex.nc"
+        check(ds.data_model == "NETCDF4", "%s: data model %s" % (name, ds.data_model))
+        check_cf_globals(ds, name)
+        check(ds.coefficient_form == "complex", "%s: coefficient_form %r" % (name, ds.coefficient_form))
+        check(ds.normalization == "orthonormal", "%s: normalization %s" % (name, ds.normalization))
+        check(int(ds.condon_shortley_phase) == 1, "%s: condon_shortley_phase" % name)
+        check(float(ds.reference_radius_m) == 6378137.0, "%s: reference_radius_m" % name)
+        check(int(ds.lmax) == LMAX, "%s: lmax" % name)
+        check(ds.dimensions["order"].size == 2 * LMAX + 1, "%s: order dimension size" % name)
+        check(list(ds.variables["order"][:]) == list(range(-LMAX, LMAX + 1)), "%s: order coordinate" % name)
+        re = np.ma.filled(ds.variables["a_real"][:].astype(float), np.nan)
+        im = np.ma.filled(ds.variables["a_imag"][:].astype(float), np.nan)
+        check(ds.variables["a_real"].dimensions == ("degree", "order"), "%s: a_real dimensions" % name)
+        for l in range(LMAX + 1):
+            for m in range(-LMAX, LMAX + 1):
+                j = m + LMAX
+                if abs(m) > l:
+                    check(np.isnan(re[l, j]) and np.isnan(im[l, j]), "%s: cell (%d,%d) with |m| > l not empty" % (name, l, m))
+                    continue
+                want = expected(l, m)
+                got = complex(re[l, j], im[l, j])
+                check(abs(got - want) <= 1e-14 * max(1.0, abs(want)), "%s: a[%d,%d] = %r, expected %r" % (name, l, m, got, want))
+    # a turn by 30 degrees about the polar axis multiplies a_lm by exp(-i m 30 deg) (rotation
+    # convention of docs/conventions.md, D = exp(-i m' alpha) d(beta) exp(-i m gamma), d(0) = 1);
+    # a complex input gives a complex output
+    rot = os.path.join(tmp, "complex_rotated.nc")
+    run(kugel, "rotate", cx, "-o", rot, "--euler", "30,0,0")
+    with netCDF4.Dataset(rot) as ds:
+        name = "complex_rotated.nc"
+        check(ds.coefficient_form == "complex", "%s: rotate did not keep the complex form" % name)
+        re = np.ma.filled(ds.variables["a_real"][:].astype(float), np.nan)
+        im = np.ma.filled(ds.variables["a_imag"][:].astype(float), np.nan)
+        for l, m in ((2, 1), (3, -3), (1, 0)):
+            want = expected(l, m) * complex(math.cos(m * math.radians(30)), -math.sin(m * math.radians(30)))
+            got = complex(re[l, m + LMAX], im[l, m + LMAX])
+            check(abs(got - want) <= 1e-12 * max(1.0, abs(want)), "%s: a[%d,%d] = %r, expected %r" % (name, l, m, got, want))
+
+
 def main():
     ap = argparse.ArgumentParser(description=__doc__)
     ap.add_argument("--kugel", required=True, help="path to the kugel binary")
@@ -260,6 +319,7 @@ def main():
         run(kugel, "convert", model, schmidt, "--normalization", "schmidt")
         # geodesy -> Schmidt multiplies by sqrt(2l+1) (docs/conventions.md section 2)
         check_model_file(schmidt, lambda l, m: math.sqrt(2 * l + 1), "schmidt")
+        check_complex_file(kugel, tmp, model)
 
         regular = os.path.join(tmp, "regular.nc")
         run(kugel, "synthesize", model, "-o", regular, "--grid", "regular:2")

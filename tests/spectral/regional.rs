@@ -5,8 +5,8 @@
 
 use kugel::progress::Silent;
 use kugel::regional::{
-    cap_taper_set, cap_tapers_at_pole, expected_localised_spectrum, localised_comparison,
-    localised_spectrum, TaperChoice,
+    cap_taper_set, cap_tapers_at_pole, degree_average, expected_localised_spectrum,
+    localised_comparison, localised_spectrum, DegreeAverage, TaperChoice,
 };
 use kugel::rotate::{wigner_3j_all_j1, EulerAngles};
 use kugel::sht::evaluate_points;
@@ -234,17 +234,16 @@ fn white_noise_localised_spectrum_is_within_its_uncertainty_of_the_global() {
         .map(|l| s.power.value[*l] / (2 * l + 1) as f64)
         .sum::<f64>()
         / n;
-    // The degree estimates are correlated over about 2·L_W + 1 degrees (the windows couple
-    // them), so the standard error of their average is the fully correlated one, the mean of
-    // the σ's, not the independent sqrt(Σσ²)/n (about √n times smaller).
-    let se = reliable
-        .iter()
-        .map(|l| s.power.sigma[*l] / (2 * l + 1) as f64)
-        .sum::<f64>()
-        / n;
+    // The degree estimates are correlated over about 2·L_W + 1 degrees and the windows see
+    // the same patch, so the standard error of the average comes from their covariance
+    // (`degree_average`), not from the windows' scatter.
+    let reference: Vec<f64> = (0..=lmax).map(|l| (2 * l + 1) as f64).collect();
+    let avg = degree_average(&s, &set, &reference, 20, 80).unwrap();
+    assert!((avg.mean_ratio - mean).abs() < 1e-12);
+    let se = avg.standard_error;
     eprintln!("white noise: mean ratio {mean}, standard error {se}, {k} windows");
     assert!((mean - 1.0).abs() < 3.0 * se, "mean {mean} ± {se}");
-    assert!(se > 0.0 && se < 0.05, "{se}");
+    assert!(se > 0.0 && se < 0.08, "{se}");
 }
 
 #[test]
@@ -324,7 +323,8 @@ fn white_noise_localised_spectrum_is_unbiased_over_many_fields() {
     // L_W = 20 and L = 100 of the test above, 24 fields gave 0.9835 ± 0.0118: its single field's
     // 1.018 is sampling scatter (0.3 ensemble sd), not an offset; but there the mean stated se
     // (0.038) was 0.66 of the scatter between fields (0.058), because all windows see the same
-    // patch of the one field and their estimates are not independent.
+    // patch of the one field and their estimates are not independent: the stated error of a
+    // degree average comes from `degree_average` (checked in the next test but one).
     let (lmax, lw) = (60, 10);
     let set = cap_taper_set(
         lw,
@@ -352,5 +352,68 @@ fn white_noise_localised_spectrum_is_unbiased_over_many_fields() {
     assert!(
         stated > 0.5 * sd && stated < 2.0 * sd,
         "stated {stated} vs scatter {sd}"
+    );
+}
+
+#[test]
+fn stated_error_of_a_degree_average_matches_the_scatter_over_many_fields() {
+    // The configuration where the scatter of the windows alone understated the error by a
+    // third (40° cap, L_W = 20, L = 100: stated 0.038, observed 0.058). White noise of unit
+    // variance per coefficient has S_l = 2l + 1 (common practice), so Ŝ(l)/(2l+1) averaged over
+    // the reliable degrees has expectation 1 (Wieczorek & Simons 2005 with Edmonds 1957 eq.
+    // 3.7.8). Over 48 independent fields (fixed seeds) the mean stated standard error of
+    // `degree_average` must match the observed field-to-field scatter within 0.75–1.33 (the
+    // scatter of 48 values is itself uncertain by about 10 %), and the mean ratio must lie
+    // within 3 standard errors of the ensemble mean of 1.
+    let (lmax, lw) = (100, 20);
+    let set = cap_taper_set(
+        lw,
+        40.0,
+        (20.0, 60.0),
+        Some(TaperChoice::MinConcentration(0.99)),
+    )
+    .unwrap();
+    let reference: Vec<f64> = (0..=lmax).map(|l| (2 * l + 1) as f64).collect();
+    let runs: Vec<DegreeAverage> = (0..48u64)
+        .map(|seed| {
+            let f = random_model(lmax, 31_000 + seed, |_| 1.0);
+            let s =
+                localised_spectrum(&f, &set, TaperChoice::MinConcentration(0.99), &Silent).unwrap();
+            degree_average(&s, &set, &reference, lw, lmax - lw).unwrap()
+        })
+        .collect();
+    let n = runs.len() as f64;
+    let mean = runs.iter().map(|r| r.mean_ratio).sum::<f64>() / n;
+    let observed = (runs
+        .iter()
+        .map(|r| (r.mean_ratio - mean).powi(2))
+        .sum::<f64>()
+        / (n - 1.0))
+        .sqrt();
+    let stated = runs.iter().map(|r| r.standard_error).sum::<f64>() / n;
+    let scatter_only = runs.iter().map(|r| r.scatter_standard_error).sum::<f64>() / n;
+    let n_eff = runs[0].effective_degrees;
+    eprintln!(
+        "degree average over {n} fields, {} windows: mean {mean:.5}, observed sd {observed:.5}, stated se {stated:.5}, scatter-only se {scatter_only:.5}, effective degrees {n_eff:.2} of {}",
+        set.tapers.len(),
+        lmax - 2 * lw + 1
+    );
+    let ratio = stated / observed;
+    assert!(
+        (0.75..=1.33).contains(&ratio),
+        "stated {stated} vs observed {observed} (ratio {ratio})"
+    );
+    assert!(
+        (mean - 1.0).abs() < 3.0 * observed / n.sqrt(),
+        "mean {mean}, ensemble sd {observed}"
+    );
+    // each field's own interval: about 95 % of the fields lie within 2 stated errors of 1
+    let covered = runs
+        .iter()
+        .filter(|r| (r.mean_ratio - 1.0).abs() < 2.0 * r.standard_error)
+        .count();
+    assert!(
+        covered >= 40,
+        "only {covered} of 48 fields within 2 stated errors"
     );
 }

@@ -367,3 +367,88 @@ fn circles_grazing_a_vertex_are_classified() {
         );
     }
 }
+
+/// A star-shaped ring of `n` vertices about (lat, lon): radius 20° with wiggles of 3° and 1°
+/// (simple because every radius is positive and the bearing increases).
+fn wiggly_ring(lat: f64, lon: f64, n: usize) -> Vec<(f64, f64)> {
+    (0..n)
+        .map(|k| {
+            let phi = 2.0 * std::f64::consts::PI * k as f64 / n as f64;
+            let r = 20.0 + 3.0 * (7.0 * phi).sin() + (53.0 * phi).sin();
+            destination(lat, lon, r, phi.to_degrees())
+        })
+        .collect()
+}
+
+fn same_intervals(p: &SphericalPolygon, z: f64) -> usize {
+    // reference: the classification of every arc by the fan test (intervals_at_reference)
+    let fast = p.intervals_at(z).unwrap();
+    let slow = p.intervals_at_reference(z).unwrap();
+    assert_eq!(fast.len(), slow.len(), "z {z}: {fast:?} vs {slow:?}");
+    for (a, b) in fast.iter().zip(&slow) {
+        assert!(
+            (a.0 - b.0).abs() < 1e-12 && (a.1 - b.1).abs() < 1e-12,
+            "z {z}: {a:?} vs {b:?}"
+        );
+    }
+    fast.len()
+}
+
+#[test]
+fn fast_latitude_intervals_match_the_reference() {
+    // rings listed either way, one about a pole (a circle with no crossing), one across the
+    // date line, a small octant-like triangle, and rows through vertices (where two crossings
+    // coincide and the fast path falls back to the fan test)
+    let mut rings: Vec<Vec<(f64, f64)>> = vec![
+        wiggly_ring(30.0, 40.0, 300),
+        wiggly_ring(-75.0, 170.0, 301),
+        wiggly_ring(80.0, -20.0, 150),
+        vec![(90.0, 0.0), (0.0, 0.0), (0.0, 90.0)],
+    ];
+    let mut reversed = rings[0].clone();
+    reversed.reverse();
+    rings.push(reversed);
+    let mut arcs = 0;
+    for ring in rings {
+        let vertices: Vec<Vertex> = ring
+            .iter()
+            .enumerate()
+            .map(|(i, &(lat_deg, lon_deg))| Vertex {
+                lat_deg,
+                lon_deg,
+                origin: format!("vertex {i}"),
+            })
+            .collect();
+        let p = SphericalPolygon::new(vertices, "ring").unwrap();
+        for k in 0..=997 {
+            arcs += same_intervals(&p, -0.999 + 1.998 * k as f64 / 997.0);
+        }
+        for &(lat, _) in ring.iter().step_by(7) {
+            arcs += same_intervals(&p, lat.to_radians().sin());
+        }
+    }
+    assert!(arcs > 1000, "too few arcs compared: {arcs}");
+}
+
+#[test]
+fn a_ring_of_ten_thousand_vertices_gives_the_reference_rows() {
+    // The rows of a 10,000-vertex ring (the size of a digitised coastline) from the fast
+    // intervals, every 40th against the reference; the whole row set would take the reference
+    // minutes (rows × crossings × vertices).
+    let ring = wiggly_ring(30.0, 40.0, 10_000);
+    let vertices: Vec<Vertex> = ring
+        .iter()
+        .map(|&(lat_deg, lon_deg)| Vertex {
+            lat_deg,
+            lon_deg,
+            origin: "ring".into(),
+        })
+        .collect();
+    let p = SphericalPolygon::new(vertices, "ring").unwrap();
+    let rows = kugel::regional::polygon_rows(&p, 10).unwrap();
+    assert!(rows.z.len() > 1000, "{} rows", rows.z.len());
+    for (i, &z) in rows.z.iter().enumerate().step_by(40) {
+        let n = same_intervals(&p, z);
+        assert_eq!(n, rows.intervals[i].len());
+    }
+}

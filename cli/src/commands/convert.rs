@@ -11,8 +11,7 @@ use kugel::coeffs::Normalization;
 use kugel::complex_coeffs::ComplexCoefficients;
 use kugel::error::Error;
 use kugel::io::atomic::refuse_overwrite_of_input;
-use kugel::io::model::complex_text::write_complex_text;
-use kugel::io::model::{is_netcdf_path, read_model_with_report, write_model};
+use kugel::io::model::{read_model_with_report, write_complex_model, write_model};
 use kugel::io::provenance::Provenance;
 
 #[derive(Debug, clap::Args)]
@@ -32,10 +31,10 @@ pub struct Args {
     /// Normalisation of a text table that has no `normalization =` header line.
     #[arg(long, value_name = "N")]
     pub assume_normalization: Option<String>,
-    /// Form of the output: real (C, S for m ≥ 0) or complex (a_lm for m = −l..l, a text table
-    /// with `coefficient_form = complex`, its normalisation and phase in the header; see
-    /// docs/conventions.md). Complex tables are read back by every command as the real set of
-    /// the same field.
+    /// Form of the output: real (C, S for m ≥ 0) or complex (a_lm for m = −l..l, with
+    /// `coefficient_form = complex`, its normalisation and phase recorded: a NetCDF-4 file for a
+    /// .nc name, else a text table; see docs/conventions.md). Complex sets are read back by
+    /// every command as the real set of the same field.
     #[arg(long, value_name = "real|complex", default_value = "real")]
     pub form: String,
 }
@@ -98,13 +97,6 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
             )
         }
     };
-    if complex && is_netcdf_path(&args.output) {
-        return Err(Error::invalid(format!(
-            "--form complex writes a text table; {} names a NetCDF file (choose a .txt name)",
-            args.output.display()
-        ))
-        .into());
-    }
     let out = model.converted(target, phase)?;
     let mut prov = Provenance::from_command_line(&ctx.command_line);
     prov.add_input(&args.input)?;
@@ -112,7 +104,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     prov.normalization = Some(out.normalization.name().to_string());
     if complex {
         let set = ComplexCoefficients::from_real(&model, target, phase)?;
-        write_complex_text(&args.output, &set, &prov)?;
+        write_complex_model(&args.output, &set, &prov)?;
     } else {
         write_model(&args.output, &out, &prov)?;
     }

@@ -6,9 +6,10 @@ use std::path::PathBuf;
 use super::CommandContext;
 use crate::args::parse_numbers;
 use crate::progress_bar::TerminalProgress;
+use kugel::complex_coeffs::ComplexCoefficients;
 use kugel::error::Error;
 use kugel::io::atomic::refuse_overwrite_of_input;
-use kugel::io::model::{read_model, write_model};
+use kugel::io::model::{model_form, read_model, write_complex_model, write_model, CoefficientForm};
 use kugel::io::provenance::Provenance;
 use kugel::rotate::{rotate_with_progress, EulerAngles, ROTATION_ATTRIBUTE};
 
@@ -51,6 +52,10 @@ pub struct Args {
     /// Euler angles A,B,G in degrees of the active z-y-z rotation Rz(A) Ry(B) Rz(G) (see below).
     #[arg(long, value_name = "A,B,G", allow_hyphen_values = true)]
     pub euler: Option<String>,
+    /// Form of the output: real (C, S) or complex (a_lm, m = −l..l, in the input's
+    /// normalisation and phase). Default: the input's form, so a complex set comes out complex.
+    #[arg(long, value_name = "real|complex")]
+    pub form: Option<String>,
 }
 
 /// The rotation the arguments ask for.
@@ -73,6 +78,16 @@ pub fn angles_from_args(args: &Args) -> Result<EulerAngles, Error> {
 pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     refuse_overwrite_of_input(&args.output, &[&args.model])?;
     let angles = angles_from_args(args)?;
+    let form = match args.form.as_deref().map(|f| f.trim().to_ascii_lowercase()) {
+        None => model_form(&args.model)?,
+        Some(f) if f == "real" => CoefficientForm::Real,
+        Some(f) if f == "complex" => CoefficientForm::Complex,
+        Some(other) => {
+            return Err(
+                Error::invalid(format!("--form '{other}': expected real or complex")).into(),
+            )
+        }
+    };
     let model = read_model(&args.model)?;
     let progress = TerminalProgress::new(ctx.quiet);
     let result = rotate_with_progress(&model, &angles, &progress);
@@ -85,14 +100,28 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
     provenance.add_input(&args.model)?;
     provenance.lmax = Some(rotated.lmax());
     provenance.normalization = Some(rotated.normalization.name().to_string());
-    write_model(&args.output, &rotated, &provenance)?;
+    if form == CoefficientForm::Complex {
+        let set = ComplexCoefficients::from_real(
+            &rotated,
+            rotated.normalization,
+            rotated.condon_shortley,
+        )?;
+        write_complex_model(&args.output, &set, &provenance)?;
+    } else {
+        write_model(&args.output, &rotated, &provenance)?;
+    }
     if !ctx.quiet {
         if model.sigmas().is_some() {
             eprintln!("note: standard errors were dropped (rotating them needs their covariances)");
         }
         crate::outputs::wrote(format!(
-            "wrote {} (degree {}, rotated by Euler z-y-z {:.6}°, {:.6}°, {:.6}°)",
+            "wrote {} ({}degree {}, rotated by Euler z-y-z {:.6}°, {:.6}°, {:.6}°)",
             args.output.display(),
+            if form == CoefficientForm::Complex {
+                "complex form, "
+            } else {
+                ""
+            },
             rotated.lmax(),
             angles.alpha_rad.to_degrees(),
             angles.beta_rad.to_degrees(),

@@ -12,7 +12,7 @@ use crate::tables::{display_name, TableOutputs};
 use kugel::error::Error;
 use kugel::io::model::read_model;
 use kugel::io::provenance::Provenance;
-use kugel::regional::localised_spectrum_with_expected;
+use kugel::regional::{degree_average, localised_spectrum_with_expected};
 use kugel::report::plots::regional::localised_spectrum_svg;
 use kugel::report::plots::spectrum_svg;
 use kugel::spectral::{Spectrum, SpectrumOptions};
@@ -154,7 +154,7 @@ fn run_localised(
         localised_spectrum_svg(&local, Some(&expected), &title)
     })?;
     if !ctx.quiet {
-        outputs.report(&format!(
+        let mut summary = format!(
             "localised spectrum of {name} in {}: {} windows of degree {} (concentration ≥ {:.4}), Shannon number {:.2}; degrees {}..{} reliable\n",
             set.region,
             local.taper_count,
@@ -163,7 +163,15 @@ fn run_localised(
             set.shannon_number,
             local.lmax_window,
             local.lmax - local.lmax_window
-        ));
+        );
+        let (first, last) = (local.lmax_window, local.lmax - local.lmax_window);
+        if let Ok(avg) = degree_average(&local, &set, &expected, first, last) {
+            summary.push_str(&format!(
+                "over degrees {first}..{last} the localised power is {:.4} ± {:.4} times the expectation from the model's own global spectrum (standard error from the estimate's covariance, about {:.1} independent degrees)\n",
+                avg.mean_ratio, avg.standard_error, avg.effective_degrees
+            ));
+        }
+        outputs.report(&summary);
     }
     Ok(())
 }

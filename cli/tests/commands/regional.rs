@@ -3,7 +3,7 @@
 
 use std::path::Path;
 
-use kugel::io::model::{read_model, write_model};
+use kugel::io::model::{model_form, read_model, write_model, CoefficientForm};
 use kugel::io::provenance::Provenance;
 use kugel::sht::evaluate_points;
 use netcdf_reader::NcFile;
@@ -142,6 +142,25 @@ fn localised_spectrum_and_comparison_run_and_refuse_a_window_at_the_model_degree
         p(&csv),
     ]);
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    // without --quiet the report gives the average over the reliable degrees
+    let loud = crate::run_kugel(&[
+        "spectrum",
+        p(&input),
+        "--region",
+        "cap:30,-60,50",
+        "--window-lmax",
+        "6",
+    ]);
+    assert!(loud.status.success());
+    let said = format!(
+        "{}{}",
+        String::from_utf8_lossy(&loud.stdout),
+        String::from_utf8_lossy(&loud.stderr)
+    );
+    assert!(
+        said.contains("times the expectation") && said.contains("independent degrees"),
+        "{said}"
+    );
     let text = std::fs::read_to_string(&csv).unwrap();
     let header = text.lines().next().unwrap();
     for col in [
@@ -293,4 +312,59 @@ fn complex_tables_convert_back_and_rotate() {
             .status
             .success()
     );
+    // a complex input comes out complex unless told otherwise
+    assert_eq!(model_form(&r).unwrap(), CoefficientForm::Complex);
+    let r_real = dir.path().join("r_real.nc");
+    let o = run_kugel(&[
+        "rotate",
+        p(&cx),
+        "-o",
+        p(&r_real),
+        "--pole",
+        "10,20",
+        "--form",
+        "real",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_eq!(model_form(&r_real).unwrap(), CoefficientForm::Real);
+    let (a, b) = (read_model(&r).unwrap(), read_model(&r_real).unwrap());
+    for (l, m, c, s) in b.iter() {
+        assert!((a.c(l, m) - c).abs() < 1e-14 && (a.s(l, m) - s).abs() < 1e-14);
+    }
+}
+
+#[test]
+fn complex_sets_convert_to_netcdf_and_back() {
+    let dir = tempfile::tempdir().unwrap();
+    let input = model_file(dir.path(), 12);
+    let cx = dir.path().join("c.nc");
+    let o = run_kugel(&[
+        "convert",
+        p(&input),
+        p(&cx),
+        "--form",
+        "complex",
+        "--normalization",
+        "orthonormal",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert_eq!(model_form(&cx).unwrap(), CoefficientForm::Complex);
+    // any command reads it: back to a real geodesy table
+    let back_path = dir.path().join("back.txt");
+    let o = run_kugel(&[
+        "convert",
+        p(&cx),
+        p(&back_path),
+        "--normalization",
+        "geodesy",
+    ]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let back = read_model(&back_path).unwrap();
+    let orig = read_model(&input).unwrap().to_geodesy().unwrap();
+    for (l, m, c, s) in orig.iter() {
+        assert!(
+            (back.c(l, m) - c).abs() < 1e-14 && (back.s(l, m) - s).abs() < 1e-14,
+            "({l},{m})"
+        );
+    }
 }

@@ -7,6 +7,7 @@
 use std::io::Read;
 use std::path::Path;
 
+pub mod complex_netcdf;
 pub mod complex_text;
 pub mod netcdf;
 pub mod text;
@@ -14,6 +15,7 @@ pub mod text;
 use self::netcdf::{read_model_netcdf, write_model_netcdf};
 use self::text::{read_model_text, write_model_text, TextModelReport};
 use crate::coeffs::Coefficients;
+use crate::complex_coeffs::ComplexCoefficients;
 use crate::error::{Error, Result};
 use crate::io::provenance::Provenance;
 
@@ -130,6 +132,10 @@ pub fn write_model(path: &Path, coeffs: &Coefficients, provenance: &Provenance) 
 /// (missing pairs, assumed normalisation).
 pub fn read_model_with_report(path: &Path) -> Result<(Coefficients, Option<TextModelReport>)> {
     if has_netcdf_magic(path)? {
+        if complex_netcdf::declares_complex_form(path)? {
+            let set = complex_netcdf::read_complex_netcdf(path)?;
+            return Ok((real_of_complex(&set, path)?, None));
+        }
         Ok((read_model_netcdf(path)?, None))
     } else if is_netcdf_path(path) {
         Err(Error::format(
@@ -142,15 +148,58 @@ pub fn read_model_with_report(path: &Path) -> Result<(Coefficients, Option<TextM
         if complex_text::is_complex_table(&text) {
             // a complex set (m = −l..l) is read as the real set of the same field
             let set = complex_text::parse_complex_text(&text, path)?;
-            let real = set
-                .to_real()
-                .and_then(|r| r.converted(set.normalization, set.condon_shortley))
-                .map_err(|e| Error::format(path, e.to_string()))?;
-            return Ok((real, None));
+            return Ok((real_of_complex(&set, path)?, None));
         }
         let (c, r) = read_model_text(path)?;
         validate_model(&c, path)?;
         Ok((c, Some(r)))
+    }
+}
+
+/// The real set of the same field as a complex one, in the complex set's normalisation and
+/// phase; errors name the file and the (l, m) that is not the partner a real field needs.
+fn real_of_complex(set: &ComplexCoefficients, path: &Path) -> Result<Coefficients> {
+    let real = set
+        .to_real()
+        .and_then(|r| r.converted(set.normalization, set.condon_shortley))
+        .map_err(|e| Error::format(path, e.to_string()))?;
+    validate_model(&real, path)?;
+    Ok(real)
+}
+
+/// Whether a model file holds a real set (C, S; m ≥ 0) or a complex one (a_lm, m = −l..l).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum CoefficientForm {
+    Real,
+    Complex,
+}
+
+/// The form of the model in `path` (NetCDF by its `coefficient_form` attribute, text tables
+/// by their header), without reading the coefficients of a NetCDF file.
+pub fn model_form(path: &Path) -> Result<CoefficientForm> {
+    let complex = if has_netcdf_magic(path)? {
+        complex_netcdf::declares_complex_form(path)?
+    } else {
+        let bytes = std::fs::read(path).map_err(|e| Error::io(path, e))?;
+        complex_text::is_complex_table(&String::from_utf8_lossy(&bytes))
+    };
+    Ok(if complex {
+        CoefficientForm::Complex
+    } else {
+        CoefficientForm::Real
+    })
+}
+
+/// Writes a complex set: NetCDF-4 when the extension says so, else a text table.
+pub fn write_complex_model(
+    path: &Path,
+    set: &ComplexCoefficients,
+    provenance: &Provenance,
+) -> Result<()> {
+    if is_netcdf_path(path) {
+        complex_netcdf::write_complex_netcdf(path, set, provenance)
+    } else {
+        complex_text::write_complex_text(path, set, provenance)
     }
 }
 
