@@ -5,7 +5,7 @@
 use std::path::Path;
 
 use netcdf_reader::{NcAttrValue, NcAttribute, NcFile};
-use netcdf_writer::{NcFileBuilder, NcWriteFormat, NcWriteOptions, VariableId};
+use netcdf_writer::{DimensionId, NcFileBuilder, NcWriteFormat, NcWriteOptions, VariableId};
 
 use super::provenance::{source_attribute, Provenance};
 use crate::error::{Error, Result};
@@ -84,6 +84,32 @@ pub fn var_text(
 ) -> Result<()> {
     b.add_variable_attribute(var, name, chars(value))
         .map_err(|e| write_error(path, e))
+}
+
+/// The `degree` and `order` coordinate axes of a coefficient file: dimensions and integer
+/// coordinate variables with the values given (0..=L; orders 0..=L for real sets, −L..=L for
+/// complex ones), `order_long_name` saying which. Returns the two dimensions.
+pub fn degree_order_axes(
+    b: &mut NcFileBuilder,
+    path: &Path,
+    degrees: &[i32],
+    orders: &[i32],
+    order_long_name: &str,
+) -> Result<(DimensionId, DimensionId)> {
+    let we = |e| write_error(path, e);
+    let d_deg = b
+        .add_dimension("degree", degrees.len() as u64)
+        .map_err(we)?;
+    let d_ord = b.add_dimension("order", orders.len() as u64).map_err(we)?;
+    let v_deg = b.add_variable::<i32>("degree", &[d_deg]).map_err(we)?;
+    var_text(b, path, v_deg, "long_name", "spherical-harmonic degree l")?;
+    var_text(b, path, v_deg, "units", "1")?;
+    let v_ord = b.add_variable::<i32>("order", &[d_ord]).map_err(we)?;
+    var_text(b, path, v_ord, "long_name", order_long_name)?;
+    var_text(b, path, v_ord, "units", "1")?;
+    b.write_variable(v_deg, degrees).map_err(we)?;
+    b.write_variable(v_ord, orders).map_err(we)?;
+    Ok((d_deg, d_ord))
 }
 
 /// Adds `Conventions`, `title`, `source` and the provenance attributes, then `extra` (skipping

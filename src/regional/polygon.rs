@@ -535,25 +535,7 @@ impl SphericalPolygon {
         }
         cuts.sort_by(f64::total_cmp);
         let at = |lam: f64| [rho * lam.cos(), rho * lam.sin(), z];
-        let classify = |start: f64, end: f64| -> Result<bool> {
-            for f in [0.5, 0.37, 0.63, 0.21, 0.79] {
-                if let Some(inside) = self.contains(at(start + f * (end - start))) {
-                    return Ok(inside);
-                }
-            }
-            if (end - start) * rho < TINY_ARC_RAD {
-                // a sliver beside a vertex, on a circle that nearly touches it: whichever side
-                // it is on, it adds less than its width times the row's weight
-                return Ok(false);
-            }
-            Err(Error::invalid(format!(
-                "{}: cannot tell inside from outside near latitude {:.6}°, longitude {:.6}°; \
-                 the polygon is degenerate there (edges closer than about 1e-9 rad)",
-                self.source,
-                90.0 - z.acos().to_degrees(),
-                (0.5 * (start + end)).to_degrees()
-            )))
-        };
+        let classify = |start: f64, end: f64| self.classify_arc(&at, rho, z, start, end);
         if cuts.is_empty() {
             return Ok(if classify(0.0, two_pi)? {
                 vec![(0.0, two_pi)]

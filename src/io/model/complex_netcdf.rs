@@ -64,30 +64,15 @@ pub fn write_complex_netcdf(
     )?;
     let we = |e| nc::write_error(path, e);
     let mut b = NcFileBuilder::new();
-    let d_deg = b.add_dimension("degree", rows as u64).map_err(we)?;
-    let d_ord = b.add_dimension("order", cols as u64).map_err(we)?;
-    let v_deg = b.add_variable::<i32>("degree", &[d_deg]).map_err(we)?;
-    nc::var_text(
-        &mut b,
-        path,
-        v_deg,
-        "long_name",
-        "spherical-harmonic degree l",
-    )?;
-    nc::var_text(&mut b, path, v_deg, "units", "1")?;
-    let v_ord = b.add_variable::<i32>("order", &[d_ord]).map_err(we)?;
-    nc::var_text(
-        &mut b,
-        path,
-        v_ord,
-        "long_name",
-        "spherical-harmonic order m (negative orders included)",
-    )?;
-    nc::var_text(&mut b, path, v_ord, "units", "1")?;
     let degrees: Vec<i32> = (0..rows as i32).collect();
     let orders: Vec<i32> = (-(lmax as i32)..=lmax as i32).collect();
-    b.write_variable(v_deg, &degrees).map_err(we)?;
-    b.write_variable(v_ord, &orders).map_err(we)?;
+    let (d_deg, d_ord) = nc::degree_order_axes(
+        &mut b,
+        path,
+        &degrees,
+        &orders,
+        "spherical-harmonic order m (negative orders included)",
+    )?;
 
     let mut re = vec![f64::NAN; rows * cols];
     let mut im = vec![f64::NAN; rows * cols];

@@ -46,29 +46,9 @@ pub fn write_model_netcdf(
     crate::memory::check_fits("writing the coefficient model", (n * 8 * 4 * 3) as u64)?;
     let we = |e| nc::write_error(path, e);
     let mut b = NcFileBuilder::new();
-    let d_deg = b.add_dimension("degree", l1 as u64).map_err(we)?;
-    let d_ord = b.add_dimension("order", l1 as u64).map_err(we)?;
-    let v_deg = b.add_variable::<i32>("degree", &[d_deg]).map_err(we)?;
-    nc::var_text(
-        &mut b,
-        path,
-        v_deg,
-        "long_name",
-        "spherical-harmonic degree l",
-    )?;
-    nc::var_text(&mut b, path, v_deg, "units", "1")?;
-    let v_ord = b.add_variable::<i32>("order", &[d_ord]).map_err(we)?;
-    nc::var_text(
-        &mut b,
-        path,
-        v_ord,
-        "long_name",
-        "spherical-harmonic order m",
-    )?;
-    nc::var_text(&mut b, path, v_ord, "units", "1")?;
     let idx: Vec<i32> = (0..l1 as i32).collect();
-    b.write_variable(v_deg, &idx).map_err(we)?;
-    b.write_variable(v_ord, &idx).map_err(we)?;
+    let (d_deg, d_ord) =
+        nc::degree_order_axes(&mut b, path, &idx, &idx, "spherical-harmonic order m")?;
 
     let rate_units = crate::coeffs::rate_units(&coeffs.units);
     let mut arrays: Vec<(&str, &str, &[f64], &str)> = vec![
