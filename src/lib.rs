@@ -15,6 +15,7 @@ pub mod pipeline;
 pub mod progress;
 pub mod regional;
 pub mod report;
+pub mod retaining_alloc;
 pub mod rotate;
 pub mod sht;
 pub mod spectral;

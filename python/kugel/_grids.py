@@ -147,32 +147,37 @@ def field_arguments(quantity, altitude_km, radius_km, filter, normal_field, down
     )
 
 
-_COORDINATES = {}
-_COORDINATES_KEPT = 8
+_TEMPLATES = {}
+_TEMPLATES_KEPT = 8
 
 
-def _map_coordinates(lat, lon):
-    """The latitude and longitude coordinates of a map, built once per grid.
+def _map_array(data, lat, lon, name, attrs):
+    """A map as an ``xarray.DataArray`` on its grid's coordinates.
 
-    Building xarray's coordinate indexes costs about as much as the rest of a call's Python
-    side, so the last few grids' ``xarray.Coordinates`` are kept, keyed by the coordinate
-    values themselves, with read-only arrays so that no result can change another's.
+    Building xarray's coordinates and their indexes costs several times the rest of a call's
+    Python side, so for the last few grids an empty template (a zero-stride view, no memory)
+    with the coordinates is kept, keyed by the coordinate values, and each result is a
+    shallow copy of it with its own data, name and attributes (documented
+    ``DataArray.copy(deep=False, data=...)``): coordinate attributes are per result, and the
+    shared coordinate values are read-only, so no result can change another's.
     """
     key = (lat.tobytes(), lon.tobytes())
-    found = _COORDINATES.get(key)
-    if found is not None:
-        return found
-    lat = lat.copy()
-    lon = lon.copy()
-    lat.flags.writeable = False
-    lon.flags.writeable = False
-    coords = {"lat": ("lat", lat, LAT_ATTRS), "lon": ("lon", lon, LON_ATTRS)}
-    if hasattr(_xr, "Coordinates"):
-        coords = _xr.Coordinates(coords)
-    if len(_COORDINATES) >= _COORDINATES_KEPT:
-        _COORDINATES.pop(next(iter(_COORDINATES)))
-    _COORDINATES[key] = coords
-    return coords
+    template = _TEMPLATES.get(key)
+    if template is None:
+        lat = lat.copy()
+        lon = lon.copy()
+        lat.flags.writeable = False
+        lon.flags.writeable = False
+        empty = np.broadcast_to(np.float64(0.0), (lat.size, lon.size))
+        template = _xr.DataArray(empty, dims=("lat", "lon"), coords={
+            "lat": ("lat", lat, LAT_ATTRS), "lon": ("lon", lon, LON_ATTRS)})
+        if len(_TEMPLATES) >= _TEMPLATES_KEPT:
+            _TEMPLATES.pop(next(iter(_TEMPLATES)))
+        _TEMPLATES[key] = template
+    out = template.copy(deep=False, data=data)
+    out.name = name
+    out.attrs = attrs
+    return out
 
 
 def _check_model(model):
@@ -231,7 +236,6 @@ def synthesize(model, grid="gauss", quantity="value", altitude_km=0.0, filter=No
         if len(variables) == 1:
             return variables[0]["data"]
         return {v["name"]: v["data"] for v in variables}
-    coords = _map_coordinates(out["lat"], out["lon"])
     common = dict(out["attributes"])
     common["Conventions"] = "CF-1.8"
     arrays = {}
@@ -243,8 +247,7 @@ def synthesize(model, grid="gauss", quantity="value", altitude_km=0.0, filter=No
             attrs["caution"] = v["caution"]
             attrs["comment"] = v["caution"]
         attrs.update(common)
-        arrays[v["name"]] = _xr.DataArray(v["data"], dims=("lat", "lon"), coords=coords,
-                                          name=v["name"], attrs=attrs)
+        arrays[v["name"]] = _map_array(v["data"], out["lat"], out["lon"], v["name"], attrs)
     if len(arrays) == 1:
         return next(iter(arrays.values()))
     return _xr.Dataset(arrays, attrs=common)

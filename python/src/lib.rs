@@ -8,6 +8,12 @@
 
 use pyo3::prelude::*;
 
+/// Large blocks freed by this module are kept for reuse (`kugel::retaining_alloc`): a loop
+/// of transforms then touches the same pages every call.
+#[global_allocator]
+static ALLOCATOR: kugel::retaining_alloc::RetainingAlloc =
+    kugel::retaining_alloc::RetainingAlloc::new();
+
 mod buffers;
 mod complex;
 mod engine_timing;
