@@ -350,11 +350,18 @@ impl RowBuilder {
                 }
             }
         }
-        let reduces = matches!(o.quantity, Quantity::Potential | Quantity::RadialGradient);
-        Ok(match (&self.normal, reduces) {
-            (Some(x), true) => dot(&sc.row, x),
-            _ => 0.0,
+        Ok(match self.normal_reduction(o.quantity) {
+            Some(x) => dot(&sc.row, x),
+            None => 0.0,
         })
+    }
+
+    /// The normal-field coefficients (full unknown vector) whose functional is taken off
+    /// observations of `quantity`: potential and radial-gradient rows when a normal field is
+    /// used (the other gravity quantities are disturbances or anomalies already).
+    pub fn normal_reduction(&self, quantity: Quantity) -> Option<&[f64]> {
+        let reduces = matches!(quantity, Quantity::Potential | Quantity::RadialGradient);
+        self.normal.as_deref().filter(|_| reduces)
     }
 
     /// dP̄_lm/dθ for all (l, m) ≤ the table's degree, packed, from the values in `sc.p`.
