@@ -21,9 +21,10 @@ use rayon::prelude::*;
 
 use super::functional::RowBuilder;
 use super::iterative::{RightHandSide, OPERATOR_CHUNKS};
-use super::lanes::{LaneKernels, LaneSums, LaneTable, ObservationBlock, LANES};
+use super::lanes::{LaneFactors, LaneKernels, LaneSums, LaneTable, ObservationBlock, LANES};
 use super::observation::ObservationSet;
 use crate::error::Result;
+use crate::field::Quantity;
 use crate::sht::KernelPath;
 
 /// The passes over scalar observations with weights `weights` (0 leaves an observation out).
@@ -33,6 +34,8 @@ pub struct LaneNormalOperator<'a> {
     weights: &'a [f64],
     kernels: LaneKernels,
     table: LaneTable,
+    /// The split k_l = g_l s^{e+l+1} of each quantity in the set, where it has one.
+    profiles: Vec<(Quantity, Option<(Vec<f64>, i32)>)>,
 }
 
 impl<'a> LaneNormalOperator<'a> {
@@ -72,12 +75,19 @@ impl<'a> LaneNormalOperator<'a> {
             "the lane passes take scalar rows only"
         );
         assert_eq!(weights.len(), set.len());
+        let mut profiles: Vec<(Quantity, Option<(Vec<f64>, i32)>)> = Vec::new();
+        for o in &set.observations {
+            if !profiles.iter().any(|(q, _)| *q == o.quantity) {
+                profiles.push((o.quantity, builder.scalar_degree_profile(o.quantity)));
+            }
+        }
         LaneNormalOperator {
             set,
             builder,
             weights,
             kernels,
             table: LaneTable::new(builder.layout.internal.lmax),
+            profiles,
         }
     }
 
@@ -93,10 +103,30 @@ impl<'a> LaneNormalOperator<'a> {
             if g < count {
                 let o = &self.set.observations[first + g];
                 let (t, u, lambda) = RowBuilder::angles_of(o);
-                let k = self.builder.scalar_degree_factors(o)?;
-                block.set_lane(g, t, u, lambda, Some(&k));
+                let radius_m = o.position.radius_m;
+                let profile = self
+                    .profiles
+                    .iter()
+                    .find(|(q, _)| *q == o.quantity)
+                    .and_then(|(_, p)| p.as_ref());
+                match profile {
+                    Some((profile, e)) if radius_m.is_finite() && radius_m > 0.0 => {
+                        let s = self.builder.space.reference_radius_m() / radius_m;
+                        let k = LaneFactors::Profile {
+                            g: profile,
+                            s,
+                            e: *e,
+                        };
+                        block.set_lane(g, t, u, lambda, k);
+                    }
+                    // no split, or a radius the definition refuses (with its message)
+                    _ => {
+                        let k = self.builder.scalar_degree_factors(o)?;
+                        block.set_lane(g, t, u, lambda, LaneFactors::Values(&k));
+                    }
+                }
             } else {
-                block.set_lane(g, 0.0, 1.0, 0.0, None);
+                block.set_lane(g, 0.0, 1.0, 0.0, LaneFactors::Empty);
             }
         }
         self.kernels.fill_columns(&self.table, block);

@@ -115,18 +115,26 @@ impl ObservationBlock {
     /// Empties every lane (k = 0 at the equator, λ = 0).
     pub fn clear(&mut self) {
         for g in 0..LANES {
-            self.set_lane(g, 0.0, 1.0, 0.0, None);
+            self.set_lane(g, 0.0, 1.0, 0.0, LaneFactors::Empty);
         }
     }
 
     /// Puts an observation at cos θ = `t`, sin θ = `u` (≥ 0), longitude `lambda_rad` with
-    /// degree factors `k` (length L + 1; `None` for an empty lane) into lane `g`.
-    pub fn set_lane(&mut self, g: usize, t: f64, u: f64, lambda_rad: f64, k: Option<&[f64]>) {
+    /// degree factors `k` into lane `g`.
+    pub fn set_lane(&mut self, g: usize, t: f64, u: f64, lambda_rad: f64, k: LaneFactors) {
         self.t[g] = t;
         self.u[g] = u;
         match k {
-            Some(k) => self.k.iter_mut().zip(k).for_each(|(kl, v)| kl[g] = *v),
-            None => self.k.iter_mut().for_each(|kl| kl[g] = 0.0),
+            LaneFactors::Values(k) => self.k.iter_mut().zip(k).for_each(|(kl, v)| kl[g] = *v),
+            LaneFactors::Profile { g: profile, s, e } => {
+                // s^{e+l+1} by repeated multiplication: a relative error of about l ε/2
+                let mut power = s.powi(e + 1);
+                for (kl, gl) in self.k.iter_mut().zip(profile) {
+                    kl[g] = gl * power;
+                    power *= s;
+                }
+            }
+            LaneFactors::Empty => self.k.iter_mut().for_each(|kl| kl[g] = 0.0),
         }
         self.cos[0][g] = 1.0;
         self.sin[0][g] = 0.0;
@@ -137,6 +145,18 @@ impl ObservationBlock {
             self.sin[m][g] = s;
         }
     }
+}
+
+/// The degree factors k_l (l = 0..L) of one lane.
+#[derive(Debug, Clone, Copy)]
+pub enum LaneFactors<'a> {
+    /// No observation: k = 0.
+    Empty,
+    /// The factors themselves.
+    Values(&'a [f64]),
+    /// k_l = g_l s^{e+l+1}, the split of
+    /// [`RowBuilder::scalar_degree_profile`](crate::observe::fit::functional::RowBuilder::scalar_degree_profile).
+    Profile { g: &'a [f64], s: f64, e: i32 },
 }
 
 /// Lane-wise partial sums of the adjoint Σ_i f_i a_i, order-major, for the C and the S
