@@ -97,6 +97,7 @@ fn gravity_builder(lmax: usize, normal_zonals: &[(usize, f64)]) -> RowBuilder {
     )
 }
 
+#[allow(clippy::type_complexity)] // the two closures of a row source
 fn full_rows<'a>(
     builder: &'a RowBuilder,
     set: &'a ObservationSet,

@@ -35,8 +35,11 @@ pub struct LaneNormalOperator<'a> {
     kernels: LaneKernels,
     table: LaneTable,
     /// The split k_l = g_l s^{e+l+1} of each quantity in the set, where it has one.
-    profiles: Vec<(Quantity, Option<(Vec<f64>, i32)>)>,
+    profiles: Vec<(Quantity, DegreeProfile)>,
 }
+
+/// The split (g_l, e) of a quantity's degree factors, where it has one.
+type DegreeProfile = Option<(Vec<f64>, i32)>;
 
 impl<'a> LaneNormalOperator<'a> {
     /// The operator on the widest instruction-set path this CPU has.
@@ -75,7 +78,7 @@ impl<'a> LaneNormalOperator<'a> {
             "the lane passes take scalar rows only"
         );
         assert_eq!(weights.len(), set.len());
-        let mut profiles: Vec<(Quantity, Option<(Vec<f64>, i32)>)> = Vec::new();
+        let mut profiles: Vec<(Quantity, DegreeProfile)> = Vec::new();
         for o in &set.observations {
             if !profiles.iter().any(|(q, _)| *q == o.quantity) {
                 profiles.push((o.quantity, builder.scalar_degree_profile(o.quantity)));

@@ -177,6 +177,7 @@ pub(super) fn accumulate<const F: bool>(
 
 /// acc[h] += Σ_{g ≡ h mod SUM_WIDTH} q[g] f[g], in increasing g.
 #[inline(always)]
+#[allow(clippy::needless_range_loop)] // h indexes acc and, with the part, q and f
 fn fold_lanes<const F: bool>(q: &[f64; LANES], f: &[f64; LANES], acc: &mut [f64; SUM_WIDTH]) {
     for part in 0..LANES / SUM_WIDTH {
         for h in 0..SUM_WIDTH {
