@@ -18,7 +18,7 @@
 //!   added in a fixed order at the end, so the result does not depend on the thread count.
 //!
 //! The kernel bodies are compiled three times, for the instruction sets of the transform
-//! kernels ([`KernelPath`]: AVX-512, AVX2 + FMA, portable), and the widest one the CPU has is
+//! kernels ([`KernelPath`](crate::sht::KernelPath): AVX-512, AVX2 + FMA, portable), and the widest one the CPU has is
 //! chosen at run time (`dispatch`). The reference they are tested against is the per-point
 //! operator of [`super::scalar_normal`] and the pass over full rows of
 //! [`super::iterative::RowSource`].
