@@ -5,6 +5,7 @@ mod fit;
 mod fitting;
 mod functionals;
 mod gridding;
+mod lanes;
 mod points;
 mod solvers;
 mod spatial;

@@ -317,6 +317,43 @@ impl RowBuilder {
         Self::angles(o)
     }
 
+    /// The degree factors of `quantity` split as k_l(s) = g_l s^e s^{l+1} (s = R/r), with
+    /// (g_l, e) returned: the form every scalar factor of [`scalar_factors`] has (the
+    /// continuation (R/r)^{l+1} times a degree term and a power of s). Found from
+    /// [`scalar_factors`] itself at s = 1 and checked at s = 2 and s = 1/2, so it cannot drift
+    /// from that definition; `None` when the factors are not of that form (then use
+    /// [`RowBuilder::scalar_degree_factors`] per observation).
+    pub fn scalar_degree_profile(&self, quantity: Quantity) -> Option<(Vec<f64>, i32)> {
+        let lmax = self.layout.internal.lmax;
+        let scale = match self.space {
+            ModelSpace::Gravity(scale) => Some(scale),
+            _ => None,
+        };
+        let factors = |s: f64| {
+            let c: Vec<f64> = (0..=lmax).map(|l| s.powi(l as i32 + 1)).collect();
+            scalar_factors(quantity, scale, s, &c)
+        };
+        let g = factors(1.0)?;
+        let l_ref = g.iter().position(|v| *v != 0.0)?;
+        let ratio = factors(2.0)?[l_ref] / (g[l_ref] * 2f64.powi(l_ref as i32 + 1));
+        let e = ratio.log2().round();
+        if !(0.0..=8.0).contains(&e) || ratio != 2f64.powi(e as i32) {
+            return None;
+        }
+        let e = e as i32;
+        for s in [2.0, 0.5] {
+            let k = factors(s)?;
+            let agree = k.iter().zip(&g).enumerate().all(|(l, (kl, gl))| {
+                let expected = gl * s.powi(e + l as i32 + 1);
+                (kl - expected).abs() <= 1e-14 * expected.abs()
+            });
+            if !agree {
+                return None;
+            }
+        }
+        Some((g, e))
+    }
+
     /// The degree factors k_l (l = 0..L) of a scalar observation at its own radius: row(C_lm)
     /// = k_l P̄_lm cos mλ, row(S_lm) = k_l P̄_lm sin mλ.
     pub fn scalar_degree_factors(&self, o: &Observation) -> Result<Vec<f64>> {
@@ -350,11 +387,18 @@ impl RowBuilder {
                 }
             }
         }
-        let reduces = matches!(o.quantity, Quantity::Potential | Quantity::RadialGradient);
-        Ok(match (&self.normal, reduces) {
-            (Some(x), true) => dot(&sc.row, x),
-            _ => 0.0,
+        Ok(match self.normal_reduction(o.quantity) {
+            Some(x) => dot(&sc.row, x),
+            None => 0.0,
         })
+    }
+
+    /// The normal-field coefficients (full unknown vector) whose functional is taken off
+    /// observations of `quantity`: potential and radial-gradient rows when a normal field is
+    /// used (the other gravity quantities are disturbances or anomalies already).
+    pub fn normal_reduction(&self, quantity: Quantity) -> Option<&[f64]> {
+        let reduces = matches!(quantity, Quantity::Potential | Quantity::RadialGradient);
+        self.normal.as_deref().filter(|_| reduces)
     }
 
     /// dP̄_lm/dθ for all (l, m) ≤ the table's degree, packed, from the values in `sc.p`.

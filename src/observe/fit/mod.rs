@@ -40,6 +40,8 @@ pub mod design;
 pub mod functional;
 pub mod gcv;
 pub mod iterative;
+pub mod lane_normal;
+pub mod lanes;
 pub mod normal;
 pub mod observation;
 pub mod parameters;
@@ -51,11 +53,11 @@ pub mod solver_choice;
 use self::functional::{ModelSpace, RowBuilder, RowScratch};
 use self::gcv::GcvSpectrum;
 use self::iterative::{solve_iterative, RowSource, CG_TOLERANCE};
+use self::lane_normal::LaneNormalOperator;
 use self::normal::assemble_rows;
 pub use self::observation::{DataSet, Observation, ObservationSet};
 use self::parameters::ParameterLayout;
 pub use self::robust::Robust;
-use self::scalar_normal::ScalarNormalOperator;
 use self::solve::{solve, Solution};
 pub use self::solver_choice::{plan_solver, SolverKind, SolverPlan, SolverRequest};
 use crate::field::{NormalField, Quantity};
@@ -606,24 +608,25 @@ pub fn fit_observations_with_progress(
                     init,
                     row,
                 };
-                progress.stage("right-hand side", 0);
-                let rhs = source.right_hand_side()?;
-                assembly_seconds += clock.elapsed().as_secs_f64();
-                let clock = std::time::Instant::now();
-                let lambda = fixed_lambda(&setup.regularization);
                 let pass_weights: Vec<f64> = (0..n_obs)
                     .map(|i| base_weights[i] * robust_factor[i])
                     .collect();
-                let scalar = ScalarNormalOperator {
-                    set,
-                    builder: &builder,
-                    weights: &pass_weights,
+                // scalar rows go through the lane kernels, others through full rows
+                let lanes = builder
+                    .rows_are_scalar()
+                    .then(|| LaneNormalOperator::new(set, &builder, &pass_weights));
+                progress.stage("right-hand side", 0);
+                let rhs = match &lanes {
+                    Some(lanes) => lanes.right_hand_side()?,
+                    None => source.right_hand_side()?,
                 };
+                assembly_seconds += clock.elapsed().as_secs_f64();
+                let clock = std::time::Instant::now();
+                let lambda = fixed_lambda(&setup.regularization);
                 let normal_times = |p: &[f64]| -> Result<Vec<f64>> {
-                    if builder.rows_are_scalar() {
-                        scalar.normal_times(p)
-                    } else {
-                        source.normal_times(p)
+                    match &lanes {
+                        Some(lanes) => lanes.normal_times(p),
+                        None => source.normal_times(p),
                     }
                 };
                 let it = solve_iterative(
@@ -911,9 +914,15 @@ fn effective_parameters(prior: &[f64], lambda: f64, covariance_diagonal: &[f64])
                 .sum::<f64>()
 }
 
-/// The model's value of every observation for the full unknown vector `x` (parallel).
+/// The model's value of every observation for the full unknown vector `x` (parallel; scalar
+/// rows through the lane kernels of [`lanes`], others row by row).
 pub fn predict_all(builder: &RowBuilder, set: &ObservationSet, x: &[f64]) -> Result<Vec<f64>> {
     use rayon::prelude::*;
+    if builder.rows_are_scalar() {
+        // the lane kernels; their weights play no part in the values
+        let weights = vec![1.0; set.len()];
+        return LaneNormalOperator::new(set, builder, &weights).predict(x);
+    }
     set.observations
         .par_iter()
         .map_init(|| builder.scratch(), |sc, o| builder.predict(o, x, sc))
