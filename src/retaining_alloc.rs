@@ -131,7 +131,9 @@ mod tests {
             a.dealloc(p, layout);
             let q = a.alloc_zeroed(layout);
             assert_eq!(q, p);
-            assert!(std::slice::from_raw_parts(q, layout.size()).iter().all(|&b| b == 0));
+            assert!(std::slice::from_raw_parts(q, layout.size())
+                .iter()
+                .all(|&b| b == 0));
             // another size is not served from the kept block
             let other = Layout::from_size_align(MIN_KEPT_BYTES + 8, 8).unwrap();
             let r = a.alloc(other);
