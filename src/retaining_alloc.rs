@@ -18,11 +18,11 @@ use std::alloc::{GlobalAlloc, Layout, System};
 use std::sync::Mutex;
 
 /// Blocks smaller than this are served by the system allocator's own pools as usual.
-const MIN_KEPT_BYTES: usize = 256 * 1024;
+pub const MIN_KEPT_BYTES: usize = 256 * 1024;
 /// At most this many freed blocks are kept.
-const KEPT_BLOCKS: usize = 16;
+pub const KEPT_BLOCKS: usize = 16;
 /// At most this many bytes are kept in all.
-const MAX_KEPT_BYTES: usize = 256 * 1024 * 1024;
+pub const MAX_KEPT_BYTES: usize = 256 * 1024 * 1024;
 
 struct Kept {
     blocks: [(usize, usize, usize); KEPT_BLOCKS],
