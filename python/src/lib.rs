@@ -14,7 +14,6 @@ use pyo3::prelude::*;
 static ALLOCATOR: kugel::retaining_alloc::RetainingAlloc =
     kugel::retaining_alloc::RetainingAlloc::new();
 
-mod buffers;
 mod complex;
 mod engine_timing;
 mod errors;

@@ -10,7 +10,6 @@ use numpy::{PyArray1, PyArray2, PyReadonlyArray1, PyReadonlyArray2};
 use pyo3::prelude::*;
 use pyo3::types::{PyDict, PyList};
 
-use crate::buffers;
 use crate::errors::IntoPyResult;
 use crate::field_options::{target_surface, FieldOptions};
 use crate::model::{coefficients_of, model_dict};
@@ -19,7 +18,7 @@ use kugel::coeffs::{Coefficients, Normalization};
 use kugel::error::Error;
 use kugel::field::cautions;
 use kugel::field::synthesis::{longitude_densified, synthesize_on_densified_plan};
-use kugel::io::grid::layout::{engine_grid, engine_order_field_in, first_infinite};
+use kugel::io::grid::layout::{engine_grid, engine_order_field, first_infinite};
 use kugel::io::grid::read::UserGrid;
 use kugel::io::grid::write::grid_kind_name;
 use kugel::progress::Silent;
@@ -89,7 +88,7 @@ fn user_grid(
     } else {
         field.reversed_axes()
     };
-    let values = engine_order_field_in(lat_axis, lon_axis, by_lat_lon, buffers::take());
+    let values = engine_order_field(lat_axis, lon_axis, by_lat_lon);
     if let Some((i, k)) = first_infinite(&values, lat_axis, lon_axis) {
         return Err(Error::format(
             &path,
@@ -157,14 +156,12 @@ pub fn analyze_grid<'py>(
     let lon = lon_deg.as_array().to_vec();
     let (model, notes) = py
         .detach(|| -> kugel::Result<(Coefficients, Vec<String>)> {
-            let mut user = user_grid(view, &lat, &lon, lat_first, &src)?;
+            let user = user_grid(view, &lat, &lon, lat_first, &src)?;
             user.require_complete()?;
             let lmax = lmax.unwrap_or(user.grid.max_exact_degree);
             user.check_degree(lmax)?;
             let plan = plan_cache::plan(lmax, &user.grid)?;
-            let analysed = plan.analyse(&user.field);
-            buffers::give_back(std::mem::take(&mut user.field).into_raw_vec_and_offset().0);
-            let mut model = analysed?;
+            let mut model = plan.analyse(&user.field)?;
             model.reference_radius_m = reference_radius_m.unwrap_or(EARTH_MEAN_RADIUS_M);
             model.units = user.units.clone();
             model.attributes.insert(

@@ -128,7 +128,7 @@ def test_cached_plans_give_the_same_bits_from_many_threads(model30):
 
 
 def test_reused_buffers_and_coordinates_keep_results_apart(model30):
-    # analysis copies each map into a working buffer kept between calls, and synthesis keeps
+    # large blocks freed by one call serve the next (the retaining allocator), and synthesis keeps
     # the coordinates of recent grids: alternating two fields of one shape, and changing a
     # result's coordinate attributes, must leave every other result as it was
     other = random_model(30, seed=7)

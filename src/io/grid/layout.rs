@@ -281,26 +281,12 @@ pub fn engine_order_field(
     lon: &LongitudeAxis,
     values: ArrayView2<'_, f64>,
 ) -> Array2<f64> {
-    engine_order_field_in(lat, lon, values, Vec::new())
-}
-
-/// [`engine_order_field`] written into `buffer` (cleared first; its allocation is reused when
-/// large enough), for callers that keep a working buffer between calls: a fresh buffer of a
-/// map's size is new memory the system hands out page by page, a reused one is not.
-pub fn engine_order_field_in(
-    lat: &LatitudeAxis,
-    lon: &LongitudeAxis,
-    values: ArrayView2<'_, f64>,
-    buffer: Vec<f64>,
-) -> Array2<f64> {
     let runs = column_runs(&lon.order);
     let (nlat, nlon) = (lat.order.len(), lon.order.len());
     // built row by row with `extend`, so the buffer is written once (no zeroing first);
     // file rows that are contiguous (C-ordered arrays, every row of a NetCDF variable)
     // are copied as slices
-    let mut out = buffer;
-    out.clear();
-    out.reserve(nlat * nlon);
+    let mut out = Vec::with_capacity(nlat * nlon);
     for &i in &lat.order {
         let source = values.row(i);
         for &(_, file_column, len) in &runs {
