@@ -35,11 +35,18 @@ pub fn grid_bytes(nlat: f64, nlon: f64, grids: f64) -> f64 {
 }
 
 /// Bytes of a plan's own tables besides its grids: colatitudes and weights, the ring lanes,
-/// the per-order factors and, per thread, the recursion scratch and one ring's FFT buffers.
+/// the per-order factors, the column-start table (at most one 24-byte event per order and
+/// ring, and never more than one field of the grid or 64 MiB: `kernel::column_starts`) and,
+/// per thread, the recursion scratch and one ring's FFT buffers.
 pub fn plan_table_bytes(lmax: usize, nlat: f64, nlon: f64) -> f64 {
     let l2 = lmax as f64 + 2.0;
     let threads = rayon::current_num_threads() as f64;
-    nlat * 8.0 * 8.0 + l2 * 3.0 * 16.0 + threads * (l2 * 64.0 + 4096.0 + nlon * 48.0)
+    let column_starts = ((lmax as f64 + 1.0) * nlat * 25.0)
+        .min(grid_bytes(nlat, nlon, 1.0).max(64.0 * 1024.0 * 1024.0));
+    nlat * 8.0 * 8.0
+        + l2 * 3.0 * 16.0
+        + column_starts
+        + threads * (l2 * 64.0 + 4096.0 + nlon * 48.0)
 }
 
 /// Refuses, before anything is allocated, a job holding `grids` nlat × nlon fields and

@@ -34,7 +34,7 @@ use crate::memory;
 use super::grid::Grid;
 use super::kernel::{
     analysis_block_bytes, build_lanes, is_symmetric, order_major, AnalysisJob, CoefficientSums,
-    FourierGrids, KernelPath, KernelSet, Lane, OrderScratch, SynthJob,
+    ColumnStarts, FourierGrids, KernelPath, KernelSet, Lane, OrderScratch, SynthJob,
 };
 use super::legendre::recursion::sectoral_factors;
 use super::legendre::{order_one_over_sin_at_pole, Pole};
@@ -54,6 +54,9 @@ pub struct TransformPlan {
     sectoral_factors: Vec<f64>,
     rotation: Vec<Complex64>,
     kernels: KernelSet,
+    /// Where every (order, block of lanes) column starts, found once (`None` when the table
+    /// would be too large; see `kernel::column_starts`).
+    column_starts: Option<ColumnStarts>,
 }
 
 impl TransformPlan {
@@ -92,7 +95,7 @@ impl TransformPlan {
         )?;
         let mut planner = RealFftPlanner::<f64>::new();
         let symmetric = is_symmetric(grid);
-        Ok(TransformPlan {
+        let mut plan = TransformPlan {
             lmax,
             grid: grid.clone(),
             forward: planner.plan_fft_forward(grid.nlon),
@@ -104,7 +107,47 @@ impl TransformPlan {
                 .map(|m| Complex64::from_polar(1.0, m as f64 * grid.lon0_rad))
                 .collect(),
             kernels: KernelSet::detect(),
-        })
+            column_starts: None,
+        };
+        plan.find_column_starts();
+        Ok(plan)
+    }
+
+    /// Builds the column-start table for the current lanes and kernel width, when it is
+    /// small enough to keep ([`column_start_table_bytes`]) and fits in memory; otherwise the
+    /// plan does without (each transform then finds the starts itself, with the same result).
+    fn find_column_starts(&mut self) {
+        self.column_starts = None;
+        let Some(bytes) = column_start_table_bytes(self.lmax, self.lanes.len(), self.grid.shape())
+        else {
+            return;
+        };
+        let what = format!("the column starts of a degree-{} plan", self.lmax);
+        if memory::check_fits(&what, bytes).is_ok() {
+            self.column_starts = Some(ColumnStarts::build(
+                self.lmax,
+                &self.lanes,
+                self.kernels.path().lanes(),
+                &self.sectoral_factors,
+            ));
+        }
+    }
+
+    /// The same plan without its column-start table (every transform finds the starts itself),
+    /// for testing that both give the same result.
+    pub fn without_column_start_table(mut self) -> Self {
+        self.column_starts = None;
+        self
+    }
+
+    /// Whether the plan keeps a table of column starts.
+    pub fn has_column_start_table(&self) -> bool {
+        self.column_starts.is_some()
+    }
+
+    /// Bytes of the plan's column-start table (0 without one).
+    pub fn column_start_table_bytes(&self) -> u64 {
+        self.column_starts.as_ref().map_or(0, ColumnStarts::bytes)
     }
 
     /// The same plan running a given kernel path (refused when the CPU lacks it), for tests
@@ -121,6 +164,9 @@ impl TransformPlan {
                     .join(", ")
             ))
         })?;
+        if self.column_starts.is_some() {
+            self.find_column_starts();
+        }
         Ok(self)
     }
 
@@ -128,6 +174,9 @@ impl TransformPlan {
     pub fn without_symmetry(mut self) -> Self {
         self.symmetric = false;
         self.lanes = build_lanes(&self.grid, false);
+        if self.column_starts.is_some() {
+            self.find_column_starts();
+        }
         self
     }
 
@@ -246,11 +295,15 @@ impl TransformPlan {
             ),
             self.analysis_bytes_many(nf),
         )?;
-        let lanes: Vec<Lane> = if rings == (0..nlat) {
+        let all_rings = rings == (0..nlat);
+        let lanes: Vec<Lane> = if all_rings {
             self.lanes.clone()
         } else {
             self.lanes_for_rows(&rings)
         };
+        // the table describes the plan's own lanes only
+        let starts = self.column_starts.as_ref().filter(|_| all_rings);
+        let w = self.kernels.path().lanes();
         let fields: Vec<_> = fields.iter().map(|f| f.as_standard_layout()).collect();
         let data: Vec<&[f64]> = fields
             .iter()
@@ -264,7 +317,7 @@ impl TransformPlan {
         let mut spectra = vec![Complex64::new(0.0, 0.0); nf * per_field];
         let scale = 1.0 / (2.0 * nlon as f64);
         let mut sums = CoefficientSums::new(out.iter_mut().map(|c| c.packed_mut()).collect(), lmax);
-        for chunk in lanes.chunks(chunk_lanes.max(1)) {
+        for (ci, chunk) in lanes.chunks(chunk_lanes.max(1)).enumerate() {
             // Fourier stage: weighted, rotated half-spectra of the chunk's rings.
             let used = chunk.len() * 2 * stride;
             for (k, dst) in spectra.chunks_mut(per_field).enumerate() {
@@ -293,6 +346,8 @@ impl TransformPlan {
                 lanes: chunk,
                 sectoral_factors: &self.sectoral_factors,
                 spectra: &field_spectra,
+                starts,
+                first_block: ci * chunk_lanes.max(1) / w,
             };
             let kernels = self.kernels;
             sums.for_each_order(
@@ -462,12 +517,17 @@ impl TransformPlan {
         out: Vec<&mut Array2<f64>>,
     ) {
         let interior: Vec<Lane>;
-        let lanes: &[Lane] = if grad {
+        let lanes: &[Lane] = if grad && self.lanes.iter().any(|l| l.u == 0.0) {
             interior = self.lanes.iter().copied().filter(|l| l.u > 0.0).collect();
             &interior
         } else {
             &self.lanes
         };
+        // the table describes the plan's own lanes only
+        let starts = self
+            .column_starts
+            .as_ref()
+            .filter(|_| lanes.len() == self.lanes.len());
         let columns: Vec<(Vec<f64>, Vec<f64>)> = g
             .par_iter()
             .map(|c| {
@@ -487,6 +547,7 @@ impl TransformPlan {
             sectoral_factors: &self.sectoral_factors,
             fields: &fields,
             rotation: &self.rotation,
+            starts,
         };
         let lmax = self.lmax;
         let (nlat, nlon) = self.grid.shape();
@@ -596,6 +657,18 @@ impl RingScratch {
             ],
         }
     }
+}
+
+/// Bytes of the column-start table a plan to `lmax` with `lanes` lanes on an nlat × nlon grid
+/// keeps, or `None` when it keeps none (`kernel::column_starts`: the table's bound must not
+/// exceed one field of the grid, or 64 MiB).
+pub fn column_start_table_bytes(
+    lmax: usize,
+    lanes: usize,
+    (nlat, nlon): (usize, usize),
+) -> Option<u64> {
+    let grid_bytes = (nlat as u64).saturating_mul(nlon as u64).saturating_mul(8);
+    ColumnStarts::planned_bytes(lmax, lanes, grid_bytes)
 }
 
 /// Bytes [`TransformPlan::new`] checks before planning: one field of nlat × nlon doubles, one

@@ -279,3 +279,69 @@ fn every_kernel_path_matches_the_scalar_reference() {
     }
     eprintln!("largest difference: {worst:.1} ε sqrt(L)");
 }
+
+/// A plan's table of column starts (`kernel::column_starts`, found once when the plan is
+/// built) must give the same doubles as finding the starts in every transform: synthesis,
+/// gradients, analysis of the whole grid and of a ring range, on every path and ring layout,
+/// including grids of several analysis chunks' worth of blocks and grids with pole rows.
+#[test]
+fn the_column_start_table_changes_no_bit() {
+    let mut grids: Vec<(String, usize, Grid)> = cases()
+        .into_iter()
+        .map(|c| (c.name.to_string(), c.lmax, c.grid))
+        .collect();
+    // an equiangular grid with both poles: gradients leave the pole rows out of the lanes
+    let eq = kugel::sht::equiangular::regular_grid_by_step(2.0).unwrap();
+    assert!(eq.colatitude_rad[0] == 0.0, "the grid holds a pole row");
+    grids.push(("2° grid with poles".to_string(), 44, eq));
+    for (name, lmax, grid) in grids {
+        let c = sample(lmax, lmax as u64 + 11);
+        for path in KernelPath::available() {
+            let with = TransformPlan::new(lmax, &grid)
+                .unwrap()
+                .with_kernel_path(path)
+                .unwrap();
+            assert!(with.has_column_start_table(), "{name}");
+            let without = TransformPlan::new(lmax, &grid)
+                .unwrap()
+                .with_kernel_path(path)
+                .unwrap()
+                .without_column_start_table();
+            assert!(!without.has_column_start_table());
+            let bits = |a: &Array2<f64>| a.iter().map(|v| v.to_bits()).collect::<Vec<_>>();
+            let coeff_bits = |c: &Coefficients| {
+                c.c_packed()
+                    .iter()
+                    .chain(c.s_packed())
+                    .map(|v| v.to_bits())
+                    .collect::<Vec<_>>()
+            };
+            let v1 = with.synthesise(&c).unwrap();
+            let v2 = without.synthesise(&c).unwrap();
+            assert_eq!(bits(&v1), bits(&v2), "{name} {} values", path.name());
+            let (t1, l1) = with.synthesise_gradient(&c).unwrap();
+            let (t2, l2) = without.synthesise_gradient(&c).unwrap();
+            assert_eq!(bits(&t1), bits(&t2), "{name} {} ∂/∂θ", path.name());
+            assert_eq!(bits(&l1), bits(&l2), "{name} {} ∂/∂λ", path.name());
+            if lmax <= grid.max_exact_degree {
+                let a1 = with.analyse(&v1).unwrap();
+                let a2 = without.analyse(&v1).unwrap();
+                assert_eq!(
+                    coeff_bits(&a1),
+                    coeff_bits(&a2),
+                    "{name} {} analysis",
+                    path.name()
+                );
+                let rows = 1..grid.nlat() / 2 + 1;
+                let r1 = with.analyse_rings(&v1, rows.clone()).unwrap();
+                let r2 = without.analyse_rings(&v1, rows).unwrap();
+                assert_eq!(
+                    coeff_bits(&r1),
+                    coeff_bits(&r2),
+                    "{name} {} rings",
+                    path.name()
+                );
+            }
+        }
+    }
+}

@@ -48,6 +48,9 @@ pub struct TransformBenchResult {
     /// Gauss–Legendre nodes and weights with the grid (part of `plan_s`), seconds.
     pub gauss_grid_s: f64,
     pub plan_s: f64,
+    /// The plan's table of column starts (found once, read by every transform), MiB; 0 when
+    /// the plan keeps none.
+    pub column_start_table_mb: f64,
     pub synthesis_s: f64,
     pub analysis_s: f64,
     pub roundtrip_rel_err: f64,
@@ -193,6 +196,7 @@ pub fn run_transform_bench(args: &TransformBenchArgs) -> anyhow::Result<Transfor
             },
             gauss_grid_s,
             plan_s,
+            column_start_table_mb: plan.column_start_table_bytes() as f64 / kugel::memory::MIB,
             synthesis_s: s,
             analysis_s: a,
             roundtrip_rel_err: err,

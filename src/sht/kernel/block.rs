@@ -26,11 +26,13 @@
 /// Degrees per chunk: the rows of one chunk (CHUNK + 1 rows of W doubles) stay in L1.
 pub const CHUNK: usize = 64;
 
-/// A lane joins the recursion at degree `l` with P̄_{l−1,m} = `p_prev`, P̄_lm = `p`.
-#[derive(Debug, Clone, Copy)]
+/// A lane joins the recursion at degree `l` with P̄_{l−1,m} = `p_prev`, P̄_lm = `p`
+/// (`l` and `lane` as 32-bit counts: plans keep one event per order and lane,
+/// `kernel::column_starts`).
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Event {
-    pub l: usize,
-    pub lane: usize,
+    pub l: u32,
+    pub lane: u32,
     pub p_prev: f64,
     pub p: f64,
 }
@@ -81,10 +83,10 @@ pub fn inject<const W: usize>(
     p0: &mut [f64; W],
     p1: &mut [f64; W],
 ) {
-    while *ev < events.len() && events[*ev].l == l {
+    while *ev < events.len() && events[*ev].l as usize == l {
         let e = events[*ev];
-        p0[e.lane] = e.p_prev;
-        p1[e.lane] = e.p;
+        p0[e.lane as usize] = e.p_prev;
+        p1[e.lane as usize] = e.p;
         *ev += 1;
     }
 }
@@ -283,6 +285,7 @@ pub fn accumulate_analysis<const W: usize, const F: usize, const FMA: bool>(
         let (hr, hi) = (h.re[p], h.im[p]);
         let mut k = first;
         while k < n {
+            super::unsafe_parts::keep_loop_scalar();
             let row = &rows[k];
             let mut sr: [f64; F] = acc_re[k * F..(k + 1) * F].try_into().expect("F entries");
             let mut si: [f64; F] = acc_im[k * F..(k + 1) * F].try_into().expect("F entries");
@@ -318,11 +321,11 @@ pub fn for_each_chunk<const W: usize, const FMA: bool>(
     let mut p0 = [0.0; W];
     let mut p1 = [0.0; W];
     let mut ev = 0;
-    let mut l = first.l;
+    let mut l = first.l as usize;
     inject(events, &mut ev, l, &mut p0, &mut p1);
     while l <= lmax {
         let next_event = if ev < events.len() {
-            events[ev].l
+            events[ev].l as usize
         } else {
             lmax + 1
         };

@@ -1,10 +1,11 @@
 //! Fast transform kernels, private to `sht`: lanes of rings (`lanes`), the per-degree inner
 //! loops (`block`), the per-order driver (`order`), the description of the compiled variants
-//! (`path`) and the only unsafe code of the layer (`unsafe_parts`: the kernel table chosen
+//! (`path`), the column starts a plan finds once (`column_starts`) and the only unsafe code of the layer (`unsafe_parts`: the kernel table chosen
 //! once per plan, and the per-order writers into the shared outputs). The scalar reference they
 //! are tested against lives in `sht::reference`.
 
 mod block;
+mod column_starts;
 mod lanes;
 mod order;
 mod path;
@@ -14,6 +15,7 @@ mod unsafe_parts;
 
 pub use path::KernelPath;
 
+pub(crate) use column_starts::ColumnStarts;
 pub(crate) use lanes::{build_lanes, is_symmetric, Lane};
 pub(crate) use order::{analysis_block_bytes, order_major, AnalysisJob, OrderScratch, SynthJob};
 pub(crate) use path::PORTABLE_FUSED;

@@ -10,10 +10,11 @@ use super::block::{
     accumulate_analysis, accumulate_derivative, accumulate_values, for_each_chunk, inject, recur,
     BlockSpectra, Event, Nodes, OrderCoefficients, Rows, SynthSums, CHUNK,
 };
+use super::column_starts::ColumnStarts;
 use super::lanes::Lane;
 use super::unsafe_parts::{OrderCoefficientSums, OrderFourierColumns};
 use crate::coeffs::packed_index;
-use crate::sht::legendre::recursion::{a_lm, b_lm, f_lm, sectoral, NEGLIGIBLE_LOG2};
+use crate::sht::legendre::recursion::{f_lm, sectoral, NEGLIGIBLE_LOG2};
 use crate::sht::legendre::xnumber::{BIG_INV, BIG_SQRT};
 
 /// The widest set of partial sums per degree an analysis kernel keeps (its `F`).
@@ -68,11 +69,39 @@ impl OrderScratch {
             + 32 * 1024
     }
 
-    fn fill(&mut self, m: usize, lmax: usize, grad: bool) {
-        for l in (m + 1)..=lmax {
-            self.a[l] = a_lm(l, m);
-            self.b[l] = b_lm(l, m);
+    /// a_lm and b_lm of order m (indexed by degree), the same doubles as
+    /// `recursion::a_lm` / `b_lm`: the same operations on the same exactly represented
+    /// integers (l, m < 2^53), written without branches and with the degree counted in
+    /// doubles, so that the loops vectorise (`#[inline(always)]`: inside a kernel they compile
+    /// with its instruction set; a square root and a division per coefficient were about 8 %
+    /// of a degree-511 synthesis when run two doubles at a time).
+    #[inline(always)]
+    pub(crate) fn fill_recursion(&mut self, m: usize, lmax: usize) {
+        if m >= lmax {
+            return;
         }
+        let mf = m as f64;
+        let first = (m + 1) as f64;
+        for (k, a) in self.a[m + 1..=lmax].iter_mut().enumerate() {
+            let lf = first + k as f64;
+            *a = ((2.0 * lf - 1.0) * (2.0 * lf + 1.0) / ((lf - mf) * (lf + mf))).sqrt();
+        }
+        // b_{m+1,m} = 0: the recursion's first step has no second term
+        self.b[m + 1] = 0.0;
+        if m + 2 <= lmax {
+            let first = (m + 2) as f64;
+            for (k, b) in self.b[m + 2..=lmax].iter_mut().enumerate() {
+                let lf = first + k as f64;
+                *b = ((2.0 * lf + 1.0) * (lf + mf - 1.0) * (lf - mf - 1.0)
+                    / ((lf - mf) * (lf + mf) * (2.0 * lf - 3.0)))
+                    .sqrt();
+            }
+        }
+    }
+
+    #[inline(always)]
+    fn fill(&mut self, m: usize, lmax: usize, grad: bool) {
+        self.fill_recursion(m, lmax);
         if grad {
             for l in m..=lmax {
                 self.f[l] = f_lm(l, m);
@@ -87,25 +116,53 @@ impl OrderScratch {
     }
 }
 
-/// Collects the column starts of a block's lanes (sorted by degree); returns the lane cos θ
-/// values.
+/// cos θ of a block's lanes (zeros beyond the block's end).
+#[inline(always)]
+fn block_nodes<const W: usize>(block: &[Lane]) -> Nodes<W> {
+    let mut nodes = Nodes {
+        t: [0.0; W],
+        t_lo: [0.0; W],
+    };
+    for (i, lane) in block.iter().enumerate() {
+        nodes.t[i] = lane.t;
+        nodes.t_lo[i] = lane.t_lo;
+    }
+    nodes
+}
+
+/// The column starts of block `block` of order m: from the plan's table when the job has one,
+/// else found now into `sc.events`.
+#[inline(always)]
+fn starts_of_block<'a, const W: usize>(
+    starts: Option<&'a ColumnStarts>,
+    m: usize,
+    lmax: usize,
+    c_m: f64,
+    (block_index, block): (usize, &[Lane]),
+    sc: &'a mut OrderScratch,
+) -> &'a [Event] {
+    match starts {
+        Some(table) => table.block(m, block_index),
+        None => block_events::<W>(m, lmax, c_m, block, sc),
+    }
+}
+
+/// Collects the column starts of a block's lanes (sorted by degree) into `sc.events` and
+/// returns them. `sc` must hold the recursion coefficients of order m
+/// ([`OrderScratch::fill_recursion`]).
 ///
 /// The same computation as `recursion::column_start` (same operations in the same order, so
 /// the same doubles), run for the whole block at once: each lane carries its scaled value
 /// p · 2^(960 k) and a limit, and only a step where some lane reaches its limit (rescale, or
 /// the column becomes representable) leaves the vector loop. One lane at a time this costs
 /// about ten times more, which made it the larger part of a transform.
-fn block_events<const W: usize>(
+pub(crate) fn block_events<'s, const W: usize>(
     m: usize,
     lmax: usize,
     c_m: f64,
     block: &[Lane],
-    sc: &mut OrderScratch,
-) -> Nodes<W> {
-    let mut nodes = Nodes {
-        t: [0.0; W],
-        t_lo: [0.0; W],
-    };
+    sc: &'s mut OrderScratch,
+) -> &'s [Event] {
     let mut x = [0.0; W];
     let mut p = [0.0; W];
     let mut pp = [0.0; W];
@@ -117,8 +174,6 @@ fn block_events<const W: usize>(
     let limit = |k: i32| if k == -1 { threshold_abs } else { BIG_SQRT };
     for (i, lane) in block.iter().enumerate() {
         x[i] = lane.t;
-        nodes.t[i] = lane.t;
-        nodes.t_lo[i] = lane.t_lo;
         if m > lmax {
             continue;
         }
@@ -128,8 +183,8 @@ fn block_events<const W: usize>(
         }
         if sv.k == 0 || (sv.k == -1 && sv.mant.abs() >= threshold_abs) {
             sc.events.push(Event {
-                l: m,
-                lane: i,
+                l: m as u32,
+                lane: i as u32,
                 p_prev: 0.0,
                 p: sv.to_f64(),
             });
@@ -141,7 +196,7 @@ fn block_events<const W: usize>(
         }
     }
     if pending == 0 {
-        return nodes;
+        return &sc.events;
     }
     for l in (m + 1)..=lmax {
         let (al, bl) = (sc.a[l], sc.b[l]);
@@ -166,8 +221,8 @@ fn block_events<const W: usize>(
             }
             if k[i] == -1 && p[i].abs() >= threshold_abs {
                 sc.events.push(Event {
-                    l,
-                    lane: i,
+                    l: l as u32,
+                    lane: i as u32,
                     p_prev: pp[i] * BIG_INV,
                     p: p[i] * BIG_INV,
                 });
@@ -184,7 +239,7 @@ fn block_events<const W: usize>(
             break;
         }
     }
-    nodes
+    &sc.events
 }
 
 /// Where the column of order m starts in order-major storage to degree `lmax` (the degrees
@@ -217,6 +272,9 @@ pub(crate) struct SynthJob<'a> {
     pub fields: &'a [(&'a [f64], &'a [f64])],
     /// e^{i m λ_0} per order.
     pub rotation: &'a [Complex64],
+    /// The plan's column starts of exactly these lanes in blocks of the kernel's width, if it
+    /// keeps them (else each block finds its own).
+    pub starts: Option<&'a ColumnStarts>,
 }
 
 /// Σ_l (C_lm cos mλ + S_lm sin mλ) f_l on a ring as its packed Fourier entry: for m = 0 the
@@ -266,11 +324,15 @@ pub(crate) fn synth_order<const W: usize, const H: usize, const FMA: bool, const
         sc.s[dst].copy_from_slice(&s[at..at + len]);
     }
     let c_m = job.sectoral_factors[m];
+    let starts = checked_starts(job.starts, job.lanes.len(), 0, W);
     let mut rows = Rows::<W>::new();
     let mut sums = vec![SynthSums::<W>::ZERO; nf];
-    for block in job.lanes.chunks(W) {
-        let x = block_events::<W>(m, lmax, c_m, block, sc);
-        if sc.events.is_empty() {
+    let mut events = std::mem::take(&mut sc.all_events);
+    for (bi, block) in job.lanes.chunks(W).enumerate() {
+        let x = block_nodes::<W>(block);
+        events.clear();
+        events.extend_from_slice(starts_of_block::<W>(starts, m, lmax, c_m, (bi, block), sc));
+        if events.is_empty() {
             // lanes run from the equator to the poles: every later block is negligible too
             break;
         }
@@ -280,7 +342,7 @@ pub(crate) fn synth_order<const W: usize, const H: usize, const FMA: bool, const
             a: &sc.a,
             b: &sc.b,
         };
-        for_each_chunk::<W, FMA>(&rc, &x, &sc.events, &mut rows, |l0, n, rows| {
+        for_each_chunk::<W, FMA>(&rc, &x, &events, &mut rows, |l0, n, rows| {
             let par0 = (l0 - m) & 1;
             for (k, sum) in sums.iter_mut().enumerate() {
                 let (c, s) = sc.column(k);
@@ -304,6 +366,24 @@ pub(crate) fn synth_order<const W: usize, const H: usize, const FMA: bool, const
             put_block::<W, GRAD>(job, out, block, k, sum);
         }
     }
+    sc.all_events = events;
+}
+
+/// The table `starts` if it describes `lanes` lanes from block `first_block` on in blocks of
+/// `w` (the kernel's width); a table of another layout is a bug in the plan.
+#[inline(always)]
+fn checked_starts(
+    starts: Option<&ColumnStarts>,
+    lanes: usize,
+    first_block: usize,
+    w: usize,
+) -> Option<&ColumnStarts> {
+    starts.inspect(|t| {
+        assert!(
+            t.lanes_per_block() == w && t.covers(first_block * w, lanes),
+            "column starts of another lane layout"
+        )
+    })
 }
 
 /// Hands one block's sums of field `k` to the Fourier columns of its rings.
@@ -375,6 +455,10 @@ pub(crate) struct AnalysisJob<'a> {
     /// Per field: weighted, rotated ring spectra H_m, lane k's north ring at row 2k, its
     /// mirror at 2k + 1, each row `lmax + 1` long.
     pub spectra: &'a [&'a [Complex64]],
+    /// The plan's column starts, if it keeps them, and the index of this chunk's first block
+    /// in them (the chunk's lanes are the plan's lanes from `first_block · W` on).
+    pub starts: Option<&'a ColumnStarts>,
+    pub first_block: usize,
 }
 
 /// One block of lanes of an analysis order, between degree chunks: its nodes, recursion
@@ -456,23 +540,27 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
     let nblocks = job.lanes.len().div_ceil(W);
     let mut blocks: Vec<AnalysisBlock<W>> = Vec::with_capacity(nblocks);
     let mut spectra: Vec<BlockSpectra<W>> = Vec::with_capacity(nblocks * nf);
-    sc.all_events.clear();
+    let starts = checked_starts(job.starts, job.lanes.len(), job.first_block, W);
+    let mut all_events = std::mem::take(&mut sc.all_events);
+    all_events.clear();
     for (bi, block) in job.lanes.chunks(W).enumerate() {
-        let x = block_events::<W>(m, lmax, c_m, block, sc);
-        let Some(first) = sc.events.first() else {
+        let x = block_nodes::<W>(block);
+        let block_starts =
+            starts_of_block::<W>(starts, m, lmax, c_m, (job.first_block + bi, block), sc);
+        let Some(first) = block_starts.first() else {
             // lanes run from the equator to the poles: every later block is negligible too
             break;
         };
-        let ev = sc.all_events.len();
-        let l = first.l;
-        sc.all_events.extend_from_slice(&sc.events);
+        let ev = all_events.len();
+        let l = first.l as usize;
+        all_events.extend_from_slice(block_starts);
         blocks.push(AnalysisBlock {
             x,
             p0: [0.0; W],
             p1: [0.0; W],
             l,
             ev,
-            ev_end: sc.all_events.len(),
+            ev_end: all_events.len(),
         });
         spectra.extend(
             job.spectra
@@ -495,11 +583,11 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
         acc_re.fill(0.0);
         acc_im.fill(0.0);
         for (b, h) in blocks.iter_mut().zip(spectra.chunks(nf)) {
-            let events = &sc.all_events[..b.ev_end];
+            let events = &all_events[..b.ev_end];
             // within the chunk, the block's degrees run in pieces that end at its events
             while b.l < l1 {
                 inject(events, &mut b.ev, b.l, &mut b.p0, &mut b.p1);
-                let next_event = events.get(b.ev).map_or(lmax + 1, |e| e.l);
+                let next_event = events.get(b.ev).map_or(lmax + 1, |e| e.l as usize);
                 let l_end = next_event.min(l1);
                 let n = l_end - b.l;
                 recur::<W, FMA>(
@@ -538,6 +626,7 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
         }
         l0 = l1;
     }
+    sc.all_events = all_events;
 }
 
 #[cfg(test)]
@@ -564,6 +653,21 @@ mod tests {
             }
         }
         assert_eq!(order_major_offset(lmax, lmax) + 1, packed.len());
+    }
+
+    /// The vectorised coefficients must be the doubles of `recursion::a_lm` / `b_lm`.
+    #[test]
+    fn recursion_coefficients_equal_the_reference_formulas() {
+        use crate::sht::legendre::recursion::{a_lm, b_lm};
+        let lmax = 2100;
+        let mut sc = OrderScratch::new(lmax, 1);
+        for m in [0, 1, 2, 17, 1000, 2098, 2099, 2100] {
+            sc.fill_recursion(m, lmax);
+            for l in m + 1..=lmax {
+                assert_eq!(sc.a[l].to_bits(), a_lm(l, m).to_bits(), "a {l} {m}");
+                assert_eq!(sc.b[l].to_bits(), b_lm(l, m).to_bits(), "b {l} {m}");
+            }
+        }
     }
 
     #[test]
@@ -594,6 +698,7 @@ mod tests {
             for block in lanes.chunks(16) {
                 block_events::<16>(m, lmax, cm[m], block, &mut sc);
                 for (i, lane) in block.iter().enumerate() {
+                    let i = i as u32;
                     let want =
                         column_start(m, lmax, lane.t, sectoral(m, cm[m], lane.u), &sc.a, &sc.b);
                     let got = sc.events.iter().find(|e| e.lane == i);
@@ -604,7 +709,7 @@ mod tests {
                             late += usize::from(w.l > m + 1);
                             assert_eq!(
                                 (w.l, w.p_prev, w.p),
-                                (g.l, g.p_prev, g.p),
+                                (g.l as usize, g.p_prev, g.p),
                                 "m {m} lane {i}"
                             );
                         }

@@ -10,6 +10,8 @@
 //!    the parts interleave in memory. Each output hands out one writer per order, inside a
 //!    parallel loop it runs itself over distinct orders, so no two writers can touch the same
 //!    element.
+//! 3. [`keep_loop_scalar`]: an empty inline-assembly statement that stops the compiler from
+//!    widening a loop across its iterations.
 
 use std::marker::PhantomData;
 use std::ops::Range;
@@ -169,6 +171,23 @@ unsafe fn analysis_avx512(
     out: &mut OrderCoefficientSums,
 ) {
     analysis_order::<32, 8, true>(job, sc, out)
+}
+
+/// Marks a loop whose iterations must not be vectorised across: inside it, the code already
+/// works on whole vector registers (the fixed-size lane arrays), and a loop vectoriser that
+/// widens the independent iterations instead (the degrees of an analysis chunk) turns every
+/// load and store of the per-degree sums into gathers and scatters, which made the analysis
+/// kernel about a sixth slower (perf annotate of `kugel bench --lmax 1023`, December 2026).
+/// A loop holding an inline-assembly statement is never vectorised; the statement itself is
+/// empty and emits no instruction.
+#[inline(always)]
+pub(crate) fn keep_loop_scalar() {
+    #[cfg(any(target_arch = "x86_64", target_arch = "aarch64"))]
+    // SAFETY: an empty template with no operands reads and writes nothing (no registers, no
+    // memory, no flags, no stack), so it cannot break any invariant.
+    unsafe {
+        std::arch::asm!("", options(nomem, nostack, preserves_flags));
+    }
 }
 
 /// Row-major nlat × nlon grids whose rows hold packed half-spectra
