@@ -33,8 +33,9 @@ use crate::memory;
 
 use super::grid::Grid;
 use super::kernel::{
-    analysis_block_bytes, build_lanes, is_symmetric, order_major, AnalysisJob, CoefficientSums,
-    ColumnStarts, FourierGrids, KernelPath, KernelSet, Lane, OrderScratch, SynthJob,
+    analysis_block_bytes, build_lanes, is_symmetric, order_major, packed_from_order_major,
+    AnalysisJob, CoefficientSums, ColumnStarts, FourierGrids, KernelPath, KernelSet, Lane,
+    OrderScratch, SynthJob,
 };
 use super::legendre::recursion::sectoral_factors;
 use super::legendre::{order_one_over_sin_at_pole, Pole};
@@ -311,12 +312,22 @@ impl TransformPlan {
             .collect();
         let lmax = self.lmax;
         let stride = lmax + 1;
-        let mut out = vec![Coefficients::zeros(lmax, Normalization::Geodesy); nf];
+        // order-major sums (see `CoefficientSums`), packed at the end
+        let mut order_major_sums =
+            vec![(vec![0.0; packed_len(lmax)], vec![0.0; packed_len(lmax)]); nf];
         let chunk_lanes = analysis_chunk_lanes(lmax, lanes.len(), nf);
         let per_field = chunk_lanes.min(lanes.len()) * 2 * stride;
+        // ring spectra as the FFTs leave them (ring after ring), and order-major for the kernels
         let mut spectra = vec![Complex64::new(0.0, 0.0); nf * per_field];
+        let mut by_order = vec![Complex64::new(0.0, 0.0); nf * per_field];
         let scale = 1.0 / (2.0 * nlon as f64);
-        let mut sums = CoefficientSums::new(out.iter_mut().map(|c| c.packed_mut()).collect(), lmax);
+        let mut sums = CoefficientSums::new(
+            order_major_sums
+                .iter_mut()
+                .map(|(c, s)| (c.as_mut_slice(), s.as_mut_slice()))
+                .collect(),
+            lmax,
+        );
         for (ci, chunk) in lanes.chunks(chunk_lanes.max(1)).enumerate() {
             // Fourier stage: weighted, rotated half-spectra of the chunk's rings.
             let used = chunk.len() * 2 * stride;
@@ -338,9 +349,15 @@ impl TransformPlan {
                         },
                     );
             }
+            for (src, dst) in spectra
+                .chunks(per_field)
+                .zip(by_order.chunks_mut(per_field))
+            {
+                rings_to_order_major(&src[..used], &mut dst[..used], stride);
+            }
             // Legendre stage: one task per order, every field at once.
             let field_spectra: Vec<&[Complex64]> =
-                spectra.chunks(per_field).map(|s| &s[..used]).collect();
+                by_order.chunks(per_field).map(|s| &s[..used]).collect();
             let job = AnalysisJob {
                 lmax,
                 lanes: chunk,
@@ -356,6 +373,16 @@ impl TransformPlan {
             );
         }
         drop(sums);
+        let out = order_major_sums
+            .iter()
+            .map(|(c_om, s_om)| {
+                let mut c = Coefficients::zeros(lmax, Normalization::Geodesy);
+                let (c_packed, s_packed) = c.packed_mut();
+                packed_from_order_major(c_om, lmax, c_packed);
+                packed_from_order_major(s_om, lmax, s_packed);
+                c
+            })
+            .collect();
         Ok(out)
     }
 
@@ -659,6 +686,26 @@ impl RingScratch {
     }
 }
 
+/// Ring spectra of a chunk (row after row, `stride` = L + 1 entries each) rearranged
+/// order-major (the rows' entries of m = 0, then of m = 1, ...): a transpose in tiles of
+/// `ORDERS_PER_TILE` orders, each tile reading a short contiguous run of every row, in parallel.
+fn rings_to_order_major(rings: &[Complex64], by_order: &mut [Complex64], stride: usize) {
+    const ORDERS_PER_TILE: usize = 8;
+    let rows = rings.len() / stride;
+    by_order
+        .par_chunks_mut(ORDERS_PER_TILE * rows)
+        .enumerate()
+        .for_each(|(tile, dst)| {
+            let m0 = tile * ORDERS_PER_TILE;
+            let orders = dst.len() / rows;
+            for (r, ring) in rings.chunks_exact(stride).enumerate() {
+                for (dm, h) in ring[m0..m0 + orders].iter().enumerate() {
+                    dst[dm * rows + r] = *h;
+                }
+            }
+        });
+}
+
 /// Bytes of the column-start table a plan to `lmax` with `lanes` lanes on an nlat × nlon grid
 /// keeps, or `None` when it keeps none (`kernel::column_starts`: the table's bound must not
 /// exceed one field of the grid, or 64 MiB).
@@ -714,18 +761,20 @@ pub fn analysis_memory_bytes_many(lmax: usize, nlon: usize, lanes: usize, fields
     let threads = rayon::current_num_threads() as u64;
     let fields64 = fields as u64;
     let chunk_lanes = analysis_chunk_lanes(lmax, lanes, fields);
-    fields64 * (2 * packed_len(lmax) * 8) as u64
-        + fields64 * chunk_lanes as u64 * 2 * (lmax as u64 + 1) * 16
+    // per field: the packed result and the order-major sums; the chunk's ring spectra twice
+    fields64 * (4 * packed_len(lmax) * 8) as u64
+        + 2 * fields64 * chunk_lanes as u64 * 2 * (lmax as u64 + 1) * 16
         + threads
             * (OrderScratch::bytes(lmax, fields)
                 + analysis_block_bytes(chunk_lanes, fields)
                 + (nlon as u64) * 48)
 }
 
-/// Lanes whose ring spectra an analysis of `fields` fields holds at once: as many as fit in
-/// `ANALYSIS_CHUNK_BYTES` for all fields together, a multiple of 32, no more than the grid has.
+/// Lanes whose ring spectra an analysis of `fields` fields holds at once (twice: as the FFTs
+/// leave them and order-major): as many as fit in `ANALYSIS_CHUNK_BYTES` for all fields
+/// together, a multiple of 32, no more than the grid has.
 fn analysis_chunk_lanes(lmax: usize, lanes: usize, fields: usize) -> usize {
-    let per_lane = 2 * (lmax + 1) * 16 * fields.max(1);
+    let per_lane = 2 * 2 * (lmax + 1) * 16 * fields.max(1);
     let w = 32; // a multiple of every path's lane count
     let chunk = (ANALYSIS_CHUNK_BYTES / per_lane).max(w) / w * w;
     chunk.min(lanes.div_ceil(w) * w)

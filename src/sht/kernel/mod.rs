@@ -17,6 +17,8 @@ pub use path::KernelPath;
 
 pub(crate) use column_starts::ColumnStarts;
 pub(crate) use lanes::{build_lanes, is_symmetric, Lane};
-pub(crate) use order::{analysis_block_bytes, order_major, AnalysisJob, OrderScratch, SynthJob};
+pub(crate) use order::{
+    analysis_block_bytes, order_major, packed_from_order_major, AnalysisJob, OrderScratch, SynthJob,
+};
 pub(crate) use path::PORTABLE_FUSED;
 pub(crate) use unsafe_parts::{CoefficientSums, FourierGrids, KernelSet};

@@ -249,6 +249,17 @@ pub(crate) fn order_major_offset(m: usize, lmax: usize) -> usize {
     m * (lmax + 1) - m * m.saturating_sub(1) / 2
 }
 
+/// Order-major coefficients to degree `lmax` ([`order_major`]) back in the packed
+/// degree-major layout of `coeffs::packed_index`, written into `packed`.
+pub(crate) fn packed_from_order_major(order_major: &[f64], lmax: usize, packed: &mut [f64]) {
+    for l in 0..=lmax {
+        let row = &mut packed[packed_index(l, 0)..=packed_index(l, l)];
+        for (m, v) in row.iter_mut().enumerate() {
+            *v = order_major[order_major_offset(m, lmax) + l - m];
+        }
+    }
+}
+
 /// Packed (degree-major, `coeffs::packed_index`) coefficients to degree `lmax` rearranged
 /// order-major, so that each order's kernel reads its column contiguously instead of one
 /// cache line per degree.
@@ -452,8 +463,9 @@ pub(crate) struct AnalysisJob<'a> {
     /// The lanes of this chunk of rings.
     pub lanes: &'a [Lane],
     pub sectoral_factors: &'a [f64],
-    /// Per field: weighted, rotated ring spectra H_m, lane k's north ring at row 2k, its
-    /// mirror at 2k + 1, each row `lmax + 1` long.
+    /// Per field: weighted, rotated ring spectra H_m, order-major: the 2n ring rows of the
+    /// chunk's n lanes for m = 0, then for m = 1, ... (lane k's north ring at 2k, its mirror
+    /// at 2k + 1), so that a block reads the spectra of its lanes for one order contiguously.
     pub spectra: &'a [&'a [Complex64]],
     /// The plan's column starts, if it keeps them, and the index of this chunk's first block
     /// in them (the chunk's lanes are the plan's lanes from `first_block · W` on).
@@ -481,23 +493,26 @@ pub(crate) fn analysis_block_bytes(lanes: usize, fields: usize) -> u64 {
     lanes * 8 * (4 + 4 * fields as u64) + lanes * std::mem::size_of::<Event>() as u64
 }
 
-/// The ring spectra of one block and one field, even and odd parts of l − m.
+/// The ring spectra of one block and one field, even and odd parts of l − m. `field` is
+/// order-major ([`AnalysisJob::spectra`]) with `rows` ring rows per order.
+#[inline(always)]
 fn block_spectra<const W: usize>(
     field: &[Complex64],
     block: &[Lane],
     first_lane: usize,
-    stride: usize,
+    rows: usize,
     m: usize,
 ) -> BlockSpectra<W> {
+    let field = &field[m * rows..(m + 1) * rows];
     let mut h = BlockSpectra {
         re: [[0.0; W]; 2],
         im: [[0.0; W]; 2],
     };
     for (i, lane) in block.iter().enumerate() {
         let k = first_lane + i;
-        let hn = field[2 * k * stride + m];
+        let hn = field[2 * k];
         let (e, o) = if lane.south.is_some() {
-            let hs = field[(2 * k + 1) * stride + m];
+            let hs = field[2 * k + 1];
             (hn + hs, hn - hs)
         } else {
             (hn, hn)
@@ -533,7 +548,7 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
         sc.lmax == lmax && sc.fields >= nf && F <= MAX_FOLD,
         "scratch of another shape"
     );
-    let stride = lmax + 1;
+    let rows = 2 * job.lanes.len();
     sc.fill(m, lmax, false);
     let c_m = job.sectoral_factors[m];
     // every block's column starts and ring spectra, up to the first block without any
@@ -565,7 +580,7 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
         spectra.extend(
             job.spectra
                 .iter()
-                .map(|field| block_spectra::<W>(field, block, bi * W, stride, m)),
+                .map(|field| block_spectra::<W>(field, block, bi * W, rows, m)),
         );
     }
     let rc = OrderCoefficients {
