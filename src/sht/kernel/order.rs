@@ -131,31 +131,28 @@ fn block_nodes<const W: usize>(block: &[Lane]) -> Nodes<W> {
 }
 
 /// The column starts of block `block` of order m: from the plan's table when the job has one,
-/// else found now into `sc.events`.
+/// else found now into `found` (`a`, `b`: the order's recursion coefficients).
 #[inline(always)]
+#[allow(clippy::too_many_arguments)]
 fn starts_of_block<'a, const W: usize>(
     starts: Option<&'a ColumnStarts>,
     m: usize,
     lmax: usize,
     c_m: f64,
     (block_index, block): (usize, &[Lane]),
-    sc: &'a mut OrderScratch,
+    a: &[f64],
+    b: &[f64],
+    found: &'a mut Vec<Event>,
 ) -> &'a [Event] {
     match starts {
         Some(table) => table.block(m, block_index),
-        None => block_events::<W>(m, lmax, c_m, block, sc),
+        None => find_block_events::<W>(m, lmax, c_m, block, a, b, found),
     }
 }
 
 /// Collects the column starts of a block's lanes (sorted by degree) into `sc.events` and
 /// returns them. `sc` must hold the recursion coefficients of order m
 /// ([`OrderScratch::fill_recursion`]).
-///
-/// The same computation as `recursion::column_start` (same operations in the same order, so
-/// the same doubles), run for the whole block at once: each lane carries its scaled value
-/// p · 2^(960 k) and a limit, and only a step where some lane reaches its limit (rescale, or
-/// the column becomes representable) leaves the vector loop. One lane at a time this costs
-/// about ten times more, which made it the larger part of a transform.
 pub(crate) fn block_events<'s, const W: usize>(
     m: usize,
     lmax: usize,
@@ -163,13 +160,33 @@ pub(crate) fn block_events<'s, const W: usize>(
     block: &[Lane],
     sc: &'s mut OrderScratch,
 ) -> &'s [Event] {
+    find_block_events::<W>(m, lmax, c_m, block, &sc.a, &sc.b, &mut sc.events)
+}
+
+/// [`block_events`] with the recursion coefficients `a`, `b` of order m and the event buffer
+/// given apart.
+///
+/// The same computation as `recursion::column_start` (same operations in the same order, so
+/// the same doubles), run for the whole block at once: each lane carries its scaled value
+/// p · 2^(960 k) and a limit, and only a step where some lane reaches its limit (rescale, or
+/// the column becomes representable) leaves the vector loop. One lane at a time this costs
+/// about ten times more, which made it the larger part of a transform.
+fn find_block_events<'s, const W: usize>(
+    m: usize,
+    lmax: usize,
+    c_m: f64,
+    block: &[Lane],
+    a: &[f64],
+    b: &[f64],
+    events: &'s mut Vec<Event>,
+) -> &'s [Event] {
     let mut x = [0.0; W];
     let mut p = [0.0; W];
     let mut pp = [0.0; W];
     let mut k = [0i32; W];
     let mut lim = [f64::INFINITY; W];
     let mut pending = 0usize;
-    sc.events.clear();
+    events.clear();
     let threshold_abs = f64::from_bits(((NEGLIGIBLE_LOG2 + 960 + 1023) as u64) << 52);
     let limit = |k: i32| if k == -1 { threshold_abs } else { BIG_SQRT };
     for (i, lane) in block.iter().enumerate() {
@@ -182,7 +199,7 @@ pub(crate) fn block_events<'s, const W: usize>(
             continue;
         }
         if sv.k == 0 || (sv.k == -1 && sv.mant.abs() >= threshold_abs) {
-            sc.events.push(Event {
+            events.push(Event {
                 l: m as u32,
                 lane: i as u32,
                 p_prev: 0.0,
@@ -196,10 +213,10 @@ pub(crate) fn block_events<'s, const W: usize>(
         }
     }
     if pending == 0 {
-        return &sc.events;
+        return events;
     }
     for l in (m + 1)..=lmax {
-        let (al, bl) = (sc.a[l], sc.b[l]);
+        let (al, bl) = (a[l], b[l]);
         let mut hit = false;
         for i in 0..W {
             let next = al * x[i] * p[i] - bl * pp[i];
@@ -220,7 +237,7 @@ pub(crate) fn block_events<'s, const W: usize>(
                 k[i] += 1;
             }
             if k[i] == -1 && p[i].abs() >= threshold_abs {
-                sc.events.push(Event {
+                events.push(Event {
                     l: l as u32,
                     lane: i as u32,
                     p_prev: pp[i] * BIG_INV,
@@ -239,7 +256,7 @@ pub(crate) fn block_events<'s, const W: usize>(
             break;
         }
     }
-    &sc.events
+    events
 }
 
 /// Where the column of order m starts in order-major storage to degree `lmax` (the degrees
@@ -337,12 +354,22 @@ pub(crate) fn synth_order<const W: usize, const H: usize, const FMA: bool, const
     let c_m = job.sectoral_factors[m];
     let starts = checked_starts(job.starts, job.lanes.len(), 0, W);
     let mut rows = Rows::<W>::new();
-    let mut sums = vec![SynthSums::<W>::ZERO; nf];
-    let mut events = std::mem::take(&mut sc.all_events);
+    // one field (the common case) keeps its sums on the stack: a heap block of this size per
+    // order went through the allocator's slow path on every order (about 3 % of a degree-255
+    // synthesis in perf profiles)
+    let mut one = [SynthSums::<W>::ZERO; 1];
+    let mut many = Vec::new();
+    let sums: &mut [SynthSums<W>] = if nf == 1 {
+        &mut one
+    } else {
+        many.resize(nf, SynthSums::<W>::ZERO);
+        &mut many
+    };
+    let mut found = std::mem::take(&mut sc.events);
     for (bi, block) in job.lanes.chunks(W).enumerate() {
         let x = block_nodes::<W>(block);
-        events.clear();
-        events.extend_from_slice(starts_of_block::<W>(starts, m, lmax, c_m, (bi, block), sc));
+        let events =
+            starts_of_block::<W>(starts, m, lmax, c_m, (bi, block), &sc.a, &sc.b, &mut found);
         if events.is_empty() {
             // lanes run from the equator to the poles: every later block is negligible too
             break;
@@ -353,7 +380,7 @@ pub(crate) fn synth_order<const W: usize, const H: usize, const FMA: bool, const
             a: &sc.a,
             b: &sc.b,
         };
-        for_each_chunk::<W, FMA>(&rc, &x, &events, &mut rows, |l0, n, rows| {
+        for_each_chunk::<W, FMA>(&rc, &x, events, &mut rows, |l0, n, rows| {
             let par0 = (l0 - m) & 1;
             for (k, sum) in sums.iter_mut().enumerate() {
                 let (c, s) = sc.column(k);
@@ -377,7 +404,7 @@ pub(crate) fn synth_order<const W: usize, const H: usize, const FMA: bool, const
             put_block::<W, GRAD>(job, out, block, k, sum);
         }
     }
-    sc.all_events = events;
+    sc.events = found;
 }
 
 /// The table `starts` if it describes `lanes` lanes from block `first_block` on in blocks of
@@ -560,8 +587,16 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
     all_events.clear();
     for (bi, block) in job.lanes.chunks(W).enumerate() {
         let x = block_nodes::<W>(block);
-        let block_starts =
-            starts_of_block::<W>(starts, m, lmax, c_m, (job.first_block + bi, block), sc);
+        let block_starts = starts_of_block::<W>(
+            starts,
+            m,
+            lmax,
+            c_m,
+            (job.first_block + bi, block),
+            &sc.a,
+            &sc.b,
+            &mut sc.events,
+        );
         let Some(first) = block_starts.first() else {
             // lanes run from the equator to the poles: every later block is negligible too
             break;
