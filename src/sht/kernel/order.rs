@@ -36,6 +36,11 @@ pub(crate) struct OrderScratch {
     /// Analysis partial sums of one degree chunk, field after field, each CHUNK·MAX_FOLD long.
     acc_re: Vec<f64>,
     acc_im: Vec<f64>,
+    /// The degree-chunk rows of the kernel's width (`Rows<W>`, 16 KiB at W = 32), kept
+    /// between orders: made and zeroed per order they cost about a tenth of a degree-255
+    /// synthesis (a memset per order in perf profiles). Typed at first use, since the width is
+    /// the kernel's.
+    rows: Option<Box<dyn std::any::Any + Send>>,
 }
 
 impl OrderScratch {
@@ -54,6 +59,7 @@ impl OrderScratch {
             all_events: Vec::new(),
             acc_re: vec![0.0; CHUNK * MAX_FOLD * fields],
             acc_im: vec![0.0; CHUNK * MAX_FOLD * fields],
+            rows: None,
         }
     }
 
@@ -107,6 +113,20 @@ impl OrderScratch {
                 self.f[l] = f_lm(l, m);
             }
         }
+    }
+
+    /// The kept rows of width W (new ones the first time, or after a kernel of another width).
+    /// Every kernel writes each row before it reads it (`block::recur`), so kept rows give the
+    /// same results as zeroed ones.
+    fn take_rows<const W: usize>(&mut self) -> Box<Rows<W>> {
+        self.rows
+            .take()
+            .and_then(|r| r.downcast::<Rows<W>>().ok())
+            .unwrap_or_else(|| Box::new(Rows::new()))
+    }
+
+    fn keep_rows<const W: usize>(&mut self, rows: Box<Rows<W>>) {
+        self.rows = Some(rows);
     }
 
     fn column(&self, field: usize) -> (&[f64], &[f64]) {
@@ -353,7 +373,7 @@ pub(crate) fn synth_order<const W: usize, const H: usize, const FMA: bool, const
     }
     let c_m = job.sectoral_factors[m];
     let starts = checked_starts(job.starts, job.lanes.len(), 0, W);
-    let mut rows = Rows::<W>::new();
+    let mut rows = sc.take_rows::<W>();
     // one field (the common case) keeps its sums on the stack: a heap block of this size per
     // order went through the allocator's slow path on every order (about 3 % of a degree-255
     // synthesis in perf profiles)
@@ -380,7 +400,7 @@ pub(crate) fn synth_order<const W: usize, const H: usize, const FMA: bool, const
             a: &sc.a,
             b: &sc.b,
         };
-        for_each_chunk::<W, FMA>(&rc, &x, events, &mut rows, |l0, n, rows| {
+        for_each_chunk::<W, FMA>(&rc, &x, events, &mut *rows, |l0, n, rows| {
             let par0 = (l0 - m) & 1;
             for (k, sum) in sums.iter_mut().enumerate() {
                 let (c, s) = sc.column(k);
@@ -405,6 +425,7 @@ pub(crate) fn synth_order<const W: usize, const H: usize, const FMA: bool, const
         }
     }
     sc.events = found;
+    sc.keep_rows(rows);
 }
 
 /// The table `starts` if it describes `lanes` lanes from block `first_block` on in blocks of
@@ -618,12 +639,12 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
                 .map(|field| block_spectra::<W>(field, block, bi * W, rows, m)),
         );
     }
+    let mut rows = sc.take_rows::<W>();
     let rc = OrderCoefficients {
         lmax,
         a: &sc.a,
         b: &sc.b,
     };
-    let mut rows = Rows::<W>::new();
     let mut l0 = m;
     while l0 <= lmax {
         let l1 = (l0 + CHUNK).min(lmax + 1);
@@ -647,14 +668,14 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
                     &b.x,
                     &mut b.p0,
                     &mut b.p1,
-                    &mut rows,
+                    &mut *rows,
                 );
                 let par0 = (b.l - m) & 1;
                 let at = (b.l - l0) * F;
                 for (k, hk) in h.iter().enumerate() {
                     let field = k * span + at..(k + 1) * span;
                     accumulate_analysis::<W, F, FMA>(
-                        &rows,
+                        &*rows,
                         n,
                         par0,
                         hk,
@@ -677,6 +698,7 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
         l0 = l1;
     }
     sc.all_events = all_events;
+    sc.keep_rows(rows);
 }
 
 #[cfg(test)]
