@@ -151,19 +151,52 @@ _TEMPLATES = {}
 _TEMPLATES_KEPT = 8
 
 
+def _public_copy(template, data, name, attrs):
+    """A result as the documented xarray API makes it: a shallow copy of the template with its
+    own data, name and attributes."""
+    out = template.copy(deep=False, data=data)
+    out.name = name
+    out.attrs = attrs
+    return out
+
+
+def _direct_copy(template, data, name, attrs):
+    """The same result as `_public_copy`, assembled from its parts: a new data variable, new
+    shallow copies of the coordinate variables (so that coordinate attributes stay per result)
+    and the template's index objects, which shallow copies share anyway. About 5 µs instead of
+    about 35 µs (xarray 2026.9 on the benchmark machine), a tenth of the Python side of a
+    degree-255 call. It uses xarray's internal constructor, so each template is checked once
+    against `_public_copy` (``identical`` and separate coordinate attributes) before it is used,
+    and any difference or error falls back to the public path for good."""
+    variable = _xr.Variable(template.dims, data, attrs, fastpath=True)
+    coords = {k: v.copy(deep=False) for k, v in template._coords.items()}
+    return _xr.DataArray._construct_direct(variable, coords, name, template._indexes)
+
+
+def _direct_copy_agrees(template, data, name, attrs):
+    try:
+        fast = _direct_copy(template, data, name, attrs)
+        public = _public_copy(template, data, name, attrs)
+        return (fast.identical(public) and fast.values is data
+                and all(fast[k].attrs is not template[k].attrs for k in template.coords))
+    except Exception:  # an xarray whose internals differ: use the public path
+        return False
+
+
 def _map_array(data, lat, lon, name, attrs):
     """A map as an ``xarray.DataArray`` on its grid's coordinates.
 
     Building xarray's coordinates and their indexes costs several times the rest of a call's
     Python side, so for the last few grids an empty template (a zero-stride view, no memory)
     with the coordinates is kept, keyed by the coordinate values, and each result is a
-    shallow copy of it with its own data, name and attributes (documented
-    ``DataArray.copy(deep=False, data=...)``): coordinate attributes are per result, and the
-    shared coordinate values are read-only, so no result can change another's.
+    shallow copy of it with its own data, name and attributes (``_direct_copy``, checked
+    against the documented ``DataArray.copy(deep=False, data=...)``): coordinate attributes
+    are per result, and the shared coordinate values are read-only, so no result can change
+    another's.
     """
     key = (lat.tobytes(), lon.tobytes())
-    template = _TEMPLATES.get(key)
-    if template is None:
+    entry = _TEMPLATES.get(key)
+    if entry is None:
         lat = lat.copy()
         lon = lon.copy()
         lat.flags.writeable = False
@@ -171,13 +204,14 @@ def _map_array(data, lat, lon, name, attrs):
         empty = np.broadcast_to(np.float64(0.0), (lat.size, lon.size))
         template = _xr.DataArray(empty, dims=("lat", "lon"), coords={
             "lat": ("lat", lat, LAT_ATTRS), "lon": ("lon", lon, LON_ATTRS)})
+        entry = (template, _direct_copy_agrees(template, data, name, attrs))
         if len(_TEMPLATES) >= _TEMPLATES_KEPT:
             _TEMPLATES.pop(next(iter(_TEMPLATES)))
-        _TEMPLATES[key] = template
-    out = template.copy(deep=False, data=data)
-    out.name = name
-    out.attrs = attrs
-    return out
+        _TEMPLATES[key] = entry
+    template, direct = entry
+    if direct:
+        return _direct_copy(template, data, name, attrs)
+    return _public_copy(template, data, name, attrs)
 
 
 def _check_model(model):

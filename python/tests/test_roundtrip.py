@@ -153,3 +153,20 @@ def test_engine_timing_hook_times_the_same_transform(model30):
     # the overhead benchmark's in-process reference: positive, finite seconds
     synthesis_s, analysis_s = kugel._native.engine_transform_seconds(model30)
     assert 0.0 < synthesis_s < 60.0 and 0.0 < analysis_s < 60.0
+
+
+def test_maps_take_the_checked_direct_construction(model30):
+    # `_grids._map_array` assembles results from xarray's parts once a template has been checked
+    # against the documented shallow copy; with this xarray the check must pass and both must
+    # give identical results (values, coordinates, attributes, name)
+    from kugel import _grids
+    out = kugel.synthesize(model30)
+    key = (out.lat.values.tobytes(), out.lon.values.tobytes())
+    template, direct = _grids._TEMPLATES[key]
+    assert direct
+    data = np.arange(out.size, dtype=float).reshape(out.shape)
+    attrs = {"units": "m", "long_name": "a test"}
+    fast = _grids._direct_copy(template, data, "x", attrs)
+    public = _grids._public_copy(template, data, "x", attrs)
+    assert fast.identical(public)
+    assert fast.values is data
