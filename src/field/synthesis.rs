@@ -352,7 +352,9 @@ fn synthesis_memory_bytes_f64(
     nlat: f64,
     nlon: f64,
 ) -> f64 {
-    crate::sht::budget::grid_bytes(nlat, nlon, synthesis_grid_count(quantities) as f64)
+    let grids = synthesis_grid_count(quantities) as f64;
+    crate::sht::budget::grid_bytes(nlat, nlon, grids)
+        + crate::sht::budget::synthesis_staging_bytes(grids, nlat)
         + crate::sht::budget::coefficient_set_bytes(
             model_lmax,
             (1 + one_pass_sets(quantities).max(1)) as f64,

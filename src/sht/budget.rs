@@ -49,6 +49,12 @@ pub fn plan_table_bytes(lmax: usize, nlat: f64, nlon: f64) -> f64 {
         + threads * (l2 * 64.0 + 4096.0 + nlon * 48.0)
 }
 
+/// Bound on the bytes a synthesis into `grids` grids of `nlat` rings stages its Fourier entries
+/// in (`kernel::fourier_columns`: 32 MiB per group of orders, but never fewer than 16 orders).
+pub fn synthesis_staging_bytes(grids: f64, nlat: f64) -> f64 {
+    (32.0 * 1024.0 * 1024.0f64).max(16.0 * grids * nlat * 16.0)
+}
+
 /// Refuses, before anything is allocated, a job holding `grids` nlat × nlon fields and
 /// `coefficient_sets` coefficient sets to degree `lmax` (plus the plan's tables) when it does
 /// not fit in the available memory. `what` names the job in the message.

@@ -34,8 +34,8 @@ use crate::memory;
 use super::grid::Grid;
 use super::kernel::{
     analysis_block_bytes, build_lanes, is_symmetric, order_major, packed_from_order_major,
-    AnalysisJob, CoefficientSums, ColumnStarts, FourierGrids, KernelPath, KernelSet, Lane,
-    OrderScratch, SynthJob,
+    staging_bytes, AnalysisJob, CoefficientSums, ColumnStarts, FourierColumns, KernelPath,
+    KernelSet, Lane, OrderScratch, SynthJob,
 };
 use super::legendre::recursion::sectoral_factors;
 use super::legendre::{order_one_over_sin_at_pole, Pole};
@@ -584,7 +584,7 @@ impl TransformPlan {
             g.len() * if grad { 2 } else { 1 },
             "output grids"
         );
-        let mut grids = FourierGrids::new(
+        let mut grids = FourierColumns::new(
             out.into_iter()
                 .map(|a| a.as_slice_mut().expect("standard layout"))
                 .collect(),
@@ -743,9 +743,10 @@ pub fn synthesis_memory_bytes_many(
     fields: usize,
 ) -> u64 {
     let threads = rayon::current_num_threads() as u64;
-    // the converted input and its order-major copy, per field
+    // the converted input and its order-major copy, per field; the staged Fourier entries
     (outputs * nlat * nlon * 8) as u64
         + (fields * 4 * packed_len(lmax) * 8) as u64
+        + staging_bytes(outputs, nlat)
         + threads * (OrderScratch::bytes(lmax, fields) + (nlon as u64) * 48)
 }
 

@@ -6,6 +6,7 @@
 
 mod block;
 mod column_starts;
+mod fourier_columns;
 mod lanes;
 mod order;
 mod path;
@@ -16,9 +17,10 @@ mod unsafe_parts;
 pub use path::KernelPath;
 
 pub(crate) use column_starts::ColumnStarts;
+pub(crate) use fourier_columns::{staging_bytes, FourierColumns};
 pub(crate) use lanes::{build_lanes, is_symmetric, Lane};
 pub(crate) use order::{
     analysis_block_bytes, order_major, packed_from_order_major, AnalysisJob, OrderScratch, SynthJob,
 };
 pub(crate) use path::PORTABLE_FUSED;
-pub(crate) use unsafe_parts::{CoefficientSums, FourierGrids, KernelSet};
+pub(crate) use unsafe_parts::{CoefficientSums, KernelSet};

@@ -11,8 +11,9 @@ use super::block::{
     BlockSpectra, Event, Nodes, OrderCoefficients, Rows, SynthSums, CHUNK,
 };
 use super::column_starts::ColumnStarts;
+use super::fourier_columns::OrderFourierColumns;
 use super::lanes::Lane;
-use super::unsafe_parts::{OrderCoefficientSums, OrderFourierColumns};
+use super::unsafe_parts::OrderCoefficientSums;
 use crate::coeffs::packed_index;
 use crate::sht::legendre::recursion::{f_lm, sectoral, NEGLIGIBLE_LOG2};
 use crate::sht::legendre::xnumber::{BIG_INV, BIG_SQRT};

@@ -4,21 +4,19 @@
 //! 1. [`KernelSet`]: the table of kernel functions a plan uses for every order, chosen once
 //!    when the plan is built. The AVX2 and AVX-512 variants are `#[target_feature]` functions,
 //!    which may only be called on a CPU that has those features.
-//! 2. [`FourierGrids`] and [`CoefficientSums`]: the shared outputs of the per-order tasks.
-//!    Every order m writes its own disjoint part of each output array (two Fourier columns of
-//!    every ring, or the coefficients of order m), which safe slices cannot express because
-//!    the parts interleave in memory. Each output hands out one writer per order, inside a
-//!    parallel loop it runs itself over distinct orders, so no two writers can touch the same
-//!    element.
+//! 2. [`CoefficientSums`]: the shared output of the per-order analysis tasks. Every order m
+//!    adds into its own disjoint run of each output array; the output hands out one writer per
+//!    order, inside a parallel loop it runs itself over distinct orders, so no two writers can
+//!    touch the same element. (Synthesis stages its entries in safe slices,
+//!    `kernel::fourier_columns`.)
 //! 3. [`keep_loop_scalar`]: an empty inline-assembly statement that stops the compiler from
 //!    widening a loop across its iterations.
 
 use std::marker::PhantomData;
-use std::ops::Range;
 
 use rayon::prelude::*;
-use realfft::num_complex::Complex64;
 
+use super::fourier_columns::OrderFourierColumns;
 use super::order::{
     analysis_order, order_major_offset, synth_order, AnalysisJob, OrderScratch, SynthJob,
 };
@@ -192,96 +190,6 @@ pub(crate) fn keep_loop_scalar() {
     }
 }
 
-/// Row-major nlat × nlon grids whose rows hold packed half-spectra
-/// [Re X_0, Re X_1, Im X_1, Re X_2, Im X_2, ...], filled order by order in parallel.
-pub(crate) struct FourierGrids<'g> {
-    grids: Vec<*mut f64>,
-    nlat: usize,
-    nlon: usize,
-    lmax: usize,
-    _grids: PhantomData<&'g mut [f64]>,
-}
-
-// SAFETY: the grids are borrowed mutably for 'g, so nothing outside reads or writes them while
-// a `FourierGrids` exists. Threads share a `&FourierGrids` only inside `for_each_order`, where
-// each thread writes through an `OrderFourierColumns` of its own order m, and the entries of
-// different orders are different elements of each grid: column 0 for m = 0, columns 2m − 1
-// and 2m for m ≥ 1, with 2m ≤ 2·lmax < nlon (checked in `new`). Different grids are different
-// borrows, so they do not overlap either. Nothing reads through the pointers.
-unsafe impl Sync for FourierGrids<'_> {}
-
-impl<'g> FourierGrids<'g> {
-    /// Takes the grids (each nlat · nlon long, row-major) for a synthesis to degree `lmax`.
-    /// Panics on a length mismatch or when nlon < 2·lmax + 1 (the plan refuses those earlier).
-    pub(crate) fn new(grids: Vec<&'g mut [f64]>, nlat: usize, nlon: usize, lmax: usize) -> Self {
-        assert!(2 * lmax < nlon, "nlon {nlon} cannot hold degree {lmax}");
-        let grids = grids
-            .into_iter()
-            .map(|g| {
-                assert_eq!(g.len(), nlat * nlon, "grid size");
-                g.as_mut_ptr()
-            })
-            .collect();
-        FourierGrids {
-            grids,
-            nlat,
-            nlon,
-            lmax,
-            _grids: PhantomData,
-        }
-    }
-
-    /// Runs `body` once for every order in `orders` (≤ lmax), in parallel, one task per order,
-    /// each with a writer to that order's columns and a per-thread state from `init`.
-    pub(crate) fn for_each_order<S: Send, I, F>(&mut self, orders: Range<usize>, init: I, body: F)
-    where
-        I: Fn() -> S + Sync + Send,
-        F: Fn(&mut S, &mut OrderFourierColumns) + Sync + Send,
-    {
-        assert!(orders.end <= self.lmax + 1, "order beyond lmax");
-        let grids: &FourierGrids = self;
-        let scratch = PerThread::for_current_pool();
-        orders.into_par_iter().with_max_len(1).for_each(|m| {
-            // the only place a writer is made: one per order of a range, so never two for
-            // the same m at once
-            let mut out = OrderFourierColumns { grids, m };
-            scratch.with(&init, |state| body(state, &mut out));
-        });
-    }
-}
-
-/// Writes the Fourier entries of one order m. Not `Clone`: one writer per order exists at a time.
-pub(crate) struct OrderFourierColumns<'a, 'g> {
-    grids: &'a FourierGrids<'g>,
-    m: usize,
-}
-
-impl OrderFourierColumns<'_, '_> {
-    pub(crate) fn order(&self) -> usize {
-        self.m
-    }
-
-    /// Sets the entry of this order on `row` of grid `grid` to `x` (only its real part for
-    /// m = 0).
-    #[inline(always)]
-    pub(crate) fn put(&mut self, grid: usize, row: usize, x: Complex64) {
-        let g = self.grids;
-        assert!(row < g.nlat, "row {row} outside the grid");
-        let base = g.grids[grid];
-        let at = row * g.nlon;
-        // SAFETY: row < nlat and 2m < nlon, so the elements lie inside the grid; they belong
-        // to order m alone (see the `Sync` impl of `FourierGrids`).
-        unsafe {
-            if self.m == 0 {
-                *base.add(at) = x.re;
-            } else {
-                *base.add(at + 2 * self.m - 1) = x.re;
-                *base.add(at + 2 * self.m) = x.im;
-            }
-        }
-    }
-}
-
 /// `geodesy` C and S of one or more fields in order-major layout (the degrees m..=lmax of each
 /// order one after another, `order::order_major_offset`), accumulated order by order in
 /// parallel. Order-major, each order's sums land in one contiguous run; in the packed
@@ -293,7 +201,8 @@ pub(crate) struct CoefficientSums<'c> {
     _coefficients: PhantomData<&'c mut [f64]>,
 }
 
-// SAFETY: as for `FourierGrids`: every array is borrowed mutably for 'c, and inside
+// SAFETY: every array is borrowed mutably for 'c, so nothing outside reads or writes it while
+// a `CoefficientSums` exists; and inside
 // `for_each_order` each thread reads and writes only the elements order_major_offset(m, lmax)
 // + l − m, l = m..=lmax, of its own order m; these runs of different orders are disjoint
 // (each order's run ends where the next begins), and different arrays are different borrows.
@@ -335,7 +244,8 @@ impl<'c> CoefficientSums<'c> {
     }
 }
 
-/// Adds into the coefficients of one order m. Not `Clone`, as [`OrderFourierColumns`].
+/// Adds into the coefficients of one order m. Not `Clone`: one writer per order exists at a
+/// time.
 pub(crate) struct OrderCoefficientSums<'a, 'c> {
     sums: &'a CoefficientSums<'c>,
     m: usize,
@@ -368,32 +278,6 @@ impl OrderCoefficientSums<'_, '_> {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn every_order_writes_its_own_columns() {
-        let (nlat, nlon, lmax) = (3, 9, 4);
-        let mut a = vec![f64::NAN; nlat * nlon];
-        let mut b = vec![f64::NAN; nlat * nlon];
-        let mut grids = FourierGrids::new(vec![&mut a, &mut b], nlat, nlon, lmax);
-        grids.for_each_order(
-            0..lmax + 1,
-            || (),
-            |_, out| {
-                let m = out.order() as f64;
-                for row in 0..nlat {
-                    out.put(0, row, Complex64::new(m, -m));
-                    out.put(1, row, Complex64::new(10.0 + m, 0.5));
-                }
-            },
-        );
-        let want_a = [0.0, 1.0, -1.0, 2.0, -2.0, 3.0, -3.0, 4.0, -4.0];
-        for row in 0..nlat {
-            assert_eq!(&a[row * nlon..(row + 1) * nlon], &want_a);
-            assert_eq!(b[row * nlon], 10.0);
-            assert_eq!(b[row * nlon + 7], 14.0);
-            assert_eq!(b[row * nlon + 8], 0.5);
-        }
-    }
 
     #[test]
     fn every_order_adds_into_its_own_coefficients() {
