@@ -256,6 +256,63 @@ pub fn accumulate_derivative<const W: usize, const H: usize, const FMA: bool>(
     }
 }
 
+/// Per-lane sums of one order's column that feed the θ-derivatives of the neighbouring orders
+/// (point synthesis, see `kernel::point_group`): Σ_l E_l P̄_lm for order m + 1 and
+/// Σ_l F_l P̄_lm for order m − 1, with the C and the S coefficients.
+#[derive(Clone, Copy)]
+pub struct NeighbourSums<const W: usize> {
+    pub next_c: [f64; W],
+    pub next_s: [f64; W],
+    pub prev_c: [f64; W],
+    pub prev_s: [f64; W],
+}
+
+impl<const W: usize> NeighbourSums<W> {
+    pub const ZERO: Self = NeighbourSums {
+        next_c: [0.0; W],
+        next_s: [0.0; W],
+        prev_c: [0.0; W],
+        prev_s: [0.0; W],
+    };
+}
+
+/// Pass 2 of point gradients: adds Σ_k E_{l0+k} P̄_{l0+k} for the four coefficient runs
+/// `next_c`, `next_s`, `prev_c`, `prev_s` (all starting at l0) to the sums, H lanes at a time
+/// (four sets of H lanes in registers, four independent chains).
+#[inline(always)]
+#[allow(clippy::too_many_arguments)]
+pub fn accumulate_neighbours<const W: usize, const H: usize, const FMA: bool>(
+    rows: &Rows<W>,
+    n: usize,
+    next_c: &[f64],
+    next_s: &[f64],
+    prev_c: &[f64],
+    prev_s: &[f64],
+    sums: &mut NeighbourSums<W>,
+) {
+    let (nc, ns, pc, ps) = (&next_c[..n], &next_s[..n], &prev_c[..n], &prev_s[..n]);
+    let rows = &rows.rows[1..=n];
+    for h in 0..W / H {
+        let mut a: [f64; H] = part(&sums.next_c, h);
+        let mut b: [f64; H] = part(&sums.next_s, h);
+        let mut c: [f64; H] = part(&sums.prev_c, h);
+        let mut d: [f64; H] = part(&sums.prev_s, h);
+        for k in 0..n {
+            let r: [f64; H] = part(&rows[k], h);
+            for i in 0..H {
+                a[i] = fmadd::<FMA>(nc[k], r[i], a[i]);
+                b[i] = fmadd::<FMA>(ns[k], r[i], b[i]);
+                c[i] = fmadd::<FMA>(pc[k], r[i], c[i]);
+                d[i] = fmadd::<FMA>(ps[k], r[i], d[i]);
+            }
+        }
+        set_part(&mut sums.next_c, h, a);
+        set_part(&mut sums.next_s, h, b);
+        set_part(&mut sums.prev_c, h, c);
+        set_part(&mut sums.prev_s, h, d);
+    }
+}
+
 /// Ring spectra of one block and one field, real and imaginary parts, by parity of l − m
 /// ([0] even: north + south, [1] odd: north − south).
 pub struct BlockSpectra<const W: usize> {

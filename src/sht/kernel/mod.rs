@@ -9,6 +9,8 @@ mod lanes;
 mod order;
 mod path;
 mod per_thread;
+mod point_group;
+mod starts;
 #[allow(unsafe_code)]
 mod unsafe_parts;
 
@@ -16,5 +18,5 @@ pub use path::KernelPath;
 
 pub(crate) use lanes::{build_lanes, is_symmetric, Lane};
 pub(crate) use order::{analysis_block_bytes, order_major, AnalysisJob, OrderScratch, SynthJob};
-pub(crate) use path::PORTABLE_FUSED;
+pub(crate) use point_group::{PointScratch, PointTables};
 pub(crate) use unsafe_parts::{CoefficientSums, FourierGrids, KernelSet};

@@ -11,10 +11,10 @@ use super::block::{
     BlockSpectra, Event, Nodes, OrderCoefficients, Rows, SynthSums, CHUNK,
 };
 use super::lanes::Lane;
+use super::starts::column_starts;
 use super::unsafe_parts::{OrderCoefficientSums, OrderFourierColumns};
 use crate::coeffs::packed_index;
-use crate::sht::legendre::recursion::{a_lm, b_lm, f_lm, sectoral, NEGLIGIBLE_LOG2};
-use crate::sht::legendre::xnumber::{BIG_INV, BIG_SQRT};
+use crate::sht::legendre::recursion::{a_lm, b_lm, f_lm};
 
 /// The widest set of partial sums per degree an analysis kernel keeps (its `F`).
 pub const MAX_FOLD: usize = 8;
@@ -87,14 +87,8 @@ impl OrderScratch {
     }
 }
 
-/// Collects the column starts of a block's lanes (sorted by degree); returns the lane cos θ
-/// values.
-///
-/// The same computation as `recursion::column_start` (same operations in the same order, so
-/// the same doubles), run for the whole block at once: each lane carries its scaled value
-/// p · 2^(960 k) and a limit, and only a step where some lane reaches its limit (rescale, or
-/// the column becomes representable) leaves the vector loop. One lane at a time this costs
-/// about ten times more, which made it the larger part of a transform.
+/// Collects the column starts of a block's lanes into `sc.events` (sorted by degree; see
+/// `kernel::starts`); returns the lane cos θ values.
 fn block_events<const W: usize>(
     m: usize,
     lmax: usize,
@@ -106,84 +100,23 @@ fn block_events<const W: usize>(
         t: [0.0; W],
         t_lo: [0.0; W],
     };
-    let mut x = [0.0; W];
-    let mut p = [0.0; W];
-    let mut pp = [0.0; W];
-    let mut k = [0i32; W];
-    let mut lim = [f64::INFINITY; W];
-    let mut pending = 0usize;
-    sc.events.clear();
-    let threshold_abs = f64::from_bits(((NEGLIGIBLE_LOG2 + 960 + 1023) as u64) << 52);
-    let limit = |k: i32| if k == -1 { threshold_abs } else { BIG_SQRT };
+    let mut u = [0.0; W];
     for (i, lane) in block.iter().enumerate() {
-        x[i] = lane.t;
         nodes.t[i] = lane.t;
         nodes.t_lo[i] = lane.t_lo;
-        if m > lmax {
-            continue;
-        }
-        let sv = sectoral(m, c_m, lane.u);
-        if sv.mant == 0.0 {
-            continue;
-        }
-        if sv.k == 0 || (sv.k == -1 && sv.mant.abs() >= threshold_abs) {
-            sc.events.push(Event {
-                l: m,
-                lane: i,
-                p_prev: 0.0,
-                p: sv.to_f64(),
-            });
-        } else {
-            p[i] = sv.mant;
-            k[i] = sv.k;
-            lim[i] = limit(sv.k);
-            pending += 1;
-        }
+        u[i] = lane.u;
     }
-    if pending == 0 {
-        return nodes;
-    }
-    for l in (m + 1)..=lmax {
-        let (al, bl) = (sc.a[l], sc.b[l]);
-        let mut hit = false;
-        for i in 0..W {
-            let next = al * x[i] * p[i] - bl * pp[i];
-            pp[i] = p[i];
-            p[i] = next;
-            hit |= next.abs() >= lim[i];
-        }
-        if !hit {
-            continue;
-        }
-        for i in 0..W {
-            if p[i].abs() < lim[i] {
-                continue;
-            }
-            if p[i].abs() >= BIG_SQRT {
-                p[i] *= BIG_INV;
-                pp[i] *= BIG_INV;
-                k[i] += 1;
-            }
-            if k[i] == -1 && p[i].abs() >= threshold_abs {
-                sc.events.push(Event {
-                    l,
-                    lane: i,
-                    p_prev: pp[i] * BIG_INV,
-                    p: p[i] * BIG_INV,
-                });
-                // a finished lane holds zeros from here on and never reaches a limit again
-                p[i] = 0.0;
-                pp[i] = 0.0;
-                lim[i] = f64::INFINITY;
-                pending -= 1;
-            } else {
-                lim[i] = limit(k[i]);
-            }
-        }
-        if pending == 0 {
-            break;
-        }
-    }
+    column_starts::<W>(
+        m,
+        lmax,
+        c_m,
+        &nodes.t,
+        &u,
+        block.len(),
+        &sc.a,
+        &sc.b,
+        &mut sc.events,
+    );
     nodes
 }
 
@@ -543,7 +476,7 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::sht::legendre::recursion::{column_start, sectoral_factors};
+    use crate::sht::legendre::recursion::{column_start, sectoral, sectoral_factors};
 
     /// The block-wise column starts must equal the one-lane `column_start` bit for bit,
     /// including lanes near the poles at high order, where the start passes through several

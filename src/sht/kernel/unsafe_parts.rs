@@ -1,8 +1,8 @@
 //! The kernel layer's only `unsafe` code (every other module of `sht` denies it), with the
 //! argument for each part beside it:
 //!
-//! 1. [`KernelSet`]: the table of kernel functions a plan uses for every order, chosen once
-//!    when the plan is built. The AVX2 and AVX-512 variants are `#[target_feature]` functions,
+//! 1. [`KernelSet`]: the table of kernel functions a plan uses for every order (and point
+//!    synthesis for every group of points), chosen once when the plan (or the call) starts. The AVX2 and AVX-512 variants are `#[target_feature]` functions,
 //!    which may only be called on a CPU that has those features.
 //! 2. [`FourierGrids`] and [`CoefficientSums`]: the shared outputs of the per-order tasks.
 //!    Every order m writes its own disjoint part of each output array (two Fourier columns of
@@ -20,12 +20,16 @@ use realfft::num_complex::Complex64;
 use super::order::{analysis_order, synth_order, AnalysisJob, OrderScratch, SynthJob};
 use super::path::{KernelPath, PORTABLE_FUSED};
 use super::per_thread::PerThread;
+use super::point_group::{point_group, PointScratch, PointTables};
 use crate::coeffs::{packed_index, packed_len};
+use crate::sht::points::PointValue;
 
 type SynthFn = unsafe fn(&SynthJob, &mut OrderScratch, &mut OrderFourierColumns);
 type AnalysisFn = unsafe fn(&AnalysisJob, &mut OrderScratch, &mut OrderCoefficientSums);
+type PointFn = unsafe fn(&PointTables, &mut PointScratch, &[(f64, f64)], &mut [PointValue]);
 
-/// The kernel functions of one path: values, gradients and analysis, each for one order.
+/// The kernel functions of one path: values, gradients and analysis, each for one order, and
+/// point synthesis (values, or values and gradients) for one group of `path.lanes()` points.
 ///
 /// Safety: a `KernelSet` is only made by [`KernelSet::for_path`], which returns `None` unless
 /// `path.is_supported()` (runtime CPU detection), and each table entry is the variant compiled
@@ -37,6 +41,8 @@ pub(crate) struct KernelSet {
     values: SynthFn,
     gradient: SynthFn,
     analysis: AnalysisFn,
+    point_values: PointFn,
+    point_gradients: PointFn,
 }
 
 impl std::fmt::Debug for KernelSet {
@@ -59,6 +65,8 @@ impl KernelSet {
                 values: synth_portable::<false>,
                 gradient: synth_portable::<true>,
                 analysis: analysis_portable,
+                point_values: points_portable::<false>,
+                point_gradients: points_portable::<true>,
             },
             #[cfg(target_arch = "x86_64")]
             KernelPath::Avx2Fma => KernelSet {
@@ -66,6 +74,8 @@ impl KernelSet {
                 values: synth_avx2::<false>,
                 gradient: synth_avx2::<true>,
                 analysis: analysis_avx2,
+                point_values: points_avx2::<false>,
+                point_gradients: points_avx2::<true>,
             },
             #[cfg(target_arch = "x86_64")]
             KernelPath::Avx512 => KernelSet {
@@ -73,6 +83,8 @@ impl KernelSet {
                 values: synth_avx512::<false>,
                 gradient: synth_avx512::<true>,
                 analysis: analysis_avx512,
+                point_values: points_avx512::<false>,
+                point_gradients: points_avx512::<true>,
             },
             #[cfg(not(target_arch = "x86_64"))]
             KernelPath::Avx2Fma | KernelPath::Avx512 => return None,
@@ -111,6 +123,25 @@ impl KernelSet {
     ) {
         // SAFETY: as in `synth`.
         unsafe { (self.analysis)(job, sc, out) }
+    }
+
+    /// Synthesis at one group of 1 to `path().lanes()` points (values, and both gradient
+    /// components when `gradient`; the tables must then hold the gradient coefficients).
+    pub(crate) fn points(
+        &self,
+        gradient: bool,
+        tables: &PointTables,
+        sc: &mut PointScratch,
+        group: &[(f64, f64)],
+        out: &mut [PointValue],
+    ) {
+        let f = if gradient {
+            self.point_gradients
+        } else {
+            self.point_values
+        };
+        // SAFETY: as in `synth`.
+        unsafe { f(tables, sc, group, out) }
     }
 }
 
@@ -169,6 +200,40 @@ unsafe fn analysis_avx512(
     out: &mut OrderCoefficientSums,
 ) {
     analysis_order::<32, 8, true>(job, sc, out)
+}
+
+// Point groups: one lane per point, W = `KernelPath::lanes` points per group, sums of H lanes
+// in registers at a time as in synthesis.
+
+fn points_portable<const GRAD: bool>(
+    tables: &PointTables,
+    sc: &mut PointScratch,
+    group: &[(f64, f64)],
+    out: &mut [PointValue],
+) {
+    point_group::<8, 4, PORTABLE_FUSED, GRAD>(tables, sc, group, out)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+unsafe fn points_avx2<const GRAD: bool>(
+    tables: &PointTables,
+    sc: &mut PointScratch,
+    group: &[(f64, f64)],
+    out: &mut [PointValue],
+) {
+    point_group::<16, 8, true, GRAD>(tables, sc, group, out)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx2,fma")]
+unsafe fn points_avx512<const GRAD: bool>(
+    tables: &PointTables,
+    sc: &mut PointScratch,
+    group: &[(f64, f64)],
+    out: &mut [PointValue],
+) {
+    point_group::<32, 16, true, GRAD>(tables, sc, group, out)
 }
 
 /// Row-major nlat × nlon grids whose rows hold packed half-spectra
