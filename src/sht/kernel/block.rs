@@ -100,9 +100,12 @@ pub struct Nodes<const W: usize> {
 /// One recursion step P̄_{l−1}, P̄_l → P̄_l, P̄_{l+1} with `a` = a_{l+1}, `b` = b_{l+1}.
 ///
 /// Per lane: three multiplications (a t, a t_lo, b P̄_{l−1}) and two fused multiply–adds, of
-/// which only the two fused ones lie on the dependency chain from P̄_l to P̄_{l+1}.
+/// which only the two fused ones lie on the dependency chain from P̄_l to P̄_{l+1}. Without
+/// `LO` (every lane's t_lo is zero: the band π/3 ≤ θ ≤ 2π/3, see `legendre::colatitude`) the
+/// second fused step, which would add (a · 0) P̄_l, is left out: the same values, up to the
+/// sign of an exact zero.
 #[inline(always)]
-fn advance<const W: usize, const FMA: bool>(
+fn advance<const W: usize, const FMA: bool, const LO: bool>(
     a: f64,
     b: f64,
     x: &Nodes<W>,
@@ -111,7 +114,11 @@ fn advance<const W: usize, const FMA: bool>(
 ) {
     for i in 0..W {
         let main = fmadd::<FMA>(a * x.t[i], p1[i], -(b * p0[i]));
-        let next = fmadd::<FMA>(a * x.t_lo[i], p1[i], main);
+        let next = if LO {
+            fmadd::<FMA>(a * x.t_lo[i], p1[i], main)
+        } else {
+            main
+        };
         p0[i] = p1[i];
         p1[i] = next;
     }
@@ -134,7 +141,7 @@ impl<const W: usize> Rows<W> {
 /// `rows`. On entry `p0`, `p1` hold P̄_{l0−1}, P̄_{l0}; on return P̄_{l0+n−1}, P̄_{l0+n}.
 /// `a`, `b` start at degree l0 + 1 and hold at least n entries.
 #[inline(always)]
-pub fn recur<const W: usize, const FMA: bool>(
+pub fn recur<const W: usize, const FMA: bool, const LO: bool>(
     n: usize,
     a: &[f64],
     b: &[f64],
@@ -149,7 +156,7 @@ pub fn recur<const W: usize, const FMA: bool>(
     rows.rows[0] = q0;
     for k in 0..n {
         rows.rows[k + 1] = q1;
-        advance::<W, FMA>(a[k], b[k], x, &mut q0, &mut q1);
+        advance::<W, FMA, LO>(a[k], b[k], x, &mut q0, &mut q1);
     }
     *p0 = q0;
     *p1 = q1;
@@ -361,21 +368,37 @@ pub fn accumulate_analysis<const W: usize, const F: usize, const FMA: bool>(
 /// degrees, at the next event or after lmax. Calls `body(l0, n, rows)` after the recursion of
 /// each chunk has filled `rows`.
 #[inline(always)]
-pub fn for_each_chunk<const W: usize, const FMA: bool>(
+pub fn for_each_chunk<const W: usize, const FMA: bool, const LO: bool>(
     rc: &OrderCoefficients,
     x: &Nodes<W>,
     events: &[Event],
     rows: &mut Rows<W>,
-    mut body: impl FnMut(usize, usize, &Rows<W>),
+    body: impl FnMut(usize, usize, &Rows<W>),
 ) {
     let Some(first) = events.first() else {
         return;
     };
+    for_each_chunk_from::<W, FMA, LO>(rc, x, first.l, &[0.0; W], events, rows, body)
+}
+
+/// As [`for_each_chunk`] from degree `l_first`, where P̄_{l_first−1} = 0 and P̄_{l_first} =
+/// `p_first` in every lane (0 in the lanes that start later, at their `events`, sorted by
+/// degree, none before `l_first`).
+#[inline(always)]
+pub fn for_each_chunk_from<const W: usize, const FMA: bool, const LO: bool>(
+    rc: &OrderCoefficients,
+    x: &Nodes<W>,
+    l_first: usize,
+    p_first: &[f64; W],
+    events: &[Event],
+    rows: &mut Rows<W>,
+    mut body: impl FnMut(usize, usize, &Rows<W>),
+) {
     let lmax = rc.lmax;
     let mut p0 = [0.0; W];
-    let mut p1 = [0.0; W];
+    let mut p1 = *p_first;
     let mut ev = 0;
-    let mut l = first.l;
+    let mut l = l_first;
     inject(events, &mut ev, l, &mut p0, &mut p1);
     while l <= lmax {
         let next_event = if ev < events.len() {
@@ -385,7 +408,7 @@ pub fn for_each_chunk<const W: usize, const FMA: bool>(
         };
         let l_end = next_event.min(l + CHUNK);
         let n = l_end - l;
-        recur::<W, FMA>(n, &rc.a[l + 1..], &rc.b[l + 1..], x, &mut p0, &mut p1, rows);
+        recur::<W, FMA, LO>(n, &rc.a[l + 1..], &rc.b[l + 1..], x, &mut p0, &mut p1, rows);
         body(l, n, rows);
         l = l_end;
         inject(events, &mut ev, l, &mut p0, &mut p1);

@@ -30,6 +30,8 @@ pub(crate) struct OrderScratch {
     c: Vec<f64>,
     s: Vec<f64>,
     events: Vec<Event>,
+    /// The starts after degree m of one block (`kernel::starts`).
+    late: Vec<Event>,
     /// The events of every block of an analysis order, block after block.
     all_events: Vec<Event>,
     /// Analysis partial sums of one degree chunk, field after field, each CHUNK·MAX_FOLD long.
@@ -50,6 +52,7 @@ impl OrderScratch {
             c: vec![0.0; n * fields],
             s: vec![0.0; n * fields],
             events: Vec::with_capacity(64),
+            late: Vec::with_capacity(64),
             all_events: Vec::new(),
             acc_re: vec![0.0; CHUNK * MAX_FOLD * fields],
             acc_im: vec![0.0; CHUNK * MAX_FOLD * fields],
@@ -106,7 +109,7 @@ fn block_events<const W: usize>(
         nodes.t_lo[i] = lane.t_lo;
         u[i] = lane.u;
     }
-    column_starts::<W>(
+    let first = column_starts::<W>(
         m,
         lmax,
         c_m,
@@ -115,8 +118,23 @@ fn block_events<const W: usize>(
         block.len(),
         &sc.a,
         &sc.b,
-        &mut sc.events,
+        &mut sc.late,
     );
+    // the starts at degree m first, in lane order, then the later ones by degree
+    sc.events.clear();
+    if first.any {
+        for (i, &p) in first.p.iter().enumerate() {
+            if p != 0.0 {
+                sc.events.push(Event {
+                    l: m,
+                    lane: i,
+                    p_prev: 0.0,
+                    p,
+                });
+            }
+        }
+    }
+    sc.events.extend_from_slice(&sc.late);
     nodes
 }
 
@@ -213,7 +231,7 @@ pub(crate) fn synth_order<const W: usize, const H: usize, const FMA: bool, const
             a: &sc.a,
             b: &sc.b,
         };
-        for_each_chunk::<W, FMA>(&rc, &x, &sc.events, &mut rows, |l0, n, rows| {
+        for_each_chunk::<W, FMA, true>(&rc, &x, &sc.events, &mut rows, |l0, n, rows| {
             let par0 = (l0 - m) & 1;
             for (k, sum) in sums.iter_mut().enumerate() {
                 let (c, s) = sc.column(k);
@@ -435,7 +453,7 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
                 let next_event = events.get(b.ev).map_or(lmax + 1, |e| e.l);
                 let l_end = next_event.min(l1);
                 let n = l_end - b.l;
-                recur::<W, FMA>(
+                recur::<W, FMA, true>(
                     n,
                     &rc.a[b.l + 1..],
                     &rc.b[b.l + 1..],

@@ -33,7 +33,7 @@
 //! and order was a fifth of the old point synthesis.
 
 use super::block::{
-    accumulate_neighbours, accumulate_values, for_each_chunk, Event, NeighbourSums, Nodes,
+    accumulate_neighbours, accumulate_values, for_each_chunk_from, Event, NeighbourSums, Nodes,
     OrderCoefficients, Rows, SynthSums,
 };
 use super::order::order_major_offset;
@@ -225,45 +225,119 @@ pub(crate) fn point_group<const W: usize, const H: usize, const FMA: bool, const
         (one.1[i], one.0[i]) = lam.sin_cos();
     }
     let poles: [Option<Pole>; W] = std::array::from_fn(|i| Pole::at(pt(i).0));
+    let lanes = GroupLanes {
+        nodes,
+        u,
+        lambda,
+        one,
+    };
+    // in the band π/3 ≤ θ ≤ 2π/3 cos θ needs no low part: a step without it
+    let (value, d_theta, d_lambda) = if lanes.nodes.t_lo.iter().all(|&v| v == 0.0) {
+        orders::<W, H, FMA, GRAD, false>(tab, sc, &lanes)
+    } else {
+        orders::<W, H, FMA, GRAD, true>(tab, sc, &lanes)
+    };
+    for (i, pv) in out.iter_mut().enumerate() {
+        pv.value = value[i];
+        if !GRAD {
+            continue;
+        }
+        pv.d_theta = d_theta[i];
+        pv.d_lambda_over_sin = match poles[i] {
+            None => d_lambda[i] / lanes.u[i],
+            // only order 1 survives at a pole: Σ_l (S_l1 cos λ − C_l1 sin λ) lim P̄_l1/sin θ
+            Some(pole) if lmax >= 1 => {
+                let (c, s) = (tab.by_degree(&tab.c, 1), tab.by_degree(&tab.s, 1));
+                let (mut pc, mut ps) = (0.0, 0.0);
+                for l in 1..=lmax {
+                    let lim = order_one_over_sin_at_pole(l, pole);
+                    pc += c[l] * lim;
+                    ps += s[l] * lim;
+                }
+                ps * lanes.one.0[i] - pc * lanes.one.1[i]
+            }
+            Some(_) => 0.0,
+        };
+    }
+}
+
+/// The points of one group as lanes: cos θ (with its low part), sin θ, λ and cos λ, sin λ.
+struct GroupLanes<const W: usize> {
+    nodes: Nodes<W>,
+    u: [f64; W],
+    lambda: [f64; W],
+    one: ([f64; W], [f64; W]),
+}
+
+/// Per lane Σ_m of the value, of ∂f/∂θ and of sin θ · (1/sin θ) ∂f/∂λ (away from the poles),
+/// order after order. `LO`: whether the recursion adds the low part of cos θ (see
+/// `block::recur`).
+#[inline(always)]
+#[allow(clippy::type_complexity)]
+fn orders<const W: usize, const H: usize, const FMA: bool, const GRAD: bool, const LO: bool>(
+    tab: &PointTables,
+    sc: &mut PointScratch,
+    lanes: &GroupLanes<W>,
+) -> ([f64; W], [f64; W], [f64; W]) {
+    let lmax = tab.lmax;
+    let GroupLanes {
+        nodes,
+        u,
+        lambda,
+        one,
+    } = lanes;
     // cos and sin of orders m − 1, m, m + 1
     let mut prev = (one.0, one.1.map(|s| -s));
     let mut here = ([1.0; W], [0.0; W]);
-    let mut next = one;
+    let mut next = *one;
     let (mut value, mut d_theta, mut d_lambda) = ([0.0; W], [0.0; W], [0.0; W]);
     let mut rows = Rows::<W>::new();
     for m in 0..=lmax {
         let (a, b) = (tab.by_degree(&tab.a, m), tab.by_degree(&tab.b, m));
-        column_starts::<W>(
+        let first = column_starts::<W>(
             m,
             lmax,
             tab.sectoral[m],
             &nodes.t,
-            &u,
+            u,
             W,
             a,
             b,
             &mut sc.events,
         );
-        if !sc.events.is_empty() {
+        let l_first = if first.any {
+            Some(m)
+        } else {
+            sc.events.first().map(|e| e.l)
+        };
+        if let Some(l_first) = l_first {
             let (c, s) = (tab.by_degree(&tab.c, m), tab.by_degree(&tab.s, m));
             let mut vs = SynthSums::<W>::ZERO;
             let mut ns = NeighbourSums::<W>::ZERO;
             let rc = OrderCoefficients { lmax, a, b };
-            for_each_chunk::<W, FMA>(&rc, &nodes, &sc.events, &mut rows, |l0, n, rows| {
-                let par0 = (l0 - m) & 1;
-                accumulate_values::<W, H, FMA>(rows, n, par0, &c[l0..], &s[l0..], &mut vs);
-                if GRAD {
-                    accumulate_neighbours::<W, H, FMA>(
-                        rows,
-                        n,
-                        &tab.by_degree(&tab.next_c, m)[l0..],
-                        &tab.by_degree(&tab.next_s, m)[l0..],
-                        &tab.by_degree(&tab.prev_c, m)[l0..],
-                        &tab.by_degree(&tab.prev_s, m)[l0..],
-                        &mut ns,
-                    );
-                }
-            });
+            for_each_chunk_from::<W, FMA, LO>(
+                &rc,
+                nodes,
+                l_first,
+                &first.p,
+                &sc.events,
+                &mut rows,
+                |l0, n, rows| {
+                    let par0 = (l0 - m) & 1;
+                    accumulate_values::<W, H, FMA>(rows, n, par0, &c[l0..], &s[l0..], &mut vs);
+                    if GRAD {
+                        accumulate_neighbours::<W, H, FMA>(
+                            rows,
+                            n,
+                            &tab.by_degree(&tab.next_c, m)[l0..],
+                            &tab.by_degree(&tab.next_s, m)[l0..],
+                            &tab.by_degree(&tab.prev_c, m)[l0..],
+                            &tab.by_degree(&tab.prev_s, m)[l0..],
+                            &mut ns,
+                        );
+                    }
+                },
+            );
             let mf = m as f64;
             for i in 0..W {
                 let ac = vs.c[0][i] + vs.c[1][i];
@@ -280,32 +354,11 @@ pub(crate) fn point_group<const W: usize, const H: usize, const FMA: bool, const
             }
         }
         if m < lmax {
-            let after = next_trig::<W, FMA>(m + 2, &lambda, &next, &one);
+            let after = next_trig::<W, FMA>(m + 2, lambda, &next, one);
             prev = here;
             here = next;
             next = after;
         }
     }
-    for (i, pv) in out.iter_mut().enumerate() {
-        pv.value = value[i];
-        if !GRAD {
-            continue;
-        }
-        pv.d_theta = d_theta[i];
-        pv.d_lambda_over_sin = match poles[i] {
-            None => d_lambda[i] / u[i],
-            // only order 1 survives at a pole: Σ_l (S_l1 cos λ − C_l1 sin λ) lim P̄_l1/sin θ
-            Some(pole) if lmax >= 1 => {
-                let (c, s) = (tab.by_degree(&tab.c, 1), tab.by_degree(&tab.s, 1));
-                let (mut pc, mut ps) = (0.0, 0.0);
-                for l in 1..=lmax {
-                    let lim = order_one_over_sin_at_pole(l, pole);
-                    pc += c[l] * lim;
-                    ps += s[l] * lim;
-                }
-                ps * one.0[i] - pc * one.1[i]
-            }
-            Some(_) => 0.0,
-        };
-    }
+    (value, d_theta, d_lambda)
 }

@@ -51,10 +51,19 @@ pub(crate) fn plain_powers<const W: usize>(u: &[f64; W], m: usize) -> [f64; W] {
     result
 }
 
-/// Collects into `events` (cleared first, sorted by degree on return) the column starts of
-/// order m for the first `lanes` lanes, at cos θ = `t` and sin θ = `u` ≥ 0; `c_m` is the
-/// sectoral prefactor, `a` and `b` hold a_lm, b_lm indexed by degree (entries l ≤ m unread).
-/// Lanes without an event hold columns below 2^-1000 (or exactly zero) to `lmax`.
+/// The lanes whose column of order m starts at degree m itself: P̄_mm of each (0 in the other
+/// lanes) and whether there is any.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct SectoralStarts<const W: usize> {
+    pub any: bool,
+    pub p: [f64; W],
+}
+
+/// The column starts of order m for the first `lanes` lanes, at cos θ = `t` and sin θ = `u`
+/// ≥ 0; `c_m` is the sectoral prefactor, `a` and `b` hold a_lm, b_lm indexed by degree
+/// (entries l ≤ m unread). Lanes that start at degree m (P̄_{m−1,m} = 0) are returned; the
+/// later starts go to `late` (cleared first, sorted by degree on return). Lanes in neither
+/// hold columns below 2^-1000 (or exactly zero) to `lmax`.
 #[inline(always)]
 #[allow(clippy::too_many_arguments)]
 pub(crate) fn column_starts<const W: usize>(
@@ -66,15 +75,32 @@ pub(crate) fn column_starts<const W: usize>(
     lanes: usize,
     a: &[f64],
     b: &[f64],
-    events: &mut Vec<Event>,
-) {
-    events.clear();
+    late: &mut Vec<Event>,
+) -> SectoralStarts<W> {
+    late.clear();
+    let mut starts = SectoralStarts {
+        any: false,
+        p: [0.0; W],
+    };
     if m > lmax {
-        return;
+        return starts;
+    }
+    let powers = plain_powers(u, m);
+    let mut plain = [false; W];
+    let mut all = true;
+    for i in 0..W {
+        // m = 0: `sectoral` returns exactly 1 = c_0 · u^0
+        let v = if m == 0 { 1.0 } else { powers[i] * c_m };
+        plain[i] = i < lanes && powers[i] >= f64::MIN_POSITIVE && v >= NEGLIGIBLE;
+        starts.p[i] = if plain[i] { v } else { 0.0 };
+        starts.any |= plain[i];
+        all &= plain[i] || i >= lanes;
+    }
+    if all {
+        return starts;
     }
     let threshold_abs = f64::from_bits(((NEGLIGIBLE_LOG2 + 960 + 1023) as u64) << 52);
     let limit = |k: i32| if k == -1 { threshold_abs } else { BIG_SQRT };
-    let powers = plain_powers(u, m);
     let mut x = [0.0; W];
     let mut p = [0.0; W];
     let mut pp = [0.0; W];
@@ -82,29 +108,17 @@ pub(crate) fn column_starts<const W: usize>(
     let mut lim = [f64::INFINITY; W];
     let mut pending = 0usize;
     for i in 0..lanes {
-        x[i] = t[i];
-        // m = 0: `sectoral` returns exactly 1 = c_0 · u^0
-        let plain = if m == 0 { 1.0 } else { powers[i] * c_m };
-        if powers[i] >= f64::MIN_POSITIVE && plain >= NEGLIGIBLE {
-            events.push(Event {
-                l: m,
-                lane: i,
-                p_prev: 0.0,
-                p: plain,
-            });
+        if plain[i] {
             continue;
         }
+        x[i] = t[i];
         let sv = sectoral(m, c_m, u[i]);
         if sv.mant == 0.0 {
             continue;
         }
         if sv.k == 0 || (sv.k == -1 && sv.mant.abs() >= threshold_abs) {
-            events.push(Event {
-                l: m,
-                lane: i,
-                p_prev: 0.0,
-                p: sv.to_f64(),
-            });
+            starts.p[i] = sv.to_f64();
+            starts.any = true;
         } else {
             p[i] = sv.mant;
             k[i] = sv.k;
@@ -113,7 +127,7 @@ pub(crate) fn column_starts<const W: usize>(
         }
     }
     if pending == 0 {
-        return;
+        return starts;
     }
     for l in (m + 1)..=lmax {
         let (al, bl) = (a[l], b[l]);
@@ -137,7 +151,7 @@ pub(crate) fn column_starts<const W: usize>(
                 k[i] += 1;
             }
             if k[i] == -1 && p[i].abs() >= threshold_abs {
-                events.push(Event {
+                late.push(Event {
                     l,
                     lane: i,
                     p_prev: pp[i] * BIG_INV,
@@ -156,8 +170,7 @@ pub(crate) fn column_starts<const W: usize>(
             break;
         }
     }
-    // the plain starts (degree m) came first, the late ones in increasing degree
-    debug_assert!(events.windows(2).all(|w| w[0].l <= w[1].l));
+    starts
 }
 
 #[cfg(test)]
@@ -185,11 +198,19 @@ mod tests {
             0usize, 1, 2, 3, 7, 64, 100, 101, 150, 300, 1000, 2047, 4999, 5000,
         ] {
             fill_coefficients(m, lmax, &mut a, &mut b);
-            column_starts::<16>(m, lmax, cm[m], &t, &u, 16, &a, &b, &mut events);
+            let first = column_starts::<16>(m, lmax, cm[m], &t, &u, 16, &a, &b, &mut events);
+            assert!(events.windows(2).all(|w| w[0].l <= w[1].l && w[0].l > m));
+            assert_eq!(first.any, first.p.iter().any(|&p| p != 0.0));
             let powers = plain_powers(&u, m);
             for i in 0..16 {
                 let want = column_start(m, lmax, t[i], sectoral(m, cm[m], u[i]), &a, &b);
-                let got = events.iter().find(|e| e.lane == i);
+                let at_m = (first.p[i] != 0.0).then_some(Event {
+                    l: m,
+                    lane: i,
+                    p_prev: 0.0,
+                    p: first.p[i],
+                });
+                let got = at_m.or_else(|| events.iter().find(|e| e.lane == i).copied());
                 match (want, got) {
                     (None, None) => none += 1,
                     (Some(w), Some(g)) => {
