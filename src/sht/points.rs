@@ -4,8 +4,8 @@
 //! Points run in groups, one SIMD lane per point, through the block kernels of the transforms
 //! (`kernel::point_group`: column starts with extended exponents near the poles, the W-lane
 //! recursion into a level-1 row buffer, sum passes over it), compiled per instruction set
-//! (`KernelPath`: AVX-512 32 points per group, AVX2 + FMA 16, portable 8) with the widest
-//! one this CPU has chosen at run time. ∂/∂θ comes from the non-singular three-column relation
+//! (`KernelPath`: AVX-512 32 points per group, AVX2 + FMA 16, portable 8; a last group of at
+//! most 8 points runs 8 lanes wide) with the widest one this CPU has chosen at run time. ∂/∂θ comes from the non-singular three-column relation
 //! and, at a pole, (1/sin θ) ∂f/∂λ is the limit along the meridian λ (only order 1
 //! contributes), so the result holds at any degree and at the poles. Groups run in parallel;
 //! the cost is O(L²) per point. The scalar reference is [`crate::sht::reference::points`]
@@ -75,6 +75,9 @@ pub fn point_synthesis_bytes(lmax: usize, points: usize, gradient: bool) -> u64 
     PointTables::bytes(lmax, gradient).saturating_add((points as u64).saturating_mul(72))
 }
 
+/// Calls that need at most this much memory are not checked against the available memory.
+const SMALL_CALL_BYTES: u64 = 16 << 20;
+
 fn run(
     coeffs: &Coefficients,
     points: &[(f64, f64)],
@@ -96,14 +99,19 @@ fn run(
             p.0, p.1
         )));
     }
-    crate::memory::check_fits(
-        &format!(
-            "point synthesis of {} points to degree {}",
-            points.len(),
-            coeffs.lmax()
-        ),
-        point_synthesis_bytes(coeffs.lmax(), points.len(), gradient),
-    )?;
+    let bytes = point_synthesis_bytes(coeffs.lmax(), points.len(), gradient);
+    // below this the check (a read of /proc/meminfo) would cost more than a small call, which
+    // `field::synthesis` makes for every point at a radius of its own
+    if bytes > SMALL_CALL_BYTES {
+        crate::memory::check_fits(
+            &format!(
+                "point synthesis of {} points to degree {}",
+                points.len(),
+                coeffs.lmax()
+            ),
+            bytes,
+        )?;
+    }
     let g = coeffs.to_geodesy()?;
     let tables = PointTables::new(&g, gradient);
     debug_assert_eq!(tables.lmax(), g.lmax());

@@ -43,7 +43,14 @@ pub(crate) struct KernelSet {
     analysis: AnalysisFn,
     point_values: PointFn,
     point_gradients: PointFn,
+    /// The same for groups of at most [`NARROW_GROUP`] points, 8 lanes wide.
+    narrow_values: PointFn,
+    narrow_gradients: PointFn,
 }
+
+/// Groups this short run on 8-lane copies: a call with a single point (as `field::synthesis`
+/// makes for every point at a radius of its own) then costs 8 lanes of work, not 32.
+pub(crate) const NARROW_GROUP: usize = 8;
 
 impl std::fmt::Debug for KernelSet {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
@@ -67,6 +74,8 @@ impl KernelSet {
                 analysis: analysis_portable,
                 point_values: points_portable::<false>,
                 point_gradients: points_portable::<true>,
+                narrow_values: points_portable::<false>,
+                narrow_gradients: points_portable::<true>,
             },
             #[cfg(target_arch = "x86_64")]
             KernelPath::Avx2Fma => KernelSet {
@@ -76,6 +85,8 @@ impl KernelSet {
                 analysis: analysis_avx2,
                 point_values: points_avx2::<false>,
                 point_gradients: points_avx2::<true>,
+                narrow_values: narrow_points_avx2::<false>,
+                narrow_gradients: narrow_points_avx2::<true>,
             },
             #[cfg(target_arch = "x86_64")]
             KernelPath::Avx512 => KernelSet {
@@ -85,6 +96,8 @@ impl KernelSet {
                 analysis: analysis_avx512,
                 point_values: points_avx512::<false>,
                 point_gradients: points_avx512::<true>,
+                narrow_values: narrow_points_avx512::<false>,
+                narrow_gradients: narrow_points_avx512::<true>,
             },
             #[cfg(not(target_arch = "x86_64"))]
             KernelPath::Avx2Fma | KernelPath::Avx512 => return None,
@@ -135,10 +148,11 @@ impl KernelSet {
         group: &[(f64, f64)],
         out: &mut [PointValue],
     ) {
-        let f = if gradient {
-            self.point_gradients
-        } else {
-            self.point_values
+        let f = match (gradient, group.len() <= NARROW_GROUP) {
+            (false, false) => self.point_values,
+            (true, false) => self.point_gradients,
+            (false, true) => self.narrow_values,
+            (true, true) => self.narrow_gradients,
         };
         // SAFETY: as in `synth`.
         unsafe { f(tables, sc, group, out) }
@@ -234,6 +248,28 @@ unsafe fn points_avx512<const GRAD: bool>(
     out: &mut [PointValue],
 ) {
     point_group::<32, 16, true, GRAD>(tables, sc, group, out)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+unsafe fn narrow_points_avx2<const GRAD: bool>(
+    tables: &PointTables,
+    sc: &mut PointScratch,
+    group: &[(f64, f64)],
+    out: &mut [PointValue],
+) {
+    point_group::<8, 8, true, GRAD>(tables, sc, group, out)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx2,fma")]
+unsafe fn narrow_points_avx512<const GRAD: bool>(
+    tables: &PointTables,
+    sc: &mut PointScratch,
+    group: &[(f64, f64)],
+    out: &mut [PointValue],
+) {
+    point_group::<8, 8, true, GRAD>(tables, sc, group, out)
 }
 
 /// Row-major nlat × nlon grids whose rows hold packed half-spectra
