@@ -322,6 +322,9 @@ fn orders<const W: usize, const H: usize, const FMA: bool, const GRAD: bool, con
                 &first.p,
                 &sc.events,
                 &mut rows,
+                // always inlined: a closure compiled on its own lacks the caller's target
+                // features, and its `mul_add` became a software call (seen in the 8-lane copy)
+                #[inline(always)]
                 |l0, n, rows| {
                     let par0 = (l0 - m) & 1;
                     accumulate_values::<W, H, FMA>(rows, n, par0, &c[l0..], &s[l0..], &mut vs);
