@@ -43,8 +43,8 @@ pub(crate) fn plain_powers<const W: usize>(u: &[f64; W], m: usize) -> [f64; W] {
         }
         n >>= 1;
         if n > 0 {
-            for i in 0..W {
-                base[i] *= base[i];
+            for b in base.iter_mut() {
+                *b *= *b;
             }
         }
     }
