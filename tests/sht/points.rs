@@ -221,8 +221,9 @@ fn values_alone_are_the_values_of_the_gradient_path() {
 
 #[test]
 fn zonal_degree_two_and_a_tilted_dipole_match_their_closed_forms() {
-    // Closed forms (any text on Legendre functions, e.g. Heiskanen & Moritz 1967, Physical
-    // Geodesy, §1-11 and §1-14; common practice): P̄_20 = √5 (3 cos²θ − 1)/2, so
+    // Closed forms (common practice: P_1 = cos θ, P_2 = (3 cos²θ − 1)/2, P_1^1 = sin θ, and
+    // the 4π normalisation factors √(2l+1) for m = 0, √(2(2l+1)(l−m)!/(l+m)!) otherwise, as
+    // restated in docs/conventions.md §2): P̄_20 = √5 (3 cos²θ − 1)/2, so
     // ∂/∂θ = −3√5 cos θ sin θ; P̄_11 = √3 sin θ, P̄_10 = √3 cos θ. A field
     // f = a P̄_20 + P̄_10 + P̄_11 (c cos λ + s sin λ) has ∂f/∂θ = −3√5 a cos θ sin θ − √3 sin θ
     // + √3 cos θ (c cos λ + s sin λ) and (1/sin θ) ∂f/∂λ = √3 (s cos λ − c sin λ), which is

@@ -17,7 +17,9 @@
 //! 2. The sums read the rows back, once per field: synthesis keeps Σ C_lm P̄_lm and
 //!    Σ S_lm P̄_lm of H lanes in registers (even and odd l − m apart, [`accumulate_values`]),
 //!    analysis adds Σ_i P̄_lm(x_i) H_i into F partial sums per degree ([`accumulate_analysis`]).
-//!    K fields on the same grid share one recursion: each field costs only its sums.
+//!    K fields on the same grid share one recursion: each field costs only its sums. Point
+//!    synthesis (`kernel::point_group`, one lane per point) adds [`accumulate_neighbours`],
+//!    the sums of a column against the gradient coefficients of the neighbouring orders.
 //!
 //! Every P̄_lm is the same double as in a one-pass loop (the same operations in the same
 //! order); synthesis sums in the same order too, so a field synthesised with others is
