@@ -10,7 +10,7 @@ use ndarray::{Array2, Zip};
 
 use crate::coeffs::{Coefficients, Normalization};
 use crate::error::{Error, Result};
-use crate::sht::{evaluate_points, Grid, TransformPlan};
+use crate::sht::{evaluate_point_values, evaluate_points, Grid, TransformPlan};
 
 use crate::spectral::continuation::{radial_factors, ContinuationOptions};
 use crate::spectral::filter::FilterChain;
@@ -508,9 +508,9 @@ pub fn evaluate_at_points(
         let mut vectors: Option<Vec<FieldVector>> = None;
         for (qi, &q) in qs.iter().enumerate() {
             if let Some(k) = scalar_factors(q, prepared.scale, s, &c) {
-                let values = evaluate_points(&scaled(&prepared.coeffs, &k), &angles)?;
+                let values = evaluate_point_values(&scaled(&prepared.coeffs, &k), &angles)?;
                 for (&i, v) in idx.iter().zip(values) {
-                    out[qi][i] = v.value;
+                    out[qi][i] = v;
                 }
                 continue;
             }
@@ -518,11 +518,11 @@ pub fn evaluate_at_points(
                 let mut vs = vec![FieldVector::default(); idx.len()];
                 if needs_radial(qs, tilted) {
                     let k = magnetic_radial_factors(s, &c);
-                    for (v, p) in vs
-                        .iter_mut()
-                        .zip(evaluate_points(&scaled(&prepared.coeffs, &k), &angles)?)
-                    {
-                        v.br = p.value;
+                    for (v, p) in vs.iter_mut().zip(evaluate_point_values(
+                        &scaled(&prepared.coeffs, &k),
+                        &angles,
+                    )?) {
+                        v.br = p;
                     }
                 }
                 if needs_horizontal(qs, tilted) {

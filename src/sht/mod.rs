@@ -33,4 +33,7 @@ pub mod reference;
 pub use grid::{GaussGrid, Grid, GridKind};
 pub use kernel::KernelPath;
 pub use plan::TransformPlan;
-pub use points::{evaluate_points, evaluate_points_with_path, PointValue};
+pub use points::{
+    evaluate_point_values, evaluate_point_values_with_path, evaluate_points,
+    evaluate_points_with_path, PointValue,
+};

@@ -98,3 +98,70 @@ pub fn synthesise(g: &Coefficients, grid: &Grid, quantity: Quantity) -> Array2<f
     }
     out
 }
+
+/// Reference synthesis of `geodesy` coefficients at points (colatitude, longitude) in radians:
+/// for every point and order the one-point columns of `legendre::column_with_derivative` (the
+/// value, and ∂/∂θ by the three-column relation), combined with `sin_cos(m λ)` term by term;
+/// (1/sin θ) ∂f/∂λ is Σ m (S cos mλ − C sin mλ) P̄_lm / sin θ, and at a pole its limit along the
+/// meridian λ (order 1 only, `legendre::order_one_over_sin_at_pole`). The terms of each sum are
+/// added with Neumaier's (1974) compensated summation, so the sums carry only the rounding of
+/// their terms, not that of O(L²) additions. O(L²) per point with three columns per order; the
+/// point kernels are tested against it.
+pub fn points(g: &Coefficients, points: &[(f64, f64)]) -> Vec<super::points::PointValue> {
+    let lmax = g.lmax();
+    points
+        .iter()
+        .map(|&(theta, lambda)| {
+            let pole = legendre::Pole::at(theta);
+            let (mut value, mut d_theta, mut d_lambda) = (
+                CompensatedSum::default(),
+                CompensatedSum::default(),
+                CompensatedSum::default(),
+            );
+            for m in 0..=lmax {
+                let (p, d) = legendre::column_with_derivative(m, lmax, theta);
+                let (sm, cm) = (m as f64 * lambda).sin_cos();
+                for l in m..=lmax {
+                    let (c, s) = (g.c(l, m), g.s(l, m));
+                    value.add(p[l - m] * (c * cm + s * sm));
+                    d_theta.add(d[l - m] * (c * cm + s * sm));
+                    let over_sin = match pole {
+                        None => m as f64 * p[l - m] / theta.sin(),
+                        Some(pole) if m == 1 => legendre::order_one_over_sin_at_pole(l, pole),
+                        Some(_) => 0.0,
+                    };
+                    d_lambda.add(over_sin * (s * cm - c * sm));
+                }
+            }
+            super::points::PointValue {
+                value: value.total(),
+                d_theta: d_theta.total(),
+                d_lambda_over_sin: d_lambda.total(),
+            }
+        })
+        .collect()
+}
+
+/// Neumaier's (1974) improved Kahan summation: the running sum and the accumulated rounding
+/// errors of its additions.
+#[derive(Default, Clone, Copy)]
+struct CompensatedSum {
+    sum: f64,
+    compensation: f64,
+}
+
+impl CompensatedSum {
+    fn add(&mut self, x: f64) {
+        let t = self.sum + x;
+        self.compensation += if self.sum.abs() >= x.abs() {
+            (self.sum - t) + x
+        } else {
+            (x - t) + self.sum
+        };
+        self.sum = t;
+    }
+
+    fn total(self) -> f64 {
+        self.sum + self.compensation
+    }
+}

@@ -17,7 +17,9 @@ pub enum Case {
     Grid,
     /// Least-squares fit of scattered observations.
     Fit,
-    /// Synthesis (values and gradients) of a degree-L model at scattered points.
+    /// Synthesis of a degree-L model at scattered points: values alone (`values_terms_per_s`)
+    /// and values with both gradient components (`terms_per_s`), in (l, m) terms per point and
+    /// second, each also as a fraction of the FMA peak measured in the same run.
     Points,
     /// Rotation of a degree-L model and back: time and round-trip error against 1e-11.
     Rotation,

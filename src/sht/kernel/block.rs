@@ -17,7 +17,9 @@
 //! 2. The sums read the rows back, once per field: synthesis keeps Σ C_lm P̄_lm and
 //!    Σ S_lm P̄_lm of H lanes in registers (even and odd l − m apart, [`accumulate_values`]),
 //!    analysis adds Σ_i P̄_lm(x_i) H_i into F partial sums per degree ([`accumulate_analysis`]).
-//!    K fields on the same grid share one recursion: each field costs only its sums.
+//!    K fields on the same grid share one recursion: each field costs only its sums. Point
+//!    synthesis (`kernel::point_group`, one lane per point) adds [`accumulate_neighbours`],
+//!    the sums of a column against the gradient coefficients of the neighbouring orders.
 //!
 //! Every P̄_lm is the same double as in a one-pass loop (the same operations in the same
 //! order); synthesis sums in the same order too, so a field synthesised with others is
@@ -102,9 +104,12 @@ pub struct Nodes<const W: usize> {
 /// One recursion step P̄_{l−1}, P̄_l → P̄_l, P̄_{l+1} with `a` = a_{l+1}, `b` = b_{l+1}.
 ///
 /// Per lane: three multiplications (a t, a t_lo, b P̄_{l−1}) and two fused multiply–adds, of
-/// which only the two fused ones lie on the dependency chain from P̄_l to P̄_{l+1}.
+/// which only the two fused ones lie on the dependency chain from P̄_l to P̄_{l+1}. Without
+/// `LO` (every lane's t_lo is zero: the band π/3 ≤ θ ≤ 2π/3, see `legendre::colatitude`) the
+/// second fused step, which would add (a · 0) P̄_l, is left out: the same values, up to the
+/// sign of an exact zero.
 #[inline(always)]
-fn advance<const W: usize, const FMA: bool>(
+fn advance<const W: usize, const FMA: bool, const LO: bool>(
     a: f64,
     b: f64,
     x: &Nodes<W>,
@@ -113,7 +118,11 @@ fn advance<const W: usize, const FMA: bool>(
 ) {
     for i in 0..W {
         let main = fmadd::<FMA>(a * x.t[i], p1[i], -(b * p0[i]));
-        let next = fmadd::<FMA>(a * x.t_lo[i], p1[i], main);
+        let next = if LO {
+            fmadd::<FMA>(a * x.t_lo[i], p1[i], main)
+        } else {
+            main
+        };
         p0[i] = p1[i];
         p1[i] = next;
     }
@@ -136,7 +145,7 @@ impl<const W: usize> Rows<W> {
 /// `rows`. On entry `p0`, `p1` hold P̄_{l0−1}, P̄_{l0}; on return P̄_{l0+n−1}, P̄_{l0+n}.
 /// `a`, `b` start at degree l0 + 1 and hold at least n entries.
 #[inline(always)]
-pub fn recur<const W: usize, const FMA: bool>(
+pub fn recur<const W: usize, const FMA: bool, const LO: bool>(
     n: usize,
     a: &[f64],
     b: &[f64],
@@ -151,7 +160,7 @@ pub fn recur<const W: usize, const FMA: bool>(
     rows.rows[0] = q0;
     for k in 0..n {
         rows.rows[k + 1] = q1;
-        advance::<W, FMA>(a[k], b[k], x, &mut q0, &mut q1);
+        advance::<W, FMA, LO>(a[k], b[k], x, &mut q0, &mut q1);
     }
     *p0 = q0;
     *p1 = q1;
@@ -258,6 +267,63 @@ pub fn accumulate_derivative<const W: usize, const H: usize, const FMA: bool>(
     }
 }
 
+/// Per-lane sums of one order's column that feed the θ-derivatives of the neighbouring orders
+/// (point synthesis, see `kernel::point_group`): Σ_l E_l P̄_lm for order m + 1 and
+/// Σ_l F_l P̄_lm for order m − 1, with the C and the S coefficients.
+#[derive(Clone, Copy)]
+pub struct NeighbourSums<const W: usize> {
+    pub next_c: [f64; W],
+    pub next_s: [f64; W],
+    pub prev_c: [f64; W],
+    pub prev_s: [f64; W],
+}
+
+impl<const W: usize> NeighbourSums<W> {
+    pub const ZERO: Self = NeighbourSums {
+        next_c: [0.0; W],
+        next_s: [0.0; W],
+        prev_c: [0.0; W],
+        prev_s: [0.0; W],
+    };
+}
+
+/// Pass 2 of point gradients: adds Σ_k E_{l0+k} P̄_{l0+k} for the four coefficient runs
+/// `next_c`, `next_s`, `prev_c`, `prev_s` (all starting at l0) to the sums, H lanes at a time
+/// (four sets of H lanes in registers, four independent chains).
+#[inline(always)]
+#[allow(clippy::too_many_arguments)]
+pub fn accumulate_neighbours<const W: usize, const H: usize, const FMA: bool>(
+    rows: &Rows<W>,
+    n: usize,
+    next_c: &[f64],
+    next_s: &[f64],
+    prev_c: &[f64],
+    prev_s: &[f64],
+    sums: &mut NeighbourSums<W>,
+) {
+    let (nc, ns, pc, ps) = (&next_c[..n], &next_s[..n], &prev_c[..n], &prev_s[..n]);
+    let rows = &rows.rows[1..=n];
+    for h in 0..W / H {
+        let mut a: [f64; H] = part(&sums.next_c, h);
+        let mut b: [f64; H] = part(&sums.next_s, h);
+        let mut c: [f64; H] = part(&sums.prev_c, h);
+        let mut d: [f64; H] = part(&sums.prev_s, h);
+        for k in 0..n {
+            let r: [f64; H] = part(&rows[k], h);
+            for i in 0..H {
+                a[i] = fmadd::<FMA>(nc[k], r[i], a[i]);
+                b[i] = fmadd::<FMA>(ns[k], r[i], b[i]);
+                c[i] = fmadd::<FMA>(pc[k], r[i], c[i]);
+                d[i] = fmadd::<FMA>(ps[k], r[i], d[i]);
+            }
+        }
+        set_part(&mut sums.next_c, h, a);
+        set_part(&mut sums.next_s, h, b);
+        set_part(&mut sums.prev_c, h, c);
+        set_part(&mut sums.prev_s, h, d);
+    }
+}
+
 /// Ring spectra of one block and one field, real and imaginary parts, by parity of l − m
 /// ([0] even: north + south, [1] odd: north − south).
 pub struct BlockSpectra<const W: usize> {
@@ -307,21 +373,37 @@ pub fn accumulate_analysis<const W: usize, const F: usize, const FMA: bool>(
 /// degrees, at the next event or after lmax. Calls `body(l0, n, rows)` after the recursion of
 /// each chunk has filled `rows`.
 #[inline(always)]
-pub fn for_each_chunk<const W: usize, const FMA: bool>(
+pub fn for_each_chunk<const W: usize, const FMA: bool, const LO: bool>(
     rc: &OrderCoefficients,
     x: &Nodes<W>,
     events: &[Event],
     rows: &mut Rows<W>,
-    mut body: impl FnMut(usize, usize, &Rows<W>),
+    body: impl FnMut(usize, usize, &Rows<W>),
 ) {
     let Some(first) = events.first() else {
         return;
     };
+    for_each_chunk_from::<W, FMA, LO>(rc, x, first.l as usize, &[0.0; W], events, rows, body)
+}
+
+/// As [`for_each_chunk`] from degree `l_first`, where P̄_{l_first−1} = 0 and P̄_{l_first} =
+/// `p_first` in every lane (0 in the lanes that start later, at their `events`, sorted by
+/// degree, none before `l_first`).
+#[inline(always)]
+pub fn for_each_chunk_from<const W: usize, const FMA: bool, const LO: bool>(
+    rc: &OrderCoefficients,
+    x: &Nodes<W>,
+    l_first: usize,
+    p_first: &[f64; W],
+    events: &[Event],
+    rows: &mut Rows<W>,
+    mut body: impl FnMut(usize, usize, &Rows<W>),
+) {
     let lmax = rc.lmax;
     let mut p0 = [0.0; W];
-    let mut p1 = [0.0; W];
+    let mut p1 = *p_first;
     let mut ev = 0;
-    let mut l = first.l as usize;
+    let mut l = l_first;
     inject(events, &mut ev, l, &mut p0, &mut p1);
     while l <= lmax {
         let next_event = if ev < events.len() {
@@ -331,7 +413,7 @@ pub fn for_each_chunk<const W: usize, const FMA: bool>(
         };
         let l_end = next_event.min(l + CHUNK);
         let n = l_end - l;
-        recur::<W, FMA>(n, &rc.a[l + 1..], &rc.b[l + 1..], x, &mut p0, &mut p1, rows);
+        recur::<W, FMA, LO>(n, &rc.a[l + 1..], &rc.b[l + 1..], x, &mut p0, &mut p1, rows);
         body(l, n, rows);
         l = l_end;
         inject(events, &mut ev, l, &mut p0, &mut p1);

@@ -11,6 +11,8 @@ mod lanes;
 mod order;
 mod path;
 mod per_thread;
+mod point_group;
+mod starts;
 #[allow(unsafe_code)]
 mod unsafe_parts;
 
@@ -22,5 +24,5 @@ pub(crate) use lanes::{build_lanes, is_symmetric, Lane};
 pub(crate) use order::{
     analysis_block_bytes, order_major, packed_from_order_major, AnalysisJob, OrderScratch, SynthJob,
 };
-pub(crate) use path::PORTABLE_FUSED;
+pub(crate) use point_group::{PointScratch, PointTables};
 pub(crate) use unsafe_parts::{CoefficientSums, KernelSet};

@@ -13,10 +13,10 @@ use super::block::{
 use super::column_starts::ColumnStarts;
 use super::fourier_columns::OrderFourierColumns;
 use super::lanes::Lane;
+use super::starts::column_starts;
 use super::unsafe_parts::OrderCoefficientSums;
 use crate::coeffs::packed_index;
-use crate::sht::legendre::recursion::{f_lm, sectoral, NEGLIGIBLE_LOG2};
-use crate::sht::legendre::xnumber::{BIG_INV, BIG_SQRT};
+use crate::sht::legendre::recursion::f_lm;
 
 /// The widest set of partial sums per degree an analysis kernel keeps (its `F`).
 pub const MAX_FOLD: usize = 8;
@@ -32,6 +32,8 @@ pub(crate) struct OrderScratch {
     c: Vec<f64>,
     s: Vec<f64>,
     events: Vec<Event>,
+    /// The starts after degree m of one block (`kernel::starts`).
+    late: Vec<Event>,
     /// The events of every block of an analysis order, block after block.
     all_events: Vec<Event>,
     /// Analysis partial sums of one degree chunk, field after field, each CHUNK·MAX_FOLD long.
@@ -57,6 +59,7 @@ impl OrderScratch {
             c: vec![0.0; n * fields],
             s: vec![0.0; n * fields],
             events: Vec::with_capacity(64),
+            late: Vec::with_capacity(64),
             all_events: Vec::new(),
             acc_re: vec![0.0; CHUNK * MAX_FOLD * fields],
             acc_im: vec![0.0; CHUNK * MAX_FOLD * fields],
@@ -152,7 +155,7 @@ fn block_nodes<const W: usize>(block: &[Lane]) -> Nodes<W> {
 }
 
 /// The column starts of block `block` of order m: from the plan's table when the job has one,
-/// else found now into `found` (`a`, `b`: the order's recursion coefficients).
+/// else found now into `found` (`a`, `b`: the order's recursion coefficients; `late`: scratch).
 #[inline(always)]
 #[allow(clippy::too_many_arguments)]
 fn starts_of_block<'a, const W: usize>(
@@ -163,11 +166,11 @@ fn starts_of_block<'a, const W: usize>(
     (block_index, block): (usize, &[Lane]),
     a: &[f64],
     b: &[f64],
-    found: &'a mut Vec<Event>,
+    (found, late): (&'a mut Vec<Event>, &mut Vec<Event>),
 ) -> &'a [Event] {
     match starts {
         Some(table) => table.block(m, block_index),
-        None => find_block_events::<W>(m, lmax, c_m, block, a, b, found),
+        None => find_block_events::<W>(m, lmax, c_m, block, a, b, found, late),
     }
 }
 
@@ -181,17 +184,22 @@ pub(crate) fn block_events<'s, const W: usize>(
     block: &[Lane],
     sc: &'s mut OrderScratch,
 ) -> &'s [Event] {
-    find_block_events::<W>(m, lmax, c_m, block, &sc.a, &sc.b, &mut sc.events)
+    find_block_events::<W>(
+        m,
+        lmax,
+        c_m,
+        block,
+        &sc.a,
+        &sc.b,
+        &mut sc.events,
+        &mut sc.late,
+    )
 }
 
-/// [`block_events`] with the recursion coefficients `a`, `b` of order m and the event buffer
-/// given apart.
-///
-/// The same computation as `recursion::column_start` (same operations in the same order, so
-/// the same doubles), run for the whole block at once: each lane carries its scaled value
-/// p · 2^(960 k) and a limit, and only a step where some lane reaches its limit (rescale, or
-/// the column becomes representable) leaves the vector loop. One lane at a time this costs
-/// about ten times more, which made it the larger part of a transform.
+/// [`block_events`] with the recursion coefficients `a`, `b` of order m, the event buffer and
+/// the scratch for late starts given apart: the starts at degree m first, in lane order, then
+/// the later ones by degree (`kernel::starts`).
+#[allow(clippy::too_many_arguments)]
 fn find_block_events<'s, const W: usize>(
     m: usize,
     lmax: usize,
@@ -200,83 +208,29 @@ fn find_block_events<'s, const W: usize>(
     a: &[f64],
     b: &[f64],
     events: &'s mut Vec<Event>,
+    late: &mut Vec<Event>,
 ) -> &'s [Event] {
-    let mut x = [0.0; W];
-    let mut p = [0.0; W];
-    let mut pp = [0.0; W];
-    let mut k = [0i32; W];
-    let mut lim = [f64::INFINITY; W];
-    let mut pending = 0usize;
-    events.clear();
-    let threshold_abs = f64::from_bits(((NEGLIGIBLE_LOG2 + 960 + 1023) as u64) << 52);
-    let limit = |k: i32| if k == -1 { threshold_abs } else { BIG_SQRT };
+    let mut t = [0.0; W];
+    let mut u = [0.0; W];
     for (i, lane) in block.iter().enumerate() {
-        x[i] = lane.t;
-        if m > lmax {
-            continue;
-        }
-        let sv = sectoral(m, c_m, lane.u);
-        if sv.mant == 0.0 {
-            continue;
-        }
-        if sv.k == 0 || (sv.k == -1 && sv.mant.abs() >= threshold_abs) {
-            events.push(Event {
-                l: m as u32,
-                lane: i as u32,
-                p_prev: 0.0,
-                p: sv.to_f64(),
-            });
-        } else {
-            p[i] = sv.mant;
-            k[i] = sv.k;
-            lim[i] = limit(sv.k);
-            pending += 1;
-        }
+        t[i] = lane.t;
+        u[i] = lane.u;
     }
-    if pending == 0 {
-        return events;
-    }
-    for l in (m + 1)..=lmax {
-        let (al, bl) = (a[l], b[l]);
-        let mut hit = false;
-        for i in 0..W {
-            let next = al * x[i] * p[i] - bl * pp[i];
-            pp[i] = p[i];
-            p[i] = next;
-            hit |= next.abs() >= lim[i];
-        }
-        if !hit {
-            continue;
-        }
-        for i in 0..W {
-            if p[i].abs() < lim[i] {
-                continue;
-            }
-            if p[i].abs() >= BIG_SQRT {
-                p[i] *= BIG_INV;
-                pp[i] *= BIG_INV;
-                k[i] += 1;
-            }
-            if k[i] == -1 && p[i].abs() >= threshold_abs {
+    let first = column_starts::<W>(m, lmax, c_m, &t, &u, block.len(), a, b, late);
+    events.clear();
+    if first.any {
+        for (i, &p) in first.p.iter().enumerate() {
+            if p != 0.0 {
                 events.push(Event {
-                    l: l as u32,
+                    l: m as u32,
                     lane: i as u32,
-                    p_prev: pp[i] * BIG_INV,
-                    p: p[i] * BIG_INV,
+                    p_prev: 0.0,
+                    p,
                 });
-                // a finished lane holds zeros from here on and never reaches a limit again
-                p[i] = 0.0;
-                pp[i] = 0.0;
-                lim[i] = f64::INFINITY;
-                pending -= 1;
-            } else {
-                lim[i] = limit(k[i]);
             }
         }
-        if pending == 0 {
-            break;
-        }
     }
+    events.extend_from_slice(late);
     events
 }
 
@@ -389,8 +343,16 @@ pub(crate) fn synth_order<const W: usize, const H: usize, const FMA: bool, const
     let mut found = std::mem::take(&mut sc.events);
     for (bi, block) in job.lanes.chunks(W).enumerate() {
         let x = block_nodes::<W>(block);
-        let events =
-            starts_of_block::<W>(starts, m, lmax, c_m, (bi, block), &sc.a, &sc.b, &mut found);
+        let events = starts_of_block::<W>(
+            starts,
+            m,
+            lmax,
+            c_m,
+            (bi, block),
+            &sc.a,
+            &sc.b,
+            (&mut found, &mut sc.late),
+        );
         if events.is_empty() {
             // lanes run from the equator to the poles: every later block is negligible too
             break;
@@ -401,7 +363,7 @@ pub(crate) fn synth_order<const W: usize, const H: usize, const FMA: bool, const
             a: &sc.a,
             b: &sc.b,
         };
-        for_each_chunk::<W, FMA>(&rc, &x, events, &mut *rows, |l0, n, rows| {
+        for_each_chunk::<W, FMA, true>(&rc, &x, events, &mut *rows, |l0, n, rows| {
             let par0 = (l0 - m) & 1;
             for (k, sum) in sums.iter_mut().enumerate() {
                 let (c, s) = sc.column(k);
@@ -617,7 +579,7 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
             (job.first_block + bi, block),
             &sc.a,
             &sc.b,
-            &mut sc.events,
+            (&mut sc.events, &mut sc.late),
         );
         let Some(first) = block_starts.first() else {
             // lanes run from the equator to the poles: every later block is negligible too
@@ -662,7 +624,7 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
                 let next_event = events.get(b.ev).map_or(lmax + 1, |e| e.l as usize);
                 let l_end = next_event.min(l1);
                 let n = l_end - b.l;
-                recur::<W, FMA>(
+                recur::<W, FMA, true>(
                     n,
                     &rc.a[b.l + 1..],
                     &rc.b[b.l + 1..],
@@ -705,7 +667,7 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::sht::legendre::recursion::{column_start, sectoral_factors};
+    use crate::sht::legendre::recursion::{column_start, sectoral, sectoral_factors};
 
     /// The block-wise column starts must equal the one-lane `column_start` bit for bit,
     /// including lanes near the poles at high order, where the start passes through several

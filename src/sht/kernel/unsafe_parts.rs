@@ -1,8 +1,8 @@
 //! The kernel layer's only `unsafe` code (every other module of `sht` denies it), with the
 //! argument for each part beside it:
 //!
-//! 1. [`KernelSet`]: the table of kernel functions a plan uses for every order, chosen once
-//!    when the plan is built. The AVX2 and AVX-512 variants are `#[target_feature]` functions,
+//! 1. [`KernelSet`]: the table of kernel functions a plan uses for every order (and point
+//!    synthesis for every group of points), chosen once when the plan (or the call) starts. The AVX2 and AVX-512 variants are `#[target_feature]` functions,
 //!    which may only be called on a CPU that has those features.
 //! 2. [`CoefficientSums`]: the shared output of the per-order analysis tasks. Every order m
 //!    adds into its own disjoint run of each output array; the output hands out one writer per
@@ -22,12 +22,16 @@ use super::order::{
 };
 use super::path::{KernelPath, PORTABLE_FUSED};
 use super::per_thread::PerThread;
+use super::point_group::{point_group, PointScratch, PointTables};
 use crate::coeffs::packed_len;
+use crate::sht::points::PointValue;
 
 type SynthFn = unsafe fn(&SynthJob, &mut OrderScratch, &mut OrderFourierColumns);
 type AnalysisFn = unsafe fn(&AnalysisJob, &mut OrderScratch, &mut OrderCoefficientSums);
+type PointFn = unsafe fn(&PointTables, &mut PointScratch, &[(f64, f64)], &mut [PointValue]);
 
-/// The kernel functions of one path: values, gradients and analysis, each for one order.
+/// The kernel functions of one path: values, gradients and analysis, each for one order, and
+/// point synthesis (values, or values and gradients) for one group of `path.lanes()` points.
 ///
 /// Safety: a `KernelSet` is only made by [`KernelSet::for_path`], which returns `None` unless
 /// `path.is_supported()` (runtime CPU detection), and each table entry is the variant compiled
@@ -39,7 +43,16 @@ pub(crate) struct KernelSet {
     values: SynthFn,
     gradient: SynthFn,
     analysis: AnalysisFn,
+    point_values: PointFn,
+    point_gradients: PointFn,
+    /// The same for groups of at most [`NARROW_GROUP`] points, 8 lanes wide.
+    narrow_values: PointFn,
+    narrow_gradients: PointFn,
 }
+
+/// Groups this short run on 8-lane copies: a call with a single point (as `field::synthesis`
+/// makes for every point at a radius of its own) then costs 8 lanes of work, not 32.
+pub(crate) const NARROW_GROUP: usize = 8;
 
 impl std::fmt::Debug for KernelSet {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
@@ -61,6 +74,10 @@ impl KernelSet {
                 values: synth_portable::<false>,
                 gradient: synth_portable::<true>,
                 analysis: analysis_portable,
+                point_values: points_portable::<false>,
+                point_gradients: points_portable::<true>,
+                narrow_values: points_portable::<false>,
+                narrow_gradients: points_portable::<true>,
             },
             #[cfg(target_arch = "x86_64")]
             KernelPath::Avx2Fma => KernelSet {
@@ -68,6 +85,10 @@ impl KernelSet {
                 values: synth_avx2::<false>,
                 gradient: synth_avx2::<true>,
                 analysis: analysis_avx2,
+                point_values: points_avx2::<false>,
+                point_gradients: points_avx2::<true>,
+                narrow_values: narrow_points_avx2::<false>,
+                narrow_gradients: narrow_points_avx2::<true>,
             },
             #[cfg(target_arch = "x86_64")]
             KernelPath::Avx512 => KernelSet {
@@ -75,6 +96,10 @@ impl KernelSet {
                 values: synth_avx512::<false>,
                 gradient: synth_avx512::<true>,
                 analysis: analysis_avx512,
+                point_values: points_avx512::<false>,
+                point_gradients: points_avx512::<true>,
+                narrow_values: narrow_points_avx512::<false>,
+                narrow_gradients: narrow_points_avx512::<true>,
             },
             #[cfg(not(target_arch = "x86_64"))]
             KernelPath::Avx2Fma | KernelPath::Avx512 => return None,
@@ -113,6 +138,26 @@ impl KernelSet {
     ) {
         // SAFETY: as in `synth`.
         unsafe { (self.analysis)(job, sc, out) }
+    }
+
+    /// Synthesis at one group of 1 to `path().lanes()` points (values, and both gradient
+    /// components when `gradient`; the tables must then hold the gradient coefficients).
+    pub(crate) fn points(
+        &self,
+        gradient: bool,
+        tables: &PointTables,
+        sc: &mut PointScratch,
+        group: &[(f64, f64)],
+        out: &mut [PointValue],
+    ) {
+        let f = match (gradient, group.len() <= NARROW_GROUP) {
+            (false, false) => self.point_values,
+            (true, false) => self.point_gradients,
+            (false, true) => self.narrow_values,
+            (true, true) => self.narrow_gradients,
+        };
+        // SAFETY: as in `synth`.
+        unsafe { f(tables, sc, group, out) }
     }
 }
 
@@ -171,6 +216,62 @@ unsafe fn analysis_avx512(
     out: &mut OrderCoefficientSums,
 ) {
     analysis_order::<32, 8, true>(job, sc, out)
+}
+
+// Point groups: one lane per point, W = `KernelPath::lanes` points per group, sums of H lanes
+// in registers at a time as in synthesis.
+
+fn points_portable<const GRAD: bool>(
+    tables: &PointTables,
+    sc: &mut PointScratch,
+    group: &[(f64, f64)],
+    out: &mut [PointValue],
+) {
+    point_group::<8, 4, PORTABLE_FUSED, GRAD>(tables, sc, group, out)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+unsafe fn points_avx2<const GRAD: bool>(
+    tables: &PointTables,
+    sc: &mut PointScratch,
+    group: &[(f64, f64)],
+    out: &mut [PointValue],
+) {
+    point_group::<16, 8, true, GRAD>(tables, sc, group, out)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx2,fma")]
+unsafe fn points_avx512<const GRAD: bool>(
+    tables: &PointTables,
+    sc: &mut PointScratch,
+    group: &[(f64, f64)],
+    out: &mut [PointValue],
+) {
+    point_group::<32, 16, true, GRAD>(tables, sc, group, out)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2,fma")]
+unsafe fn narrow_points_avx2<const GRAD: bool>(
+    tables: &PointTables,
+    sc: &mut PointScratch,
+    group: &[(f64, f64)],
+    out: &mut [PointValue],
+) {
+    point_group::<8, 8, true, GRAD>(tables, sc, group, out)
+}
+
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx512f,avx2,fma")]
+unsafe fn narrow_points_avx512<const GRAD: bool>(
+    tables: &PointTables,
+    sc: &mut PointScratch,
+    group: &[(f64, f64)],
+    out: &mut [PointValue],
+) {
+    point_group::<8, 8, true, GRAD>(tables, sc, group, out)
 }
 
 /// Marks a loop whose iterations must not be vectorised across: inside it, the code already
