@@ -45,6 +45,7 @@ pub mod lanes;
 pub mod normal;
 pub mod observation;
 pub mod parameters;
+pub mod rank_update;
 pub mod robust;
 pub mod scalar_normal;
 pub mod solve;

@@ -2,14 +2,17 @@
 //!
 //! Points are taken in blocks of `BLOCK_POINTS`. For each block the design rows are filled in
 //! parallel (rayon) as the columns of B = (√w_i a_i) (unknowns × points, column-major), and
-//! the lower triangle of N is updated by one matrix product N += B Bᵀ (faer, parallel), the
-//! right-hand side by b += B (√w y). This replaces n rank-one updates by n/block products.
+//! the lower triangle of N is updated by the tiled rank-k update N += B Bᵀ
+//! ([`super::rank_update::lower_rank_update_tiled`]: faer's general product on tiles, in
+//! parallel), the right-hand side by b += B (√w y). This replaces n rank-one updates by
+//! n/block products. Summation order: blocks in point order; within a block, each entry's
+//! sum over the block's points in the kernel's order (see [`super::rank_update`]).
 
-use faer::linalg::matmul::triangular::{matmul as tri_matmul, BlockStructure};
-use faer::{Mat, Parallelism};
+use faer::Mat;
 use rayon::prelude::*;
 
 use super::design::{design_row, LegendreTable, UnknownLayout};
+use super::rank_update::lower_rank_update_tiled;
 use crate::coeffs::packed_len;
 use crate::observe::points::PointSet;
 use crate::progress::Progress;
@@ -79,17 +82,7 @@ where
             used += usize::from(sw > 0.0);
         }
         let bmat = faer::mat::from_column_major_slice::<f64, _, _>(cols, u, nb);
-        tri_matmul(
-            n.as_mut(),
-            BlockStructure::TriangularLower,
-            bmat,
-            BlockStructure::Rectangular,
-            bmat.transpose(),
-            BlockStructure::Rectangular,
-            Some(1.0),
-            1.0,
-            Parallelism::Rayon(0),
-        );
+        lower_rank_update_tiled(n.as_mut(), bmat);
         for (k, &wy) in sqrt_wy[..nb].iter().enumerate() {
             y_w_y += wy * wy;
             let col = &cols[k * u..(k + 1) * u];
