@@ -1,18 +1,20 @@
 //! `kugel bench --case rank-update`: the product at the heart of the direct fit's assembly
 //! alone, N ← N + B Bᵀ with N u × u (u = (L+1)²) and B u × k (k = `--depth`, the points of
-//! one assembly block), seeded uniform entries. Three versions, median time over the repeats:
+//! one assembly block), seeded uniform entries. Four versions, median time over the repeats:
 //!
 //! - `general`: faer's general product on the full u × u matrix
 //!   (`full_rank_update_general`, 2 u² k flops counted), the rate of the kernel the tiled
 //!   update is built from;
 //! - `triangular`: the single triangular product (`lower_rank_update_reference`);
-//! - `tiled`: the tiled update the assembly uses (`lower_rank_update_tiled`).
+//! - `tiled`: faer's general product on tiles (`lower_rank_update_tiled`);
+//! - `assembly`: the update the assembly runs (`RankUpdater`: on an AVX-512 CPU the packed
+//!   update on our own micro-kernel, elsewhere the tiled one), named in `assembly_update`.
 //!
-//! The last two are counted as u² k flops (the lower triangle, as `--case fit` counts the
+//! The last three are counted as u² k flops (the lower triangle, as `--case fit` counts the
 //! assembly). Rates are stated as fractions of the FMA peak measured in the same run, and of
 //! the AVX2 FMA rate too where the CPU has AVX-512: faer's kernels use 256-bit vectors on the
-//! stable compiler, so that rate is their ceiling. The tiled result is compared with the
-//! reference (largest difference over the largest entry).
+//! stable compiler, so that rate is their ceiling. The tiled and assembly results are
+//! compared with the reference (largest difference over the largest entry).
 
 use std::time::Instant;
 
@@ -21,7 +23,8 @@ use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 
 use kugel::observe::fit::rank_update::{
-    full_rank_update_general, lower_rank_update_reference, lower_rank_update_tiled, TILE_UNKNOWNS,
+    full_rank_update_general, lower_rank_update_reference, lower_rank_update_tiled, RankUpdater,
+    TILE_UNKNOWNS,
 };
 use kugel::sht::KernelPath;
 
@@ -64,6 +67,13 @@ pub struct RankUpdateBenchResult {
     pub tiled_peak_fraction: f64,
     /// max |N_tiled − N_reference| / max |N_reference| over the lower triangle.
     pub tiled_vs_reference: f64,
+    /// Which update the assembly runs.
+    pub assembly_update: String,
+    pub assembly_s: f64,
+    pub assembly_gflops: f64,
+    pub assembly_peak_fraction: f64,
+    /// As `tiled_vs_reference`, for the assembly's update.
+    pub assembly_vs_reference: f64,
 }
 
 fn median(mut times: Vec<f64>) -> f64 {
@@ -119,17 +129,16 @@ pub fn run_rank_update_bench(args: &RankUpdateBenchArgs) -> anyhow::Result<RankU
             time(&mut || lower_rank_update_reference(reference.as_mut(), b.as_ref()));
         let mut tiled = Mat::<f64>::zeros(u, u);
         let tiled_s = time(&mut || lower_rank_update_tiled(tiled.as_mut(), b.as_ref()));
-        let (mut diff, mut scale) = (0.0f64, 0.0f64);
-        for c in 0..u {
-            for r in c..u {
-                diff = diff.max((tiled[(r, c)] - reference[(r, c)]).abs());
-                scale = scale.max(reference[(r, c)].abs());
-            }
-        }
+        let mut updater = RankUpdater::new(u);
+        let mut assembly = Mat::<f64>::zeros(u, u);
+        let assembly_s = time(&mut || updater.update(assembly.as_mut(), b.as_ref()));
+        let assembly_vs_reference = tiled_check(&reference, &assembly);
+        let tiled_vs_reference = tiled_check(&reference, &tiled);
         let rate = |flops: f64, s: f64| flops / s / 1e9;
         let general_gflops = rate(2.0 * lower_flops, general_s);
         let triangular_gflops = rate(lower_flops, triangular_s);
         let tiled_gflops = rate(lower_flops, tiled_s);
+        let assembly_gflops = rate(lower_flops, assembly_s);
         Ok(RankUpdateBenchResult {
             case: "rank-update",
             unknowns: u,
@@ -149,9 +158,31 @@ pub fn run_rank_update_bench(args: &RankUpdateBenchArgs) -> anyhow::Result<RankU
             tiled_s,
             tiled_gflops,
             tiled_peak_fraction: tiled_gflops / peak.gflops,
-            tiled_vs_reference: if scale > 0.0 { diff / scale } else { diff },
+            tiled_vs_reference,
+            assembly_update: updater.name().to_string(),
+            assembly_s,
+            assembly_gflops,
+            assembly_peak_fraction: assembly_gflops / peak.gflops,
+            assembly_vs_reference,
         })
     })
+}
+
+/// max |N − R| / max |R| over the lower triangle (both updated the same number of times).
+fn tiled_check(reference: &Mat<f64>, n: &Mat<f64>) -> f64 {
+    let u = reference.nrows();
+    let (mut diff, mut scale) = (0.0f64, 0.0f64);
+    for c in 0..u {
+        for r in c..u {
+            diff = diff.max((n[(r, c)] - reference[(r, c)]).abs());
+            scale = scale.max(reference[(r, c)].abs());
+        }
+    }
+    if scale > 0.0 {
+        diff / scale
+    } else {
+        diff
+    }
 }
 
 /// Prints a result as a few lines of text or one JSON line.
@@ -161,7 +192,8 @@ pub fn print_rank_update_result(r: &RankUpdateBenchResult, json: bool) -> anyhow
             "N += B Bᵀ, u = {}, k = {}, {} threads; FMA peak {:.1} GFLOP/s ({}), AVX2 {:.1}\n\
              general product (full square): {:.3} s, {:.1} GFLOP/s, {:.3} of peak\n\
              triangular product (one call): {:.3} s, {:.1} GFLOP/s, {:.3} of peak\n\
-             tiled update ({} wide tiles):  {:.3} s, {:.1} GFLOP/s, {:.3} of peak; differs from the triangular one by {:.1e} of max |N|",
+             tiled update ({} wide tiles):  {:.3} s, {:.1} GFLOP/s, {:.3} of peak; differs from the triangular one by {:.1e} of max |N|\n\
+             assembly's update ({}): {:.3} s, {:.1} GFLOP/s, {:.3} of peak; differs by {:.1e}",
             r.unknowns,
             r.depth,
             r.threads,
@@ -178,7 +210,12 @@ pub fn print_rank_update_result(r: &RankUpdateBenchResult, json: bool) -> anyhow
             r.tiled_s,
             r.tiled_gflops,
             r.tiled_peak_fraction,
-            r.tiled_vs_reference
+            r.tiled_vs_reference,
+            r.assembly_update,
+            r.assembly_s,
+            r.assembly_gflops,
+            r.assembly_peak_fraction,
+            r.assembly_vs_reference
         )
     })
 }

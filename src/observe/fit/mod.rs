@@ -60,7 +60,7 @@ pub use self::observation::{DataSet, Observation, ObservationSet};
 use self::parameters::ParameterLayout;
 pub use self::robust::Robust;
 use self::solve::{solve, Solution};
-pub use self::solver_choice::{plan_solver, SolverKind, SolverPlan, SolverRequest};
+pub use self::solver_choice::{plan_solver, RowPass, SolverKind, SolverPlan, SolverRequest};
 use crate::field::{NormalField, Quantity};
 use crate::observe::gridding::EARTH_MEAN_RADIUS_M;
 use crate::observe::points::PointSet;
@@ -310,7 +310,13 @@ pub fn unknowns_memory_bytes(u: u64, regularization: &Regularization) -> u64 {
         Regularization::Gcv | Regularization::KaulaGcv { .. } => 5,
         _ => 3,
     };
-    product(&[matrices, u, u, 8]).saturating_add(product(&[u, 512, 8, 2]))
+    // the assembly's block of design columns (and the row builder's copies of it), and the
+    // rank-k update's packing buffer
+    let block = product(&[u, normal::BLOCK_POINTS as u64, 8, 2]);
+    let packing = rank_update::RankUpdater::buffer_bytes(usize::try_from(u).unwrap_or(usize::MAX));
+    product(&[matrices, u, u, 8])
+        .saturating_add(block)
+        .saturating_add(packing)
 }
 
 /// Fits the points (plain values on the sphere of `options.body_radius_m`) to all
@@ -495,11 +501,18 @@ pub fn fit_observations_with_progress(
             "every degree is fixed: the fit has no unknowns",
         ));
     }
+    // the rows the iterative passes read: scalar ones through the lane kernels (as
+    // `RowBuilder::rows_are_scalar` decides below), others built whole
+    let scalar_rows = !magnetic && !layout.secular_variation && layout.external.is_none();
     let plan = plan_solver(
         setup.solver,
         set.len(),
         u,
-        layout.full_len(),
+        if scalar_rows {
+            RowPass::Lanes(layout.full_len())
+        } else {
+            RowPass::Full(layout.full_len())
+        },
         &setup.regularization,
         crate::memory::available_bytes(),
         rayon::current_num_threads(),

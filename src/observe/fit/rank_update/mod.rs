@@ -24,6 +24,51 @@ use faer::linalg::matmul::triangular::{matmul as tri_matmul, BlockStructure};
 use faer::{MatMut, MatRef, Parallelism};
 use rayon::prelude::*;
 
+mod micro;
+pub mod packed;
+
+use self::packed::{MicroKernel, PackedRankUpdate};
+
+/// The update the assembly runs: the packed one on the AVX-512 micro-kernel
+/// ([`packed::PackedRankUpdate`]) where the CPU has AVX-512F, else faer's tiles
+/// ([`lower_rank_update_tiled`]; faer's kernels are as wide as AVX2 on the stable compiler).
+pub enum RankUpdater {
+    Packed(PackedRankUpdate),
+    Tiled,
+}
+
+impl RankUpdater {
+    /// The fastest update for `unknowns` rows on this CPU.
+    pub fn new(unknowns: usize) -> RankUpdater {
+        match MicroKernel::avx512() {
+            Some(kernel) => RankUpdater::Packed(PackedRankUpdate::new(unknowns, kernel)),
+            None => RankUpdater::Tiled,
+        }
+    }
+
+    /// N ← N + B Bᵀ on the lower triangle of `n` (u × u), B = `b` (u × k).
+    pub fn update(&mut self, n: MatMut<'_, f64>, b: MatRef<'_, f64>) {
+        match self {
+            RankUpdater::Packed(packed) if n.row_stride() == 1 => packed.update(n, b),
+            _ => lower_rank_update_tiled(n, b),
+        }
+    }
+
+    /// Bytes the update allocates besides N and B for `unknowns` (at most; faer's tiles use
+    /// its own small per-thread workspace).
+    pub fn buffer_bytes(unknowns: usize) -> u64 {
+        PackedRankUpdate::buffer_bytes(unknowns)
+    }
+
+    /// Which one runs, for reports.
+    pub fn name(&self) -> &'static str {
+        match self {
+            RankUpdater::Packed(_) => "packed, AVX-512 micro-kernel",
+            RankUpdater::Tiled => "tiled, faer general product",
+        }
+    }
+}
+
 /// Width of the square tiles of [`lower_rank_update_tiled`]: wide enough that packing B's
 /// rows (2 T k copies per tile) is small against the tile's T² k multiply–adds, narrow enough
 /// that the two cores get many tiles to share (u = 3721 at L = 60 gives 120 tiles).
@@ -136,12 +181,12 @@ fn lower_tiles(n: MatMut<'_, f64>, tile: usize) -> Vec<Tile<'_>> {
 }
 
 #[cfg(test)]
-mod tests {
+pub(super) mod tests {
     use super::*;
     use faer::Mat;
 
     /// A deterministic, irregular u × k block (no structure a kernel could exploit).
-    fn block(u: usize, k: usize) -> Mat<f64> {
+    pub(super) fn block(u: usize, k: usize) -> Mat<f64> {
         Mat::from_fn(u, k, |i, j| {
             ((i * 7919 + j * 104_729) % 1_000) as f64 / 500.0 - 1.0 + 1e-3 * (i as f64).sin()
         })
@@ -149,7 +194,7 @@ mod tests {
 
     /// A lower triangle already holding values, and an upper one holding a marker that the
     /// update must leave alone.
-    fn start(u: usize) -> Mat<f64> {
+    pub(super) fn start(u: usize) -> Mat<f64> {
         Mat::from_fn(u, u, |i, j| {
             if i >= j {
                 ((i + 3 * j) % 11) as f64
