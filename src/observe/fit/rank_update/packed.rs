@@ -26,12 +26,18 @@ use super::lower_tiles;
 use super::micro::{micro_reference, MICRO_COLS, MICRO_OUT, MICRO_ROWS, PANEL_ROWS};
 use crate::sht::KernelPath;
 
-/// Columns of B per packed slice (kc): a 24-row strip (3 · 8 · kc doubles, 48 KiB) streams
-/// from L2 while the 8-column strip (16 KiB) stays in L1.
-pub const DEPTH_COLUMNS: usize = 256;
+/// Columns of B per packed slice (kc): a 24-row strip (3 · 8 · kc doubles, 24 KiB) streams
+/// from L2 while the 8-column strip (8 KiB) stays in L1 beside it (48 KiB here). Measured
+/// with `kugel bench --case rank-update --lmax 60 --depth 1024 --threads 1` on an AVX-512
+/// core (4 December 2026, load 4–5, fractions of the FMA peak of the same run): kc = 128
+/// gave 0.62–0.65, 96 and 192 0.55–0.61, 256 0.55–0.59 (the two strips no longer fit L1
+/// together), 64 0.55–0.57 (the additions into N weigh more); the other loop order (8-column
+/// strips inside) 0.39–0.53.
+pub const DEPTH_COLUMNS: usize = 128;
 
 /// Width of the square tiles (a multiple of the 24-row strip): a tile's strips of A
-/// (192 · kc doubles, 384 KiB) stay in L2 while its 8-column strips pass.
+/// (192 · kc doubles, 192 KiB) stay in L2 while its 8-column strips pass (tiles of 384 and
+/// 768 measured the same within the noise, 96 lower).
 pub const PACKED_TILE: usize = 192;
 
 /// Which compiled micro-kernel runs. The AVX-512 one can only be had on a CPU that has it.
