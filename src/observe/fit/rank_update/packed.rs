@@ -1,5 +1,5 @@
 //! The packed symmetric rank-k update N ← N + B Bᵀ (lower triangle), on our own register
-//! micro-kernel ([`super::micro`]), the usual blocked product (Goto & van de Geijn, "Anatomy
+//! micro-kernel (`micro.rs`), the usual blocked product (Goto & van de Geijn, "Anatomy
 //! of high-performance matrix multiplication", ACM TOMS 34(3), 2008):
 //!
 //! 1. B (u × k) is taken [`DEPTH_COLUMNS`] columns (kc) at a time. Each slice is packed once,
