@@ -75,8 +75,10 @@ impl fmt::Display for SolverKind {
 }
 
 /// Assembly rate with the packed AVX-512 rank-k update, GFLOP/s per thread (n·u² counted):
-/// `kugel bench --case fit --points 100000 --lmax 60 --solver direct` on 2 AVX-512 cores,
-/// 4 December 2026 (see the README's measurement), rounded down.
+/// the update alone ran at 66–73 GFLOP/s on one nearly free AVX-512 core (`kugel bench
+/// --case rank-update --lmax 60 --threads 1`, 4 December 2026), less the row filling (about a
+/// tenth of the assembly in the profile); the whole assembly measured 20–24 per thread while
+/// the machine was shared (load 5.4–5.9, README). Not yet checked on a quiet machine.
 pub const DIRECT_ASSEMBLY_GFLOPS_PER_THREAD_AVX512: f64 = 50.0;
 /// Assembly rate on faer's tiles (256-bit kernels), GFLOP/s per thread: the tiled update of
 /// `kugel bench --case rank-update --lmax 60` on the same machine, about 30 GFLOP/s per
