@@ -7,7 +7,8 @@
 //! - fit: the bytes of the solver `observe::fit::plan_solver` picks, as the step does: the
 //!   direct one's `unknowns_memory_bytes` (three u-square matrices, five with GCV; u = (L+1)²,
 //!   doubled with secular variation, plus the external terms) or the matrix-free one's
-//!   `iterative_memory_bytes`;
+//!   `iterative_memory_bytes`; where the rows may be scalar or vector components (known once
+//!   the data are read), which changes the iterative time estimate, the larger plan;
 //! - analyze: `sht::plan::plan_memory_bytes` and `analysis_memory_bytes` on the smallest grid
 //!   that resolves the degree (the input grid's own size is checked when it is read);
 //! - synthesize: `field::synthesis::synthesis_memory_bytes` on the Gauss grid the step maps.
@@ -23,7 +24,7 @@ use super::config::{Config, Input, Step};
 use crate::error::{Error, Result};
 use crate::field::quantity::Quantity;
 use crate::field::synthesis::{longitude_densified, synthesis_memory_bytes};
-use crate::observe::fit::{plan_solver, Regularization, SolverKind, SolverRequest};
+use crate::observe::fit::{plan_solver, Regularization, RowPass, SolverKind, SolverRequest};
 use crate::observe::gridding::gridding_memory_bytes;
 use crate::sht::plan::{analysis_memory_bytes, plan_memory_bytes};
 use crate::sht::GaussGrid;
@@ -205,15 +206,30 @@ pub fn estimate(
                     .iter()
                     .map(|n| point_counts.get(*n).copied().unwrap_or(0))
                     .sum();
-                let plan = plan_solver(
-                    request,
-                    observations as usize,
-                    unknowns,
-                    unknowns,
-                    &regularization,
-                    crate::memory::available_bytes(),
-                    rayon::current_num_threads(),
-                )?;
+                // rows with rates or external terms are built whole; otherwise scalar rows
+                // go through the lane kernels, and magnetic components (known only once the
+                // data are read) are built whole: the larger of the two plans is estimated
+                let passes = if s.epoch.is_some() || s.external_lmax.is_some() {
+                    vec![RowPass::Full(unknowns)]
+                } else {
+                    vec![RowPass::Lanes(unknowns), RowPass::Full(unknowns)]
+                };
+                let mut plan: Option<crate::observe::fit::SolverPlan> = None;
+                for rows in passes {
+                    let p = plan_solver(
+                        request,
+                        observations as usize,
+                        unknowns,
+                        rows,
+                        &regularization,
+                        crate::memory::available_bytes(),
+                        rayon::current_num_threads(),
+                    )?;
+                    if plan.as_ref().is_none_or(|q| p.bytes() > q.bytes()) {
+                        plan = Some(p);
+                    }
+                }
+                let plan = plan.expect("at least one row pass");
                 (
                     match plan.kind {
                         SolverKind::Direct => format!(

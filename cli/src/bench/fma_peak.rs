@@ -128,7 +128,13 @@ fn run_chains(path: KernelPath, iterations: u64, seed: f64) -> (usize, f64) {
 /// Measures the all-thread FMA rate in the current rayon pool: best of `trials` runs of about
 /// `seconds_per_trial` each.
 pub fn measure_fma_peak(trials: usize, seconds_per_trial: f64) -> FmaPeak {
-    let path = KernelPath::detect();
+    measure_fma_peak_on(KernelPath::detect(), trials, seconds_per_trial)
+}
+
+/// As [`measure_fma_peak`] in the instruction set of `path` (which this CPU must have: see
+/// `KernelPath::is_supported`), e.g. the AVX2 rate on an AVX-512 machine, the ceiling of a
+/// kernel that only uses 256-bit vectors.
+pub fn measure_fma_peak_on(path: KernelPath, trials: usize, seconds_per_trial: f64) -> FmaPeak {
     // calibrate the iteration count on one thread
     let mut iterations: u64 = 1 << 16;
     let per_iteration_s = loop {

@@ -4,6 +4,7 @@ pub mod fma_peak;
 pub mod nodes;
 pub mod observe;
 pub mod points;
+pub mod rank_update;
 pub mod rotation;
 pub mod transform;
 

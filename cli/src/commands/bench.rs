@@ -5,6 +5,9 @@ use super::CommandContext;
 use crate::bench::nodes::{print_nodes_result, run_nodes_bench, NodesBenchArgs};
 use crate::bench::observe::{run_fit_bench, run_gridding_bench, ObserveBenchArgs};
 use crate::bench::points::{print_points_result, run_points_bench, PointsBenchArgs};
+use crate::bench::rank_update::{
+    print_rank_update_result, run_rank_update_bench, RankUpdateBenchArgs,
+};
 use crate::bench::rotation::{print_rotation_result, run_rotation_bench, RotationBenchArgs};
 use crate::bench::transform::{print_result, run_transform_bench, TransformBenchArgs};
 
@@ -25,6 +28,9 @@ pub enum Case {
     Rotation,
     /// The Gauss–Legendre nodes and weights of the degree-L Gauss grid (L + 1 points) alone.
     Nodes,
+    /// The direct fit's normal-matrix update N += B Bᵀ alone (u = (L+1)² unknowns, --depth
+    /// points): faer's general product, the single triangular product and the tiled update.
+    RankUpdate,
 }
 
 #[derive(Debug, clap::Args)]
@@ -57,6 +63,9 @@ pub struct Args {
     /// Solver of the fit case: auto, direct or iterative.
     #[arg(long, default_value = "auto")]
     pub solver: String,
+    /// Points per block of the rank-update case (the depth k of N += B Bᵀ).
+    #[arg(long, default_value_t = kugel::observe::fit::normal::BLOCK_POINTS)]
+    pub depth: usize,
 }
 
 pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
@@ -113,6 +122,16 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
                 repeat: args.repeat,
             })?;
             print_nodes_result(&r, args.json)
+        }
+        Case::RankUpdate => {
+            let r = run_rank_update_bench(&RankUpdateBenchArgs {
+                lmax: args.lmax,
+                depth: args.depth,
+                threads: args.threads,
+                repeat: args.repeat,
+                seed: args.seed,
+            })?;
+            print_rank_update_result(&r, args.json)
         }
         Case::Grid | Case::Fit => {
             let o = ObserveBenchArgs {

@@ -45,6 +45,7 @@ pub mod lanes;
 pub mod normal;
 pub mod observation;
 pub mod parameters;
+pub mod rank_update;
 pub mod robust;
 pub mod scalar_normal;
 pub mod solve;
@@ -59,7 +60,7 @@ pub use self::observation::{DataSet, Observation, ObservationSet};
 use self::parameters::ParameterLayout;
 pub use self::robust::Robust;
 use self::solve::{solve, Solution};
-pub use self::solver_choice::{plan_solver, SolverKind, SolverPlan, SolverRequest};
+pub use self::solver_choice::{plan_solver, RowPass, SolverKind, SolverPlan, SolverRequest};
 use crate::field::{NormalField, Quantity};
 use crate::observe::gridding::EARTH_MEAN_RADIUS_M;
 use crate::observe::points::PointSet;
@@ -296,7 +297,11 @@ pub struct FitResult {
     pub warnings: Vec<String>,
 }
 
-/// Bytes the fit needs: N, its regularised copy, L⁻¹ (and the eigenvectors for GCV).
+/// Bytes the fit needs. The solve holds five u × u matrices at its peak (`solve.rs`: N, the
+/// regularised N + λP, the Cholesky factor, the copy of it the factorisation returns, and the
+/// inverse of the factor), GCV two more (its eigenvectors and their workspace); the peak RSS of
+/// `kugel bench --case fit --points 100000 --lmax 60 --solver direct` was 570 MiB against 554
+/// for five matrices (December 2026), where three had been counted.
 pub fn fit_memory_bytes(lmax: usize, regularization: &Regularization) -> u64 {
     let l1 = (lmax as u64).saturating_add(1);
     unknowns_memory_bytes(crate::memory::saturating_product(&[l1, l1]), regularization)
@@ -306,10 +311,16 @@ pub fn fit_memory_bytes(lmax: usize, regularization: &Regularization) -> u64 {
 pub fn unknowns_memory_bytes(u: u64, regularization: &Regularization) -> u64 {
     use crate::memory::saturating_product as product;
     let matrices = match regularization {
-        Regularization::Gcv | Regularization::KaulaGcv { .. } => 5,
-        _ => 3,
+        Regularization::Gcv | Regularization::KaulaGcv { .. } => 7,
+        _ => 5,
     };
-    product(&[matrices, u, u, 8]).saturating_add(product(&[u, 512, 8, 2]))
+    // the assembly's block of design columns (and the row builder's copies of it), and the
+    // rank-k update's packing buffer
+    let block = product(&[u, normal::BLOCK_POINTS as u64, 8, 2]);
+    let packing = rank_update::RankUpdater::buffer_bytes(usize::try_from(u).unwrap_or(usize::MAX));
+    product(&[matrices, u, u, 8])
+        .saturating_add(block)
+        .saturating_add(packing)
 }
 
 /// Fits the points (plain values on the sphere of `options.body_radius_m`) to all
@@ -494,11 +505,18 @@ pub fn fit_observations_with_progress(
             "every degree is fixed: the fit has no unknowns",
         ));
     }
+    // the rows the iterative passes read: scalar ones through the lane kernels (as
+    // `RowBuilder::rows_are_scalar` decides below), others built whole
+    let scalar_rows = !magnetic && !layout.secular_variation && layout.external.is_none();
     let plan = plan_solver(
         setup.solver,
         set.len(),
         u,
-        layout.full_len(),
+        if scalar_rows {
+            RowPass::Lanes(layout.full_len())
+        } else {
+            RowPass::Full(layout.full_len())
+        },
         &setup.regularization,
         crate::memory::available_bytes(),
         rayon::current_num_threads(),

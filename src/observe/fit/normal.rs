@@ -2,14 +2,17 @@
 //!
 //! Points are taken in blocks of `BLOCK_POINTS`. For each block the design rows are filled in
 //! parallel (rayon) as the columns of B = (√w_i a_i) (unknowns × points, column-major), and
-//! the lower triangle of N is updated by one matrix product N += B Bᵀ (faer, parallel), the
-//! right-hand side by b += B (√w y). This replaces n rank-one updates by n/block products.
+//! the lower triangle of N is updated by the symmetric rank-k update N += B Bᵀ
+//! ([`super::rank_update::RankUpdater`]: tiles in parallel, on our AVX-512 micro-kernel or
+//! faer's general product), the right-hand side by b += B (√w y). This replaces n rank-one updates by
+//! n/block products. Summation order: blocks in point order; within a block, each entry's
+//! sum over the block's points in the kernel's order (see [`super::rank_update`]).
 
-use faer::linalg::matmul::triangular::{matmul as tri_matmul, BlockStructure};
-use faer::{Mat, Parallelism};
+use faer::Mat;
 use rayon::prelude::*;
 
 use super::design::{design_row, LegendreTable, UnknownLayout};
+use super::rank_update::RankUpdater;
 use crate::coeffs::packed_len;
 use crate::observe::points::PointSet;
 use crate::progress::Progress;
@@ -68,6 +71,7 @@ where
     let mut block = vec![0.0; u * BLOCK_POINTS];
     let mut sqrt_wy = vec![0.0; BLOCK_POINTS];
     let mut used = 0usize;
+    let mut updater = RankUpdater::new(u);
     progress.stage("assembling normals", count.div_ceil(BLOCK_POINTS) as u64);
     for start in (0..count).step_by(BLOCK_POINTS) {
         let end = (start + BLOCK_POINTS).min(count);
@@ -79,17 +83,7 @@ where
             used += usize::from(sw > 0.0);
         }
         let bmat = faer::mat::from_column_major_slice::<f64, _, _>(cols, u, nb);
-        tri_matmul(
-            n.as_mut(),
-            BlockStructure::TriangularLower,
-            bmat,
-            BlockStructure::Rectangular,
-            bmat.transpose(),
-            BlockStructure::Rectangular,
-            Some(1.0),
-            1.0,
-            Parallelism::Rayon(0),
-        );
+        updater.update(n.as_mut(), bmat);
         for (k, &wy) in sqrt_wy[..nb].iter().enumerate() {
             y_w_y += wy * wy;
             let col = &cols[k * u..(k + 1) * u];
@@ -173,6 +167,19 @@ mod tests {
             }
         }
         (n, b)
+    }
+
+    /// The direct solver's memory estimate holds what the assembly allocates: N, the block
+    /// of design columns and the rank-k update's packing buffer (u from small to L = 100).
+    #[test]
+    fn memory_estimate_covers_the_assembly() {
+        for u in [1usize, 16, 3721, 10_201] {
+            let assembly = (u * u * 8 + u * BLOCK_POINTS * 8) as u64
+                + super::super::rank_update::RankUpdater::buffer_bytes(u);
+            let estimate =
+                super::super::unknowns_memory_bytes(u as u64, &super::super::Regularization::None);
+            assert!(estimate >= assembly, "u {u}: {estimate} < {assembly}");
+        }
     }
 
     #[test]

@@ -3,23 +3,28 @@
 //! from the memory and time each would take.
 //!
 //! Estimates, for n observations and u free unknowns:
-//! - direct memory: [`super::unknowns_memory_bytes`] (three u × u matrices, five with GCV);
-//!   direct work: n·u² flops for the assembly (the lower triangle of N, an FMA per entry and
-//!   observation) plus u³ for the Cholesky factor, the inverse of the factor and the covariance
-//!   diagonal, at [`DIRECT_GFLOPS_PER_THREAD`];
+//! - direct memory: [`super::unknowns_memory_bytes`] (three u × u matrices, five with GCV,
+//!   and the assembly's block and packing buffers); direct time: n·u² flops for the assembly
+//!   (the lower triangle of N, an FMA per entry and observation) at the rate of the rank-k
+//!   update this CPU runs ([`DIRECT_ASSEMBLY_GFLOPS_PER_THREAD_AVX512`] with the AVX-512
+//!   micro-kernel, [`DIRECT_ASSEMBLY_GFLOPS_PER_THREAD_TILED`] on faer's tiles elsewhere),
+//!   plus u³ for the Cholesky factor, the inverse of the factor and the covariance diagonal at
+//!   [`DIRECT_SOLVE_GFLOPS_PER_THREAD`];
 //! - iterative memory: [`iterative_memory_bytes`] (a few u-vectors per worker and the
-//!   order blocks of the preconditioner); iterative work: per conjugate-gradient step one pass
-//!   over the observations, each rebuilding its design row and taking two dot products
-//!   ([`ITERATIVE_FLOPS_PER_ROW_ENTRY`] flops per row entry, at
-//!   [`ITERATIVE_GFLOPS_PER_THREAD`]), for [`EXPECTED_ITERATIONS`] steps.
+//!   order blocks of the preconditioner); iterative time: [`EXPECTED_ITERATIONS`]
+//!   conjugate-gradient steps, each one pass over the n rows of ℓ entries (ℓ the full row
+//!   length, usually u), at [`LANE_ROW_ENTRIES_PER_SECOND_PER_THREAD`] for scalar rows (the
+//!   SIMD lane kernels of [`super::lane_normal`]) and
+//!   [`FULL_ROW_ENTRIES_PER_SECOND_PER_THREAD`] for rows built whole (vector components,
+//!   rates, external terms: [`super::iterative::RowSource`]).
 //!
-//! The rates are what this library's kernels sustained in `kugel bench --case fit` (100,000
-//! gravity disturbances to L = 60 on 2 shared AVX2 cores: the direct assembly 5.5 GFLOP/s,
-//! the iterative solver 21 steps of 3.4 s); they only rank the two solvers, so a factor of two either way
-//! does not change the choice except near the break-even point. `auto` takes the direct solver
-//! when it fits in memory and is expected to take less than [`DIRECT_ALWAYS_SECONDS`] or no
-//! longer than the iterative one; otherwise
-//! the iterative one, unless the regularisation needs the eigen-decomposition of N (GCV).
+//! The rates are what this library's kernels sustained in `kugel bench --case fit` and
+//! `--case rank-update` on 2 cores (each constant names its run); they only rank the two
+//! solvers and give the user an order of magnitude, so a factor of two either way does not
+//! change the choice except near the break-even point. `auto` takes the direct solver when it
+//! fits in memory and is expected to take less than [`DIRECT_ALWAYS_SECONDS`] or no longer
+//! than the iterative one; otherwise the iterative one, unless the regularisation needs the
+//! eigen-decomposition of N (GCV).
 
 use std::fmt;
 
@@ -69,15 +74,31 @@ impl fmt::Display for SolverKind {
     }
 }
 
-/// Sustained rate of the direct solver's matrix products and factorisations, GFLOP/s per thread.
-pub const DIRECT_GFLOPS_PER_THREAD: f64 = 3.0;
-/// Sustained rate of the matrix-free passes (row building, dot products), GFLOP/s per thread.
-pub const ITERATIVE_GFLOPS_PER_THREAD: f64 = 0.45;
-/// Flops per row entry and conjugate-gradient step: the row itself (Legendre recursion, degree
-/// factor, longitude term) and the two dot products of N p = Σ w a (aᵀ p).
-pub const ITERATIVE_FLOPS_PER_ROW_ENTRY: f64 = 8.0;
+/// Assembly rate with the packed AVX-512 rank-k update, GFLOP/s per thread (n·u² counted):
+/// the update alone ran at 66–73 GFLOP/s on one nearly free AVX-512 core (`kugel bench
+/// --case rank-update --lmax 60 --threads 1`, 4 December 2026), less the row filling (about a
+/// tenth of the assembly in the profile); the whole assembly measured 20–24 per thread while
+/// the machine was shared (load 5.4–5.9, README). Not yet checked on a quiet machine.
+pub const DIRECT_ASSEMBLY_GFLOPS_PER_THREAD_AVX512: f64 = 50.0;
+/// Assembly rate on faer's tiles (256-bit kernels), GFLOP/s per thread: the tiled update of
+/// `kugel bench --case rank-update --lmax 60` on the same machine, about 30 GFLOP/s per
+/// thread on a quiet core, less the row filling; the AVX2 machine's triangular product gave
+/// 81 GFLOP/s on 2 cores (3 December 2026).
+pub const DIRECT_ASSEMBLY_GFLOPS_PER_THREAD_TILED: f64 = 25.0;
+/// Rate of the solve (Cholesky, inverse of the factor, covariance diagonal; u³ counted),
+/// GFLOP/s per thread: 2.2–2.5 s for u = 3717 on 2 cores in the run above.
+pub const DIRECT_SOLVE_GFLOPS_PER_THREAD: f64 = 10.0;
+/// Row entries per second and thread of one conjugate-gradient pass over scalar rows (the
+/// lane kernels): 1,000,000 gravity disturbances to L = 100 (10,201 entries per row),
+/// 22 steps in 114 s on 2 quiet AVX-512 cores (README, 3 December 2026), i.e. 1.0e9, rounded
+/// down for the AVX2 path.
+pub const LANE_ROW_ENTRIES_PER_SECOND_PER_THREAD: f64 = 0.9e9;
+/// Row entries per second and thread of a pass over rows built whole: 100,000 rows of 3,721
+/// entries, 3.4 s per step on 2 AVX2 cores (the full-row pass, before the lane kernels).
+pub const FULL_ROW_ENTRIES_PER_SECOND_PER_THREAD: f64 = 0.055e9;
 /// Conjugate-gradient steps assumed in the time estimate (the block-by-order preconditioner
-/// leaves only the coupling between orders to the iteration; well-covered data take 10–40).
+/// leaves only the coupling between orders to the iteration; well-covered data take 10–40,
+/// the benchmark's orbital campaigns 21–22).
 pub const EXPECTED_ITERATIONS: f64 = 25.0;
 
 /// Below this expected time the direct solver is taken whenever it fits (its σ are exact).
@@ -142,14 +163,42 @@ fn human_seconds(s: f64) -> String {
     }
 }
 
-/// Chooses the solver for `observations` rows of `row_length` entries each (the full row the
-/// builder fills; usually u) and `u` free unknowns. `available_bytes` is the memory the
+/// How the iterative solver's passes read the rows, for its time estimate.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum RowPass {
+    /// Scalar rows (plain values, gravity quantities) through the lane kernels, of this many
+    /// entries (the full row length).
+    Lanes(usize),
+    /// Rows built whole (magnetic components, rates, external terms), of this many entries.
+    Full(usize),
+}
+
+impl RowPass {
+    /// Entries per row, and entries per second and thread.
+    fn length_and_rate(self) -> (f64, f64) {
+        match self {
+            RowPass::Lanes(l) => (l as f64, LANE_ROW_ENTRIES_PER_SECOND_PER_THREAD),
+            RowPass::Full(l) => (l as f64, FULL_ROW_ENTRIES_PER_SECOND_PER_THREAD),
+        }
+    }
+}
+
+/// Assembly rate of the rank-k update this CPU runs, GFLOP/s per thread.
+pub fn direct_assembly_gflops_per_thread() -> f64 {
+    if super::rank_update::packed::MicroKernel::avx512().is_some() {
+        DIRECT_ASSEMBLY_GFLOPS_PER_THREAD_AVX512
+    } else {
+        DIRECT_ASSEMBLY_GFLOPS_PER_THREAD_TILED
+    }
+}
+
+/// Chooses the solver for `observations` rows (read as `rows` says) and `u` free unknowns. `available_bytes` is the memory the
 /// process may use (`None`: unknown, not a limit); `threads` the worker threads.
 pub fn plan_solver(
     request: SolverRequest,
     observations: usize,
     u: usize,
-    row_length: usize,
+    rows: RowPass,
     regularization: &Regularization,
     available_bytes: Option<u64>,
     threads: usize,
@@ -158,11 +207,10 @@ pub fn plan_solver(
     let (n, uf) = (observations as f64, u as f64);
     let direct_bytes = super::unknowns_memory_bytes(u as u64, regularization);
     let iterative_bytes = iterative_memory_bytes(u as u64, threads as u64);
-    let direct_seconds =
-        (n * uf * uf + uf * uf * uf) / (DIRECT_GFLOPS_PER_THREAD * 1e9 * threads_f);
-    let iterative_seconds =
-        EXPECTED_ITERATIONS * n * row_length as f64 * ITERATIVE_FLOPS_PER_ROW_ENTRY
-            / (ITERATIVE_GFLOPS_PER_THREAD * 1e9 * threads_f);
+    let direct_seconds = n * uf * uf / (direct_assembly_gflops_per_thread() * 1e9 * threads_f)
+        + uf * uf * uf / (DIRECT_SOLVE_GFLOPS_PER_THREAD * 1e9 * threads_f);
+    let (row_length, entries_per_second) = rows.length_and_rate();
+    let iterative_seconds = EXPECTED_ITERATIONS * n * row_length / (entries_per_second * threads_f);
     let usable = available_bytes.map(|a| (a as f64 * 0.9) as u64);
     let direct_fits = usable.is_none_or(|a| direct_bytes <= a);
     let needs_spectrum = matches!(
@@ -231,14 +279,23 @@ mod tests {
     #[test]
     fn small_problems_go_direct_and_large_ones_iterative() {
         let none = Regularization::None;
-        let small = plan_solver(SolverRequest::Auto, 10_000, 441, 441, &none, None, 2).unwrap();
+        let small = plan_solver(
+            SolverRequest::Auto,
+            10_000,
+            441,
+            RowPass::Lanes(441),
+            &none,
+            None,
+            2,
+        )
+        .unwrap();
         assert_eq!(small.kind, SolverKind::Direct, "{}", small.reason);
         // 10⁶ observations at L = 100: the assembly alone is 10¹⁴ flops
         let big = plan_solver(
             SolverRequest::Auto,
             1_000_000,
             10_201,
-            10_201,
+            RowPass::Lanes(10_201),
             &none,
             None,
             2,
@@ -250,7 +307,7 @@ mod tests {
             SolverRequest::Auto,
             10_000,
             4_000,
-            4_000,
+            RowPass::Lanes(4_000),
             &none,
             Some(1 << 26),
             2,
@@ -260,6 +317,38 @@ mod tests {
         assert!(tight.reason.contains("memory"), "{}", tight.reason);
     }
 
+    /// The time model against the runs it was calibrated from (README, `kugel bench --case
+    /// fit` on 2 AVX-512 cores): within a factor 1.5 of the measured times.
+    #[test]
+    fn time_estimates_match_the_benchmark_runs() {
+        let kaula = Regularization::Kaula { a: 1e-5, p: 2.0 };
+        // 1,000,000 scalar rows to L = 100 by the iterative solver: 114 s
+        let iterative = plan_solver(
+            SolverRequest::Iterative,
+            1_000_000,
+            10_197,
+            RowPass::Lanes(10_201),
+            &kaula,
+            None,
+            2,
+        )
+        .unwrap();
+        let ratio = iterative.iterative_seconds / 114.0;
+        assert!((1.0 / 1.5..1.5).contains(&ratio), "{}", iterative.reason);
+        // rows built whole are far slower than the lane kernels
+        let full = plan_solver(
+            SolverRequest::Iterative,
+            1_000_000,
+            10_197,
+            RowPass::Full(10_201),
+            &kaula,
+            None,
+            2,
+        )
+        .unwrap();
+        assert!(full.iterative_seconds > 10.0 * iterative.iterative_seconds);
+    }
+
     #[test]
     fn gcv_keeps_the_direct_solver() {
         let gcv = Regularization::Gcv;
@@ -267,14 +356,23 @@ mod tests {
             SolverRequest::Auto,
             1_000_000,
             10_201,
-            10_201,
+            RowPass::Lanes(10_201),
             &gcv,
             None,
             2,
         )
         .unwrap();
         assert_eq!(auto.kind, SolverKind::Direct);
-        let err = plan_solver(SolverRequest::Iterative, 100, 16, 16, &gcv, None, 1).unwrap_err();
+        let err = plan_solver(
+            SolverRequest::Iterative,
+            100,
+            16,
+            RowPass::Lanes(16),
+            &gcv,
+            None,
+            1,
+        )
+        .unwrap_err();
         assert!(err.to_string().contains("GCV"), "{err}");
         assert!(SolverRequest::parse("sideways").is_err());
         assert_eq!(
