@@ -194,6 +194,30 @@ pub(super) mod tests {
 
     /// A lower triangle already holding values, and an upper one holding a marker that the
     /// update must leave alone.
+    /// The lower triangle of `got` within 1e-13 of ‖reference‖ (largest lower entry), and the
+    /// strict upper triangle still at `start`'s −7.
+    pub(super) fn assert_lower_matches(got: &Mat<f64>, reference: &Mat<f64>, what: &str) {
+        let u = reference.nrows();
+        let scale = (0..u)
+            .flat_map(|c| (c..u).map(move |r| (r, c)))
+            .fold(0.0f64, |a, (r, c)| a.max(reference[(r, c)].abs()));
+        for c in 0..u {
+            for r in 0..u {
+                if r < c {
+                    assert_eq!(got[(r, c)], -7.0, "upper ({r}, {c}) touched, {what}");
+                    continue;
+                }
+                let d = (got[(r, c)] - reference[(r, c)]).abs();
+                assert!(
+                    d <= 1e-13 * scale,
+                    "N[{r},{c}] {what}: {} vs {} (‖N‖ {scale})",
+                    got[(r, c)],
+                    reference[(r, c)]
+                );
+            }
+        }
+    }
+
     pub(super) fn start(u: usize) -> Mat<f64> {
         Mat::from_fn(u, u, |i, j| {
             if i >= j {
@@ -223,24 +247,7 @@ pub(super) mod tests {
             lower_rank_update_reference(reference.as_mut(), b.as_ref());
             let mut tiled = start(u);
             lower_rank_update_tiles(tiled.as_mut(), b.as_ref(), tile);
-            let scale = (0..u)
-                .flat_map(|c| (c..u).map(move |r| (r, c)))
-                .fold(0.0f64, |a, (r, c)| a.max(reference[(r, c)].abs()));
-            for c in 0..u {
-                for r in 0..u {
-                    if r < c {
-                        assert_eq!(tiled[(r, c)], -7.0, "upper ({r}, {c}) touched, u {u}");
-                        continue;
-                    }
-                    let d = (tiled[(r, c)] - reference[(r, c)]).abs();
-                    assert!(
-                        d <= 1e-13 * scale,
-                        "N[{r},{c}] u {u} k {k} tile {tile}: {} vs {} (‖N‖ {scale})",
-                        tiled[(r, c)],
-                        reference[(r, c)]
-                    );
-                }
-            }
+            assert_lower_matches(&tiled, &reference, &format!("u {u} k {k} tile {tile}"));
         }
     }
 
