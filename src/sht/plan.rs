@@ -276,6 +276,12 @@ impl TransformPlan {
             )));
         }
         for (k, field) in fields.iter().enumerate() {
+            // a branch-free pass over the values (it vectorises) before the indexed search,
+            // which runs only when some value is not finite: the search alone took about 2 %
+            // of a degree-1023 analysis
+            if all_finite(field) {
+                continue;
+            }
             if let Some((idx, v)) = field.indexed_iter().find(|(_, v)| !v.is_finite()) {
                 let which = if fields.len() > 1 {
                     format!("field {}: ", k + 1)
@@ -686,6 +692,20 @@ impl RingScratch {
     }
 }
 
+/// Whether every value of `field` is finite: the values' exponent bits, ANDed with the
+/// all-ones exponent, are all-ones only for infinities and NaNs; OR-ing a flag per value keeps
+/// the loop free of branches.
+fn all_finite(field: &Array2<f64>) -> bool {
+    const EXPONENT: u64 = 0x7ff0_0000_0000_0000;
+    let flag = |v: &f64| u64::from(v.to_bits() & EXPONENT == EXPONENT);
+    match field.as_slice() {
+        Some(values) => values
+            .chunks(1024)
+            .all(|chunk| chunk.iter().fold(0u64, |acc, v| acc | flag(v)) == 0),
+        None => field.iter().fold(0u64, |acc, v| acc | flag(v)) == 0,
+    }
+}
+
 /// Ring spectra of a chunk (row after row, `stride` = L + 1 entries each) rearranged
 /// order-major (the rows' entries of m = 0, then of m = 1, ...): a transpose in tiles of
 /// `ORDERS_PER_TILE` orders, each tile reading a short contiguous run of every row, in parallel.
@@ -779,4 +799,32 @@ fn analysis_chunk_lanes(lmax: usize, lanes: usize, fields: usize) -> usize {
     let w = 32; // a multiple of every path's lane count
     let chunk = (ANALYSIS_CHUNK_BYTES / per_lane).max(w) / w * w;
     chunk.min(lanes.div_ceil(w) * w)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::sht::GaussGrid;
+
+    #[test]
+    fn the_finite_check_finds_every_kind_of_non_finite_value() {
+        let grid = GaussGrid::new(20);
+        let plan = TransformPlan::new(20, &grid).unwrap();
+        let (nlat, nlon) = grid.shape();
+        let clean = Array2::from_shape_fn((nlat, nlon), |(i, j)| (i * nlon + j) as f64 * 1e300);
+        assert!(all_finite(&clean));
+        assert!(all_finite(&clean.t().to_owned()), "any layout");
+        for bad in [f64::NAN, f64::INFINITY, f64::NEG_INFINITY] {
+            for (row, col) in [(0, 0), (nlat - 1, nlon - 1), (7, 13)] {
+                let mut field = clean.clone();
+                field[(row, col)] = bad;
+                assert!(!all_finite(&field));
+                let err = plan.analyse(&field).unwrap_err().to_string();
+                assert!(
+                    err.contains(&format!("row {row}, column {col} is not finite")),
+                    "{err}"
+                );
+            }
+        }
+    }
 }

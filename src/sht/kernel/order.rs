@@ -243,13 +243,24 @@ pub(crate) fn order_major_offset(m: usize, lmax: usize) -> usize {
 
 /// Order-major coefficients to degree `lmax` ([`order_major`]) back in the packed
 /// degree-major layout of `coeffs::packed_index`, written into `packed`.
+/// Degrees run in parallel (rayon), each writing its own row of `packed`.
 pub(crate) fn packed_from_order_major(order_major: &[f64], lmax: usize, packed: &mut [f64]) {
+    use rayon::prelude::*;
+    let mut rows: Vec<&mut [f64]> = Vec::with_capacity(lmax + 1);
+    let mut rest = &mut packed[..packed_index(lmax, lmax) + 1];
     for l in 0..=lmax {
-        let row = &mut packed[packed_index(l, 0)..=packed_index(l, l)];
-        for (m, v) in row.iter_mut().enumerate() {
-            *v = order_major[order_major_offset(m, lmax) + l - m];
-        }
+        let (row, tail) = std::mem::take(&mut rest).split_at_mut(l + 1);
+        rows.push(row);
+        rest = tail;
     }
+    rows.into_par_iter()
+        .with_min_len(16)
+        .enumerate()
+        .for_each(|(l, row)| {
+            for (m, v) in row.iter_mut().enumerate() {
+                *v = order_major[order_major_offset(m, lmax) + l - m];
+            }
+        });
 }
 
 /// Packed (degree-major, `coeffs::packed_index`) coefficients to degree `lmax` rearranged
@@ -688,6 +699,9 @@ mod tests {
             }
         }
         assert_eq!(order_major_offset(lmax, lmax) + 1, packed.len());
+        let mut back = vec![f64::NAN; packed.len()];
+        packed_from_order_major(&om, lmax, &mut back);
+        assert_eq!(back, packed);
     }
 
     /// The vectorised coefficients must be the doubles of `recursion::a_lm` / `b_lm`.
