@@ -548,7 +548,7 @@ fn resize_packed(v: &[f64], keep: usize, n: usize) -> Vec<f64> {
 /// Whether every value is finite, in blocks of 8 without an early exit inside a block, so the
 /// test compiles to vector compares: the common case (no bad value) is one pass at memory
 /// speed; callers that find a bad value search again to name it.
-fn all_finite(values: &[f64]) -> bool {
+pub(crate) fn all_finite(values: &[f64]) -> bool {
     let mut blocks = values.chunks_exact(8);
     let whole = blocks.all(|b| b.iter().fold(true, |ok, v| ok & v.is_finite()));
     whole && blocks.remainder().iter().all(|v| v.is_finite())

@@ -692,17 +692,11 @@ impl RingScratch {
     }
 }
 
-/// Whether every value of `field` is finite: the values' exponent bits, ANDed with the
-/// all-ones exponent, are all-ones only for infinities and NaNs; OR-ing a flag per value keeps
-/// the loop free of branches.
+/// Whether every value of `field` is finite (`coeffs::all_finite` on its values; any layout).
 fn all_finite(field: &Array2<f64>) -> bool {
-    const EXPONENT: u64 = 0x7ff0_0000_0000_0000;
-    let flag = |v: &f64| u64::from(v.to_bits() & EXPONENT == EXPONENT);
     match field.as_slice() {
-        Some(values) => values
-            .chunks(1024)
-            .all(|chunk| chunk.iter().fold(0u64, |acc, v| acc | flag(v)) == 0),
-        None => field.iter().fold(0u64, |acc, v| acc | flag(v)) == 0,
+        Some(values) => crate::coeffs::all_finite(values),
+        None => field.iter().all(|v| v.is_finite()),
     }
 }
 

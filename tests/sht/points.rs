@@ -144,6 +144,37 @@ fn scale_of(values: &[PointValue]) -> f64 {
     })
 }
 
+/// Values and both gradient components of `got` within `rel` × the reference's scale of
+/// `want`, with rel = 4 ε L^1.5 where sin θ < 0.05 (the recursion's own rounding near the
+/// poles) and `interior` elsewhere.
+fn assert_points_match(
+    pts: &[(f64, f64)],
+    got: &[PointValue],
+    want: &[PointValue],
+    lmax: usize,
+    interior: f64,
+    what: &str,
+) {
+    let scale = scale_of(want);
+    for (k, ((theta, _), (a, b))) in pts.iter().zip(got.iter().zip(want)).enumerate() {
+        let rel = if theta.sin() < 0.05 {
+            4.0 * f64::EPSILON * (lmax as f64).powf(1.5)
+        } else {
+            interior
+        };
+        for (x, y) in [
+            (a.value, b.value),
+            (a.d_theta, b.d_theta),
+            (a.d_lambda_over_sin, b.d_lambda_over_sin),
+        ] {
+            assert!(
+                (x - y).abs() <= rel * scale,
+                "{what}point {k} (θ = {theta}): {x} vs {y}"
+            );
+        }
+    }
+}
+
 #[test]
 fn every_instruction_set_path_matches_the_scalar_reference() {
     // Every compiled path of the point kernels against the scalar reference
@@ -164,24 +195,14 @@ fn every_instruction_set_path_matches_the_scalar_reference() {
     for path in KernelPath::available() {
         let got = evaluate_points_with_path(&c, &pts, path).unwrap();
         assert_eq!(got.len(), pts.len());
-        for (k, ((theta, _), (a, b))) in pts.iter().zip(got.iter().zip(&want)).enumerate() {
-            let rel = if theta.sin() < 0.05 {
-                4.0 * f64::EPSILON * (lmax as f64).powf(1.5)
-            } else {
-                1e-13
-            };
-            for (x, y) in [
-                (a.value, b.value),
-                (a.d_theta, b.d_theta),
-                (a.d_lambda_over_sin, b.d_lambda_over_sin),
-            ] {
-                assert!(
-                    (x - y).abs() <= rel * scale,
-                    "{}: point {k} (θ = {theta}): {x} vs {y}",
-                    path.name()
-                );
-            }
-        }
+        assert_points_match(
+            &pts,
+            &got,
+            &want,
+            lmax,
+            1e-13,
+            &format!("{}: ", path.name()),
+        );
         compared += 1;
     }
     assert!(compared >= 1);
@@ -281,22 +302,5 @@ fn high_degree_points_at_and_near_the_poles_match_the_reference() {
     ];
     let got = evaluate_points(&c, &pts).unwrap();
     let want = reference::points(&c, &pts);
-    let scale = scale_of(&want);
-    for (k, ((theta, _), (a, b))) in pts.iter().zip(got.iter().zip(&want)).enumerate() {
-        let rel = if theta.sin() < 0.05 {
-            4.0 * f64::EPSILON * (lmax as f64).powf(1.5)
-        } else {
-            1e-12
-        };
-        for (x, y) in [
-            (a.value, b.value),
-            (a.d_theta, b.d_theta),
-            (a.d_lambda_over_sin, b.d_lambda_over_sin),
-        ] {
-            assert!(
-                (x - y).abs() <= rel * scale,
-                "point {k} (θ = {theta}): {x} vs {y}"
-            );
-        }
-    }
+    assert_points_match(&pts, &got, &want, lmax, 1e-12, "");
 }

@@ -46,8 +46,9 @@ pub struct OrderCoefficients<'a> {
     pub b: &'a [f64],
 }
 
+/// a·b + c, fused (one rounding) when `FMA`.
 #[inline(always)]
-fn fmadd<const FMA: bool>(a: f64, b: f64, c: f64) -> f64 {
+pub(super) fn fmadd<const FMA: bool>(a: f64, b: f64, c: f64) -> f64 {
     if FMA {
         a.mul_add(b, c)
     } else {

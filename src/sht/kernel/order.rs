@@ -16,7 +16,7 @@ use super::lanes::Lane;
 use super::starts::column_starts;
 use super::unsafe_parts::OrderCoefficientSums;
 use crate::coeffs::packed_index;
-use crate::sht::legendre::recursion::f_lm;
+use crate::sht::legendre::recursion::{f_lm, fill_coefficients};
 
 /// The widest set of partial sums per degree an analysis kernel keeps (its `F`).
 pub const MAX_FOLD: usize = 8;
@@ -79,34 +79,10 @@ impl OrderScratch {
             + 32 * 1024
     }
 
-    /// a_lm and b_lm of order m (indexed by degree), the same doubles as
-    /// `recursion::a_lm` / `b_lm`: the same operations on the same exactly represented
-    /// integers (l, m < 2^53), written without branches and with the degree counted in
-    /// doubles, so that the loops vectorise (`#[inline(always)]`: inside a kernel they compile
-    /// with its instruction set; a square root and a division per coefficient were about 8 %
-    /// of a degree-511 synthesis when run two doubles at a time).
+    /// a_lm and b_lm of order m (indexed by degree), `recursion::fill_coefficients`.
     #[inline(always)]
     pub(crate) fn fill_recursion(&mut self, m: usize, lmax: usize) {
-        if m >= lmax {
-            return;
-        }
-        let mf = m as f64;
-        let first = (m + 1) as f64;
-        for (k, a) in self.a[m + 1..=lmax].iter_mut().enumerate() {
-            let lf = first + k as f64;
-            *a = ((2.0 * lf - 1.0) * (2.0 * lf + 1.0) / ((lf - mf) * (lf + mf))).sqrt();
-        }
-        // b_{m+1,m} = 0: the recursion's first step has no second term
-        self.b[m + 1] = 0.0;
-        if m + 2 <= lmax {
-            let first = (m + 2) as f64;
-            for (k, b) in self.b[m + 2..=lmax].iter_mut().enumerate() {
-                let lf = first + k as f64;
-                *b = ((2.0 * lf + 1.0) * (lf + mf - 1.0) * (lf - mf - 1.0)
-                    / ((lf - mf) * (lf + mf) * (2.0 * lf - 3.0)))
-                    .sqrt();
-            }
-        }
+        fill_coefficients(m, lmax, &mut self.a, &mut self.b);
     }
 
     #[inline(always)]
@@ -704,7 +680,8 @@ mod tests {
         assert_eq!(back, packed);
     }
 
-    /// The vectorised coefficients must be the doubles of `recursion::a_lm` / `b_lm`.
+    /// The vectorised coefficients (`recursion::fill_coefficients`) must be the doubles of
+    /// `recursion::a_lm` / `b_lm`.
     #[test]
     fn recursion_coefficients_equal_the_reference_formulas() {
         use crate::sht::legendre::recursion::{a_lm, b_lm};

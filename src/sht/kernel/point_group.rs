@@ -33,8 +33,8 @@
 //! and order was a fifth of the old point synthesis.
 
 use super::block::{
-    accumulate_neighbours, accumulate_values, for_each_chunk_from, Event, NeighbourSums, Nodes,
-    OrderCoefficients, Rows, SynthSums,
+    accumulate_neighbours, accumulate_values, fmadd, for_each_chunk_from, Event, NeighbourSums,
+    Nodes, OrderCoefficients, Rows, SynthSums,
 };
 use super::order::order_major_offset;
 use super::starts::column_starts;
@@ -157,15 +157,6 @@ impl PointScratch {
         PointScratch {
             events: Vec::with_capacity(64),
         }
-    }
-}
-
-#[inline(always)]
-fn fmadd<const FMA: bool>(a: f64, b: f64, c: f64) -> f64 {
-    if FMA {
-        a.mul_add(b, c)
-    } else {
-        a * b + c
     }
 }
 
