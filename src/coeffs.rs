@@ -545,6 +545,30 @@ fn resize_packed(v: &[f64], keep: usize, n: usize) -> Vec<f64> {
     out
 }
 
+/// A packed triangle (`packed_index`) of degree `lmax` as the row-major (L+1) × (L+1) square
+/// indexed [l, m], zeros above the diagonal (m > l): the layout of model files and of
+/// numpy's C and S. Written once, row by row (the l + 1 packed values, then the zeros).
+pub fn square_from_packed(packed: &[f64], lmax: usize) -> Vec<f64> {
+    let n = lmax + 1;
+    let mut out = Vec::with_capacity(n * n);
+    for l in 0..n {
+        let start = packed_index(l, 0);
+        out.extend_from_slice(&packed[start..=start + l]);
+        out.resize(out.len() + n - l - 1, 0.0);
+    }
+    out
+}
+
+/// [`square_from_packed`] of several triangles at once, in parallel (memory-bound copies: at
+/// degree 255 the two squares of a model took about 70 µs one after the other).
+pub fn squares_from_packed(packed: &[&[f64]], lmax: usize) -> Vec<Vec<f64>> {
+    use rayon::prelude::*;
+    packed
+        .par_iter()
+        .map(|p| square_from_packed(p, lmax))
+        .collect()
+}
+
 /// Whether every value is finite, in blocks of 8 without an early exit inside a block, so the
 /// test compiles to vector compares: the common case (no bad value) is one pass at memory
 /// speed; callers that find a bad value search again to name it.
@@ -557,6 +581,27 @@ pub(crate) fn all_finite(values: &[f64]) -> bool {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn the_square_layout_holds_each_coefficient_at_l_m_and_zeros_above() {
+        let lmax = 4;
+        let packed: Vec<f64> = (0..packed_len(lmax)).map(|i| 1.0 + i as f64).collect();
+        let square = square_from_packed(&packed, lmax);
+        for l in 0..=lmax {
+            for m in 0..=lmax {
+                let want = if m <= l {
+                    packed[packed_index(l, m)]
+                } else {
+                    0.0
+                };
+                assert_eq!(square[l * (lmax + 1) + m], want, "{l} {m}");
+            }
+        }
+        assert_eq!(
+            squares_from_packed(&[&packed, &packed], lmax),
+            vec![square.clone(), square]
+        );
+    }
 
     fn sample(lmax: usize) -> Coefficients {
         let mut c = Coefficients::zeros(lmax, Normalization::Geodesy);

@@ -4,6 +4,14 @@ use clap::{Parser, Subcommand};
 use kugel_cli::commands::{self, CommandContext};
 use kugel_cli::outputs::all_or_nothing;
 
+/// Large blocks freed by one step are kept for the next request of their size
+/// (`kugel::retaining_alloc`, as the Python module does): a pipeline or a benchmark that
+/// transforms grids of one shape again and again touches the same pages instead of faulting
+/// in fresh ones for every grid.
+#[global_allocator]
+static ALLOCATOR: kugel::retaining_alloc::RetainingAlloc =
+    kugel::retaining_alloc::RetainingAlloc::new();
+
 /// kugel — spherical-field modelling: transforms, fits, spectra, potential fields, NetCDF.
 #[derive(Debug, Parser)]
 #[command(name = "kugel", version, about, long_about = None)]

@@ -11,7 +11,7 @@ use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
 use crate::errors::IntoPyResult;
-use kugel::coeffs::{packed_index, packed_len, Coefficients, Normalization};
+use kugel::coeffs::{packed_len, Coefficients, Normalization};
 use kugel::error::Error;
 use kugel::io::provenance::Provenance;
 
@@ -38,17 +38,14 @@ fn packed(name: &str, a: ArrayView2<'_, f64>, lmax: usize) -> kugel::Result<Vec<
     Ok(out)
 }
 
-/// A square (L+1, L+1) array, zero above the diagonal, from packed values.
-fn square(packed_values: &[f64], lmax: usize) -> Array2<f64> {
+/// The square (L+1, L+1) arrays of several packed triangles, made in parallel
+/// (`coeffs::squares_from_packed`).
+fn squares(packed: &[&[f64]], lmax: usize) -> Vec<Array2<f64>> {
     let n = lmax + 1;
-    // written once, row by row: the l + 1 packed values, then the zeros above the diagonal
-    let mut out = Vec::with_capacity(n * n);
-    for l in 0..n {
-        let start = packed_index(l, 0);
-        out.extend_from_slice(&packed_values[start..=start + l]);
-        out.resize(out.len() + n - l - 1, 0.0);
-    }
-    Array2::from_shape_vec((n, n), out).expect("(L+1)² values")
+    kugel::coeffs::squares_from_packed(packed, lmax)
+        .into_iter()
+        .map(|v| Array2::from_shape_vec((n, n), v).expect("(L+1)² values"))
+        .collect()
 }
 
 fn array_attr<'py>(
@@ -116,23 +113,20 @@ pub fn coefficients_of(model: &Bound<'_, PyAny>) -> PyResult<Coefficients> {
 pub fn model_dict<'py>(py: Python<'py>, coeffs: &Coefficients) -> PyResult<Bound<'py, PyDict>> {
     let lmax = coeffs.lmax();
     let d = PyDict::new(py);
-    d.set_item(
-        "C",
-        PyArray2::from_owned_array(py, square(coeffs.c_packed(), lmax)),
-    )?;
-    d.set_item(
-        "S",
-        PyArray2::from_owned_array(py, square(coeffs.s_packed(), lmax)),
-    )?;
-    match coeffs.sigmas() {
-        Some((cs, ss)) => {
-            d.set_item("C_sigma", PyArray2::from_owned_array(py, square(cs, lmax)))?;
-            d.set_item("S_sigma", PyArray2::from_owned_array(py, square(ss, lmax)))?;
-        }
-        None => {
-            d.set_item("C_sigma", py.None())?;
-            d.set_item("S_sigma", py.None())?;
-        }
+    let mut packed = vec![coeffs.c_packed(), coeffs.s_packed()];
+    if let Some((cs, ss)) = coeffs.sigmas() {
+        packed.extend([cs, ss]);
+    }
+    let mut arrays = py.detach(|| squares(&packed, lmax)).into_iter();
+    let mut next = || PyArray2::from_owned_array(py, arrays.next().expect("one per triangle"));
+    d.set_item("C", next())?;
+    d.set_item("S", next())?;
+    if coeffs.sigmas().is_some() {
+        d.set_item("C_sigma", next())?;
+        d.set_item("S_sigma", next())?;
+    } else {
+        d.set_item("C_sigma", py.None())?;
+        d.set_item("S_sigma", py.None())?;
     }
     d.set_item("normalization", coeffs.normalization.name())?;
     d.set_item("condon_shortley_phase", coeffs.condon_shortley)?;

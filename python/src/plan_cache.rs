@@ -85,7 +85,8 @@ static PLANS: RecentCache<(usize, Grid), TransformPlan> = RecentCache::new();
 /// The bits of the latitude and longitude coordinate values.
 type CoordinateBits = (Vec<u64>, Vec<u64>);
 /// The axes recognised from them.
-type Axes = (LatitudeAxis, LongitudeAxis);
+/// The latitude and longitude axes of a recognised layout.
+pub type Axes = (LatitudeAxis, LongitudeAxis);
 static LAYOUTS: RecentCache<CoordinateBits, Axes> = RecentCache::new();
 
 /// The engine grid named by `spec`.

@@ -5,6 +5,7 @@
 //! of one shape builds them once.
 
 use std::path::PathBuf;
+use std::sync::Arc;
 
 use numpy::{PyArray1, PyArray2, PyReadonlyArray1, PyReadonlyArray2};
 use pyo3::prelude::*;
@@ -13,15 +14,16 @@ use pyo3::types::{PyDict, PyList};
 use crate::errors::IntoPyResult;
 use crate::field_options::{target_surface, FieldOptions};
 use crate::model::{coefficients_of, model_dict};
-use crate::plan_cache::{self, GridSpec};
+use crate::plan_cache::{self, Axes, GridSpec};
 use kugel::coeffs::{Coefficients, Normalization};
 use kugel::error::Error;
 use kugel::field::cautions;
 use kugel::field::synthesis::{longitude_densified, synthesize_on_densified_plan};
-use kugel::io::grid::layout::{engine_grid, engine_order_field, first_infinite};
-use kugel::io::grid::read::UserGrid;
+use kugel::io::grid::layout::{engine_grid, engine_order_field, engine_order_view, first_infinite};
+use kugel::io::grid::read::{check_grid_degree, UserGrid};
 use kugel::io::grid::write::grid_kind_name;
 use kugel::progress::Silent;
+use kugel::sht::GridKind;
 use kugel::spectral::continuation::DEFAULT_MAX_AMPLIFICATION;
 
 /// Mean Earth radius (IUGG R1 = 6 371 008.8 m rounded; common practice): the reference radius
@@ -38,15 +40,15 @@ struct GridSource {
     lon_name: String,
 }
 
-/// Reads a user's array on its coordinates into engine order and checks it as the command
-/// line's grid reader does (layout, non-finite values, masked cells).
-fn user_grid(
+/// The layout of a user's array from its coordinates, after checking that its shape matches
+/// them (as the command line's grid reader does).
+fn user_axes(
     field: numpy::ndarray::ArrayView2<'_, f64>,
     lat_deg: &[f64],
     lon_deg: &[f64],
     lat_first: bool,
     src: &GridSource,
-) -> kugel::Result<UserGrid> {
+) -> kugel::Result<Arc<Axes>> {
     let path = PathBuf::from(&src.source);
     let name = &src.variable;
     let with_var = |e: Error| match e {
@@ -70,25 +72,46 @@ fn user_grid(
             expected
         )));
     }
-    let axes = plan_cache::layout(
+    plan_cache::layout(
         lat_deg,
         lon_deg,
         &format!("latitude coordinate '{}'", src.lat_name),
         &format!("longitude coordinate '{}'", src.lon_name),
     )
-    .map_err(with_var)?;
+    .map_err(with_var)
+}
+
+/// The user's values by (latitude row, longitude column) of their coordinates.
+fn by_lat_lon(
+    field: numpy::ndarray::ArrayView2<'_, f64>,
+    lat_first: bool,
+) -> numpy::ndarray::ArrayView2<'_, f64> {
+    if lat_first {
+        field
+    } else {
+        field.reversed_axes()
+    }
+}
+
+/// Reads a user's array on its coordinates into engine order and checks it as the command
+/// line's grid reader does (non-finite values, masked cells): the general path, which copies.
+fn user_grid(
+    field: numpy::ndarray::ArrayView2<'_, f64>,
+    axes: &Axes,
+    lat_deg: &[f64],
+    lon_deg: &[f64],
+    lat_first: bool,
+    src: &GridSource,
+) -> kugel::Result<UserGrid> {
+    let path = PathBuf::from(&src.source);
+    let name = &src.variable;
     let (lat_axis, lon_axis) = (&axes.0, &axes.1);
     let mut notes = Vec::new();
     if lon_axis.dropped_wrap_column {
         notes.push("dropped the duplicated wrap-around longitude column".to_string());
     }
     let grid = engine_grid(lat_axis, lon_axis);
-    let by_lat_lon = if lat_first {
-        field
-    } else {
-        field.reversed_axes()
-    };
-    let values = engine_order_field(lat_axis, lon_axis, by_lat_lon);
+    let values = engine_order_field(lat_axis, lon_axis, by_lat_lon(field, lat_first));
     if let Some((i, k)) = first_infinite(&values, lat_axis, lon_axis) {
         return Err(Error::format(
             &path,
@@ -156,30 +179,51 @@ pub fn analyze_grid<'py>(
     let lon = lon_deg.as_array().to_vec();
     let (model, notes) = py
         .detach(|| -> kugel::Result<(Coefficients, Vec<String>)> {
-            let user = user_grid(view, &lat, &lon, lat_first, &src)?;
-            user.require_complete()?;
-            let lmax = lmax.unwrap_or(user.grid.max_exact_degree);
-            user.check_degree(lmax)?;
-            let plan = plan_cache::plan(lmax, &user.grid)?;
-            let mut model = plan.analyse(&user.field)?;
+            let axes = user_axes(view, &lat, &lon, lat_first, &src)?;
+            // A clean array whose layout differs from the engine's at most in the row order
+            // is analysed where it lies (the plan reads its rows through their stride); any
+            // other goes through the grid reader's checks and its one reordering copy. Both
+            // give the same doubles: the same values reach the same transform.
+            let general = || -> kugel::Result<(Coefficients, GridKind, Vec<String>)> {
+                let user = user_grid(view, &axes, &lat, &lon, lat_first, &src)?;
+                user.require_complete()?;
+                let lmax = lmax.unwrap_or(user.grid.max_exact_degree);
+                user.check_degree(lmax)?;
+                let plan = plan_cache::plan(lmax, &user.grid)?;
+                Ok((plan.analyse(&user.field)?, user.grid.kind, user.notes))
+            };
+            let in_place = engine_order_view(&axes.0, &axes.1, by_lat_lon(view, lat_first));
+            let (mut model, grid_kind, notes) = match in_place {
+                Some(values) => {
+                    let grid = engine_grid(&axes.0, &axes.1);
+                    let lmax = lmax.unwrap_or(grid.max_exact_degree);
+                    check_grid_degree(&PathBuf::from(&src.source), &grid, lmax)?;
+                    let plan = plan_cache::plan(lmax, &grid)?;
+                    match plan.analyse_view_if_finite(values)? {
+                        Some(model) => (model, grid.kind, Vec::new()),
+                        // a value the grid reader masks or refuses: its path names it
+                        None => general()?,
+                    }
+                }
+                None => general()?,
+            };
             model.reference_radius_m = reference_radius_m.unwrap_or(EARTH_MEAN_RADIUS_M);
-            model.units = user.units.clone();
+            model.units = src.units.clone();
             model.attributes.insert(
                 "title".into(),
-                format!("analysis of '{}' from {}", user.variable, src.source),
+                format!("analysis of '{}' from {}", src.variable, src.source),
             );
             model
                 .attributes
-                .insert("kugel_source_variable".into(), user.variable.clone());
-            model.attributes.insert(
-                "kugel_source_grid".into(),
-                grid_kind_name(user.grid.kind).into(),
-            );
+                .insert("kugel_source_variable".into(), src.variable.clone());
+            model
+                .attributes
+                .insert("kugel_source_grid".into(), grid_kind_name(grid_kind).into());
             let phase = condon_shortley.unwrap_or(normalization.default_condon_shortley());
             if (model.normalization, model.condon_shortley) != (normalization, phase) {
                 model = model.converted(normalization, phase)?;
             }
-            Ok((model, user.notes))
+            Ok((model, notes))
         })
         .py_err()?;
     Ok((model_dict(py, &model)?, notes))

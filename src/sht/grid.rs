@@ -4,7 +4,18 @@
 //! from `lon0_rad` eastwards with spacing 2π/nlon (docs/conventions.md §1).
 
 use crate::error::{Error, Result};
+use ndarray::ArrayView2;
 use std::f64::consts::PI;
+
+/// Whether every value of a field is finite, in any layout: row by row with
+/// `coeffs::all_finite` (vector compares, no early exit inside a block of eight), so the
+/// common case, a clean field, costs one pass at memory speed.
+pub fn all_finite_field(field: ArrayView2<'_, f64>) -> bool {
+    field.rows().into_iter().all(|row| match row.as_slice() {
+        Some(values) => crate::coeffs::all_finite(values),
+        None => row.iter().all(|v| v.is_finite()),
+    })
+}
 
 /// How a grid's latitudes were laid out; decides which quadrature is exact on it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

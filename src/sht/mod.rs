@@ -24,6 +24,7 @@ pub mod budget;
 pub mod equiangular;
 pub mod gauss_legendre;
 pub mod grid;
+mod kept_buffers;
 mod kernel;
 pub mod legendre;
 pub mod plan;

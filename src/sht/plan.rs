@@ -22,7 +22,7 @@ use std::borrow::Cow;
 use std::ops::Range;
 use std::sync::Arc;
 
-use ndarray::Array2;
+use ndarray::{Array2, ArrayView2};
 use rayon::prelude::*;
 use realfft::num_complex::Complex64;
 use realfft::{ComplexToReal, RealFftPlanner, RealToComplex};
@@ -31,7 +31,8 @@ use crate::coeffs::{packed_len, Coefficients, Normalization};
 use crate::error::{Error, Result};
 use crate::memory;
 
-use super::grid::Grid;
+use super::grid::{all_finite_field, Grid};
+use super::kept_buffers::KeptSpectra;
 use super::kernel::{
     analysis_block_bytes, build_lanes, is_symmetric, order_major, packed_from_order_major,
     staging_bytes, AnalysisJob, CoefficientSums, ColumnStarts, FourierColumns, KernelPath,
@@ -40,8 +41,24 @@ use super::kernel::{
 use super::legendre::recursion::sectoral_factors;
 use super::legendre::{order_one_over_sin_at_pole, Pole};
 
-/// Budget for the ring spectra held at once during analysis.
+/// Budget for the ring spectra held at once during analysis (both copies, all fields).
+///
+/// Measured on the 2-core benchmark machine (December 2026): at L = 10,800 chunks of 16 MiB
+/// (128 lanes, 43 chunks) took 38–40 s per analysis against 32 s with this budget (352
+/// lanes, 16 chunks); at L = 1023 and 2047 the two budgets measured alike once the kernels'
+/// buffers were cache-line aligned and the command line kept freed pages. Up to about
+/// L = 1400 one chunk holds every ring and the plan keeps its buffers (`sht::kept_buffers`).
 const ANALYSIS_CHUNK_BYTES: usize = 256 << 20;
+
+/// The budget of an analysis of several fields at once: the plan keeps its buffers
+/// (`kept_buffers::MAX_KEPT_BYTES`), where buffers of the single-field budget, K times the
+/// spectra per lane, were made afresh every call (eight fields at L = 1023: 0.38 s per
+/// analysis with 256 MiB chunks, 0.32 s with 64 MiB).
+const MANY_FIELD_CHUNK_BYTES: usize = 64 << 20;
+
+/// The fewest lanes an analysis chunk holds (one block of the widest kernel), whatever the
+/// budget.
+const MIN_CHUNK_LANES: usize = 32;
 
 /// Transform plan: grid, degree, lane layout, FFT plans and the kernels chosen for this CPU.
 /// `Send + Sync`; build once, reuse for every field of this shape.
@@ -58,6 +75,8 @@ pub struct TransformPlan {
     /// Where every (order, block of lanes) column starts, found once (`None` when the table
     /// would be too large; see `kernel::column_starts`).
     column_starts: Option<ColumnStarts>,
+    /// The ring spectra buffers of the last analysis, for the next (`sht::kept_buffers`).
+    kept_spectra: KeptSpectra,
 }
 
 impl TransformPlan {
@@ -109,6 +128,7 @@ impl TransformPlan {
                 .collect(),
             kernels: KernelSet::detect(),
             column_starts: None,
+            kept_spectra: KeptSpectra::default(),
         };
         plan.find_column_starts();
         Ok(plan)
@@ -243,17 +263,82 @@ impl TransformPlan {
         Ok(out.pop().expect("one field in, one out"))
     }
 
+    /// [`TransformPlan::analyse`] of a view: any row stride (a grid stored south to north is
+    /// the view with its rows reversed, `slice(s![..;-1, ..])`), read in place when each row is
+    /// contiguous, so a caller whose layout differs from the engine's only in the row order
+    /// needs no reordering copy. Bit-identical to [`TransformPlan::analyse`] of the same
+    /// values in engine order.
+    pub fn analyse_view(&self, field: ArrayView2<'_, f64>) -> Result<Coefficients> {
+        let mut out = self.analyse_views(&[field], 0..self.grid.nlat())?;
+        Ok(out.pop().expect("one field in, one out"))
+    }
+
     /// [`TransformPlan::analyse_rings`] of several fields in one pass.
     pub fn analyse_rings_many(
         &self,
         fields: &[&Array2<f64>],
         rings: Range<usize>,
     ) -> Result<Vec<Coefficients>> {
+        let views: Vec<ArrayView2<'_, f64>> = fields.iter().map(|f| f.view()).collect();
+        self.analyse_views(&views, rings)
+    }
+
+    /// [`TransformPlan::analyse_view`] of a field that may hold non-finite values: `Ok(None)`
+    /// when it does (found before any work, so that the caller can name the value in its
+    /// own terms), else the analysis. For callers that would otherwise check the values
+    /// first and pay a second pass over them.
+    pub fn analyse_view_if_finite(
+        &self,
+        field: ArrayView2<'_, f64>,
+    ) -> Result<Option<Coefficients>> {
+        let rings = 0..self.grid.nlat();
+        self.check_analysis_inputs(&[field], &rings)?;
+        if !all_finite_field(field) {
+            return Ok(None);
+        }
+        let mut out = self.analyse_finite_views(&[field], rings)?;
+        Ok(out.pop())
+    }
+
+    /// [`TransformPlan::analyse_rings_many`] of views (see [`TransformPlan::analyse_view`]).
+    pub fn analyse_views(
+        &self,
+        fields: &[ArrayView2<'_, f64>],
+        rings: Range<usize>,
+    ) -> Result<Vec<Coefficients>> {
         if fields.is_empty() {
             return Ok(Vec::new());
         }
+        self.check_analysis_inputs(fields, &rings)?;
+        for (k, field) in fields.iter().enumerate() {
+            // a branch-free pass over the values (it vectorises) before the indexed search,
+            // which runs only when some value is not finite: the search alone took about 2 %
+            // of a degree-1023 analysis
+            if all_finite_field(field.view()) {
+                continue;
+            }
+            if let Some((idx, v)) = field.indexed_iter().find(|(_, v)| !v.is_finite()) {
+                let which = if fields.len() > 1 {
+                    format!("field {}: ", k + 1)
+                } else {
+                    String::new()
+                };
+                return Err(Error::invalid(format!(
+                    "{which}field value at row {}, column {} is not finite ({v}); mask or fill gaps before analysis",
+                    idx.0, idx.1
+                )));
+            }
+        }
+        self.analyse_finite_views(fields, rings)
+    }
+
+    /// The shapes, the ring range and the plan's degree against the grid's quadrature.
+    fn check_analysis_inputs(
+        &self,
+        fields: &[ArrayView2<'_, f64>],
+        rings: &Range<usize>,
+    ) -> Result<()> {
         let nlat = self.grid.nlat();
-        let nlon = self.grid.nlon;
         for (k, field) in fields.iter().enumerate() {
             let (rows, cols) = field.dim();
             self.grid.check_shape(rows, cols).map_err(|e| match e {
@@ -275,25 +360,17 @@ impl TransformPlan {
                 self.grid.max_exact_degree, self.lmax, self.grid.max_exact_degree
             )));
         }
-        for (k, field) in fields.iter().enumerate() {
-            // a branch-free pass over the values (it vectorises) before the indexed search,
-            // which runs only when some value is not finite: the search alone took about 2 %
-            // of a degree-1023 analysis
-            if all_finite(field) {
-                continue;
-            }
-            if let Some((idx, v)) = field.indexed_iter().find(|(_, v)| !v.is_finite()) {
-                let which = if fields.len() > 1 {
-                    format!("field {}: ", k + 1)
-                } else {
-                    String::new()
-                };
-                return Err(Error::invalid(format!(
-                    "{which}field value at row {}, column {} is not finite ({v}); mask or fill gaps before analysis",
-                    idx.0, idx.1
-                )));
-            }
-        }
+        Ok(())
+    }
+
+    /// The analysis of checked fields ([`TransformPlan::check_analysis_inputs`]) whose values
+    /// are all finite.
+    fn analyse_finite_views(
+        &self,
+        fields: &[ArrayView2<'_, f64>],
+        rings: Range<usize>,
+    ) -> Result<Vec<Coefficients>> {
+        let (nlat, nlon) = (self.grid.nlat(), self.grid.nlon);
         let nf = fields.len();
         memory::check_fits(
             &format!(
@@ -311,10 +388,19 @@ impl TransformPlan {
         // the table describes the plan's own lanes only
         let starts = self.column_starts.as_ref().filter(|_| all_rings);
         let w = self.kernels.path().lanes();
-        let fields: Vec<_> = fields.iter().map(|f| f.as_standard_layout()).collect();
-        let data: Vec<&[f64]> = fields
+        // a field whose rows are not contiguous (a transposed or column-strided view) is copied
+        // once; every other field is read row by row where it lies
+        let copies: Vec<Option<Array2<f64>>> = fields
             .iter()
-            .map(|f| f.as_slice().expect("standard layout"))
+            .map(|f| (!rows_are_contiguous(f)).then(|| f.as_standard_layout().into_owned()))
+            .collect();
+        let data: Vec<Vec<&[f64]>> = fields
+            .iter()
+            .zip(&copies)
+            .map(|(f, copy)| match copy {
+                Some(owned) => ring_rows(owned.view()),
+                None => ring_rows(f.view()),
+            })
             .collect();
         let lmax = self.lmax;
         let stride = lmax + 1;
@@ -324,8 +410,9 @@ impl TransformPlan {
         let chunk_lanes = analysis_chunk_lanes(lmax, lanes.len(), nf);
         let per_field = chunk_lanes.min(lanes.len()) * 2 * stride;
         // ring spectra as the FFTs leave them (ring after ring), and order-major for the kernels
-        let mut spectra = vec![Complex64::new(0.0, 0.0); nf * per_field];
-        let mut by_order = vec![Complex64::new(0.0, 0.0); nf * per_field];
+        let mut buffers = self.kept_spectra.take(nf * per_field);
+        let spectra = &mut buffers.by_ring[..nf * per_field];
+        let by_order = &mut buffers.by_order[..nf * per_field];
         let scale = 1.0 / (2.0 * nlon as f64);
         let mut sums = CoefficientSums::new(
             order_major_sums
@@ -345,9 +432,9 @@ impl TransformPlan {
                         || RingScratch::new(&*self.forward, &*self.inverse),
                         |rs, (dst, lane)| {
                             let (north, south) = dst.split_at_mut(stride);
-                            self.ring_spectrum(data[k], lane.north, scale, rs, north);
+                            self.ring_spectrum(&data[k], lane.north, scale, rs, north);
                             match lane.south {
-                                Some(row) => self.ring_spectrum(data[k], row, scale, rs, south),
+                                Some(row) => self.ring_spectrum(&data[k], row, scale, rs, south),
                                 None => {
                                     south.iter_mut().for_each(|z| *z = Complex64::new(0.0, 0.0))
                                 }
@@ -379,6 +466,7 @@ impl TransformPlan {
             );
         }
         drop(sums);
+        self.kept_spectra.give_back(buffers);
         let out = order_major_sums
             .iter()
             .map(|(c_om, s_om)| {
@@ -395,14 +483,13 @@ impl TransformPlan {
     /// H_m = w_j/(2 nlon) e^{−imλ_0} X_m for one row (X = the row's forward real FFT).
     fn ring_spectrum(
         &self,
-        data: &[f64],
+        rows: &[&[f64]],
         row: usize,
         scale: f64,
         rs: &mut RingScratch,
         out: &mut [Complex64],
     ) {
-        let nlon = self.grid.nlon;
-        rs.real.copy_from_slice(&data[row * nlon..(row + 1) * nlon]);
+        rs.real.copy_from_slice(rows[row]);
         self.forward
             .process_with_scratch(&mut rs.real, &mut rs.spectrum, &mut rs.fft_scratch)
             .expect("buffer sizes come from the same plan");
@@ -692,12 +779,21 @@ impl RingScratch {
     }
 }
 
-/// Whether every value of `field` is finite (`coeffs::all_finite` on its values; any layout).
-fn all_finite(field: &Array2<f64>) -> bool {
-    match field.as_slice() {
-        Some(values) => crate::coeffs::all_finite(values),
-        None => field.iter().all(|v| v.is_finite()),
-    }
+/// Whether every row of `field` is one contiguous run of memory (any row stride, either sign).
+fn rows_are_contiguous(field: &ArrayView2<'_, f64>) -> bool {
+    field.ncols() <= 1 || field.strides()[1] == 1
+}
+
+/// The rows of a field whose rows are contiguous ([`rows_are_contiguous`]) as slices.
+fn ring_rows<'a>(field: ArrayView2<'a, f64>) -> Vec<&'a [f64]> {
+    (0..field.nrows())
+        .map(|i| {
+            field
+                .index_axis_move(ndarray::Axis(0), i)
+                .to_slice()
+                .expect("contiguous rows")
+        })
+        .collect()
 }
 
 /// Ring spectra of a chunk (row after row, `stride` = L + 1 entries each) rearranged
@@ -786,12 +882,18 @@ pub fn analysis_memory_bytes_many(lmax: usize, nlon: usize, lanes: usize, fields
 }
 
 /// Lanes whose ring spectra an analysis of `fields` fields holds at once (twice: as the FFTs
-/// leave them and order-major): as many as fit in `ANALYSIS_CHUNK_BYTES` for all fields
-/// together, a multiple of 32, no more than the grid has.
+/// leave them and order-major): as many as fit in `ANALYSIS_CHUNK_BYTES` (one field) or
+/// `MANY_FIELD_CHUNK_BYTES` (several) for all fields together but at least `MIN_CHUNK_LANES`,
+/// a multiple of 32, no more than the grid has.
 fn analysis_chunk_lanes(lmax: usize, lanes: usize, fields: usize) -> usize {
     let per_lane = 2 * 2 * (lmax + 1) * 16 * fields.max(1);
     let w = 32; // a multiple of every path's lane count
-    let chunk = (ANALYSIS_CHUNK_BYTES / per_lane).max(w) / w * w;
+    let budget = if fields > 1 {
+        MANY_FIELD_CHUNK_BYTES
+    } else {
+        ANALYSIS_CHUNK_BYTES
+    };
+    let chunk = (budget / per_lane).max(MIN_CHUNK_LANES) / w * w;
     chunk.min(lanes.div_ceil(w) * w)
 }
 
@@ -800,19 +902,69 @@ mod tests {
     use super::*;
     use crate::sht::GaussGrid;
 
+    /// A grid stored south to north, handed over as the row-reversed view, must be analysed
+    /// in place to the bits of its engine-order copy; a transposed view (rows not contiguous)
+    /// is copied and agrees too; a non-finite value makes `analyse_view_if_finite` decline.
+    #[test]
+    fn views_are_analysed_to_the_bits_of_their_engine_order_copy() {
+        use ndarray::s;
+        let grid = GaussGrid::new(40);
+        let plan = TransformPlan::new(40, &grid).unwrap();
+        let (nlat, nlon) = grid.shape();
+        let field = Array2::from_shape_fn((nlat, nlon), |(i, j)| ((7 * i + 3 * j) as f64).sin());
+        let want = plan.analyse(&field).unwrap();
+        let same = |got: &Coefficients| {
+            got.c_packed() == want.c_packed() && got.s_packed() == want.s_packed()
+        };
+        let south_to_north = Array2::from_shape_fn((nlat, nlon), |(i, j)| field[(nlat - 1 - i, j)]);
+        let reversed = south_to_north.slice(s![..;-1, ..]);
+        assert!(reversed.strides()[0] < 0);
+        assert!(same(&plan.analyse_view(reversed).unwrap()));
+        assert!(same(
+            &plan.analyse_view_if_finite(reversed).unwrap().unwrap()
+        ));
+        let transposed = field.t().to_owned();
+        assert!(same(&plan.analyse_view(transposed.t()).unwrap()));
+        let mut bad = field.clone();
+        bad[(3, 4)] = f64::NAN;
+        assert!(plan.analyse_view_if_finite(bad.view()).unwrap().is_none());
+        assert!(plan.analyse_view(bad.view()).is_err());
+    }
+
+    /// The spectra buffers a plan keeps between analyses (`sht::kept_buffers`) must not
+    /// carry anything from one field into the next: a second field analysed after a first
+    /// equals the same field on a fresh plan, bit for bit.
+    #[test]
+    fn kept_spectra_buffers_carry_nothing_between_analyses() {
+        let grid = GaussGrid::new(33);
+        let reused = TransformPlan::new(33, &grid).unwrap();
+        let (nlat, nlon) = grid.shape();
+        let first = Array2::from_shape_fn((nlat, nlon), |(i, j)| 1e3 * ((i + 2 * j) as f64).cos());
+        let second = Array2::from_shape_fn((nlat, nlon), |(i, j)| ((3 * i + j) as f64).sin());
+        reused.analyse(&first).unwrap();
+        let again = reused.analyse(&second).unwrap();
+        let fresh = TransformPlan::new(33, &grid)
+            .unwrap()
+            .analyse(&second)
+            .unwrap();
+        assert_eq!(again.c_packed(), fresh.c_packed());
+        assert_eq!(again.s_packed(), fresh.s_packed());
+        assert!(reused.kept_spectra.bytes() > 0, "the buffers were kept");
+    }
+
     #[test]
     fn the_finite_check_finds_every_kind_of_non_finite_value() {
         let grid = GaussGrid::new(20);
         let plan = TransformPlan::new(20, &grid).unwrap();
         let (nlat, nlon) = grid.shape();
         let clean = Array2::from_shape_fn((nlat, nlon), |(i, j)| (i * nlon + j) as f64 * 1e300);
-        assert!(all_finite(&clean));
-        assert!(all_finite(&clean.t().to_owned()), "any layout");
+        assert!(all_finite_field(clean.view()));
+        assert!(all_finite_field(clean.t()), "any layout");
         for bad in [f64::NAN, f64::INFINITY, f64::NEG_INFINITY] {
             for (row, col) in [(0, 0), (nlat - 1, nlon - 1), (7, 13)] {
                 let mut field = clean.clone();
                 field[(row, col)] = bad;
-                assert!(!all_finite(&field));
+                assert!(!all_finite_field(field.view()));
                 let err = plan.analyse(&field).unwrap_err().to_string();
                 assert!(
                     err.contains(&format!("row {row}, column {col} is not finite")),

@@ -300,6 +300,37 @@ pub fn engine_order_field(
     Array2::from_shape_vec((nlat, nlon), out).expect("nlat rows of nlon values each")
 }
 
+/// The engine-order field as a view of the user's values, without a copy, when the engine
+/// order is the values' own order or that order with the rows reversed (a grid stored south
+/// to north) and the columns keep their order: `None` for every other layout (rotated or
+/// descending longitudes, a dropped wrap-around column), which [`engine_order_field`] copies.
+/// `values` as for [`engine_order_field`]; the view holds the same value at every engine
+/// index as that copy.
+pub fn engine_order_view<'a>(
+    lat: &LatitudeAxis,
+    lon: &LongitudeAxis,
+    values: ArrayView2<'a, f64>,
+) -> Option<ArrayView2<'a, f64>> {
+    let (nlat, ncols) = values.dim();
+    let columns_in_order =
+        lon.order.len() == ncols && lon.order.iter().enumerate().all(|(k, &c)| c == k);
+    if !columns_in_order || lat.order.len() != nlat {
+        return None;
+    }
+    if lat.order.iter().enumerate().all(|(i, &r)| r == i) {
+        Some(values)
+    } else if lat
+        .order
+        .iter()
+        .enumerate()
+        .all(|(i, &r)| r == nlat - 1 - i)
+    {
+        Some(values.slice_move(s![..;-1, ..]))
+    } else {
+        None
+    }
+}
+
 /// Maximal runs of engine columns whose file columns are consecutive, as (first engine
 /// column, first file column, length).
 fn column_runs(order: &[usize]) -> Vec<(usize, usize, usize)> {
@@ -345,6 +376,32 @@ pub fn first_infinite(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// The view must hold what the copy holds, and exist only for the layouts it can serve.
+    #[test]
+    fn engine_order_view_equals_the_copy_where_it_exists() {
+        let values = Array2::from_shape_fn((3, 4), |(i, k)| (10 * i + k) as f64);
+        let lon_east = longitude_axis(&[0.0, 90.0, 180.0, 270.0], "lon").unwrap();
+        // columns from 180° east keep their order (the grid's first longitude is 180°)
+        let lon_from_180 = longitude_axis(&[180.0, 270.0, 0.0, 90.0], "lon").unwrap();
+        let lon_west = longitude_axis(&[270.0, 180.0, 90.0, 0.0], "lon").unwrap();
+        for lat_deg in [[-60.0, 0.0, 60.0], [60.0, 0.0, -60.0]] {
+            let lat = latitude_axis(&lat_deg, "lat", false).unwrap();
+            for lon in [&lon_east, &lon_from_180] {
+                let copy = engine_order_field(&lat, lon, values.view());
+                let view = engine_order_view(&lat, lon, values.view()).expect("a view");
+                assert_eq!(view, copy);
+            }
+            // descending longitudes need the copy
+            let copy = engine_order_field(&lat, &lon_west, values.view());
+            assert_eq!(copy[[0, 0]], values[[lat.order[0], 3]]);
+            assert!(engine_order_view(&lat, &lon_west, values.view()).is_none());
+        }
+        let wrapped = longitude_axis(&[0.0, 120.0, 240.0, 360.0], "lon").unwrap();
+        assert!(wrapped.dropped_wrap_column);
+        let lat = latitude_axis(&[-60.0, 0.0, 60.0], "lat", false).unwrap();
+        assert!(engine_order_view(&lat, &wrapped, values.view()).is_none());
+    }
 
     #[test]
     fn engine_order_copies_runs_of_columns_in_order() {

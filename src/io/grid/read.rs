@@ -80,26 +80,31 @@ impl UserGrid {
 
     /// Refuses a band limit the layout cannot analyse exactly, stating the limit.
     pub fn check_degree(&self, lmax: usize) -> Result<()> {
-        let g = &self.grid;
-        if lmax <= g.max_exact_degree {
-            return Ok(());
-        }
-        let rule = match g.kind {
-            GridKind::Gauss => "Gauss–Legendre",
-            GridKind::EquiangularNodes => "Clenshaw–Curtis (node-registered with poles)",
-            GridKind::EquiangularCells => "Fejér (cell-centred)",
-            GridKind::Custom => "custom",
-        };
-        Err(Error::invalid(format!(
-            "{}: this {} x {} grid with {rule} quadrature is analysed exactly up to degree {} only; \
-             asked for degree {lmax}. Use --lmax {} or a finer grid",
-            self.path.display(),
-            g.nlat(),
-            g.nlon,
-            g.max_exact_degree,
-            g.max_exact_degree
-        )))
+        check_grid_degree(&self.path, &self.grid, lmax)
     }
+}
+
+/// Refuses a band limit `lmax` beyond what the quadrature of `g`, read from `path`, analyses
+/// exactly, naming the rule and the highest degree it allows.
+pub fn check_grid_degree(path: &Path, g: &Grid, lmax: usize) -> Result<()> {
+    if lmax <= g.max_exact_degree {
+        return Ok(());
+    }
+    let rule = match g.kind {
+        GridKind::Gauss => "Gauss–Legendre",
+        GridKind::EquiangularNodes => "Clenshaw–Curtis (node-registered with poles)",
+        GridKind::EquiangularCells => "Fejér (cell-centred)",
+        GridKind::Custom => "custom",
+    };
+    Err(Error::invalid(format!(
+        "{}: this {} x {} grid with {rule} quadrature is analysed exactly up to degree {} only; \
+         asked for degree {lmax}. Use --lmax {} or a finer grid",
+        path.display(),
+        g.nlat(),
+        g.nlon,
+        g.max_exact_degree,
+        g.max_exact_degree
+    )))
 }
 
 const LAT_UNITS: &[&str] = &[

@@ -15,7 +15,7 @@ use std::path::Path;
 use netcdf_reader::NcAttrValue;
 use netcdf_writer::NcFileBuilder;
 
-use crate::coeffs::{packed_index, packed_len, Coefficients, Normalization};
+use crate::coeffs::{packed_index, packed_len, square_from_packed, Coefficients, Normalization};
 use crate::error::{Error, Result};
 use crate::io::netcdf_common as nc;
 use crate::io::provenance::Provenance;
@@ -86,7 +86,7 @@ pub fn write_model_netcdf(
         b.set_variable_chunking(v, vec![rows, l1 as u64])
             .map_err(we)?;
         b.set_variable_deflate(v, Some(4), true).map_err(we)?;
-        b.write_variable(v, &square_from_packed(packed, l1))
+        b.write_variable(v, &square_from_packed(packed, l1 - 1))
             .map_err(we)?;
     }
 
@@ -151,17 +151,6 @@ pub fn write_model_netcdf(
         put(&mut b, k, nc::chars(v))?;
     }
     nc::write_netcdf4(path, &b)
-}
-
-/// Packed triangle → (L+1)×(L+1) row-major square with zeros above the diagonal.
-fn square_from_packed(packed: &[f64], l1: usize) -> Vec<f64> {
-    let mut out = vec![0.0; l1 * l1];
-    for l in 0..l1 {
-        for m in 0..=l {
-            out[l * l1 + m] = packed[packed_index(l, m)];
-        }
-    }
-    out
 }
 
 /// The band limit a NetCDF model file declares (its `degree` dimension), read from the header

@@ -58,6 +58,7 @@ pub(super) fn fmadd<const FMA: bool>(a: f64, b: f64, c: f64) -> f64 {
 
 /// Per-lane sums of one block and one field, split by parity of l − m ([0] even, [1] odd).
 #[derive(Clone, Copy)]
+#[repr(C, align(64))]
 pub struct SynthSums<const W: usize> {
     /// Σ C_lm P̄_lm and Σ S_lm P̄_lm.
     pub c: [[f64; W]; 2],
@@ -97,6 +98,7 @@ pub fn inject<const W: usize>(
 /// cos θ of a block's lanes as a double `t` plus its rounding error `t_lo`
 /// (see `legendre::colatitude`).
 #[derive(Debug, Clone, Copy)]
+#[repr(C, align(64))]
 pub struct Nodes<const W: usize> {
     pub t: [f64; W],
     pub t_lo: [f64; W],
@@ -130,6 +132,11 @@ fn advance<const W: usize, const FMA: bool, const LO: bool>(
 }
 
 /// P̄ of one chunk of degrees l0..l0 + n: `rows[0]` = P̄_{l0−1,m}, `rows[k + 1]` = P̄_{l0+k,m}.
+///
+/// Aligned to a cache line, so that no register's worth of a row (64 bytes on AVX-512)
+/// straddles two lines: the rows are read once per field and degree, and a split load costs
+/// two accesses of the level-1 cache.
+#[repr(C, align(64))]
 pub struct Rows<const W: usize> {
     pub rows: [[f64; W]; CHUNK + 1],
 }
@@ -272,6 +279,7 @@ pub fn accumulate_derivative<const W: usize, const H: usize, const FMA: bool>(
 /// (point synthesis, see `kernel::point_group`): Σ_l E_l P̄_lm for order m + 1 and
 /// Σ_l F_l P̄_lm for order m − 1, with the C and the S coefficients.
 #[derive(Clone, Copy)]
+#[repr(C, align(64))]
 pub struct NeighbourSums<const W: usize> {
     pub next_c: [f64; W],
     pub next_s: [f64; W],
@@ -327,6 +335,7 @@ pub fn accumulate_neighbours<const W: usize, const H: usize, const FMA: bool>(
 
 /// Ring spectra of one block and one field, real and imaginary parts, by parity of l − m
 /// ([0] even: north + south, [1] odd: north − south).
+#[repr(C, align(64))]
 pub struct BlockSpectra<const W: usize> {
     pub re: [[f64; W]; 2],
     pub im: [[f64; W]; 2],

@@ -199,7 +199,11 @@ unsafe fn synth_avx512<const GRAD: bool>(
     sc: &mut OrderScratch,
     out: &mut OrderFourierColumns,
 ) {
-    synth_order::<32, 16, true, GRAD>(job, sc, out)
+    if GRAD {
+        synth_order::<32, 16, true, GRAD>(job, sc, out)
+    } else {
+        synth_order::<32, 32, true, GRAD>(job, sc, out)
+    }
 }
 
 #[cfg(target_arch = "x86_64")]
