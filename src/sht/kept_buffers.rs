@@ -8,8 +8,8 @@
 //! doubles as zeroed ones.
 //!
 //! A plan keeps at most one set, of at most [`MAX_KEPT_BYTES`]; an analysis that finds the set
-//! taken (another thread analysing with the same plan) or too small makes its own and keeps
-//! the larger set at the end.
+//! taken (another thread analysing with the same plan) or too small makes its own, and the
+//! larger set is kept at the end.
 
 use std::sync::Mutex;
 
@@ -45,16 +45,11 @@ impl KeptSpectra {
         let kept = self.kept.lock().ok().and_then(|mut k| k.take());
         match kept {
             Some(b) if b.by_ring.len() >= len => b,
-            other => {
-                // too small: keep it for whoever needs less, make a new set
-                if let Some(small) = other {
-                    self.give_back(small);
-                }
-                SpectraBuffers {
-                    by_ring: vec![Complex64::new(0.0, 0.0); len],
-                    by_order: vec![Complex64::new(0.0, 0.0); len],
-                }
-            }
+            // none free, or too small (the new, larger set replaces it when given back)
+            _ => SpectraBuffers {
+                by_ring: vec![Complex64::new(0.0, 0.0); len],
+                by_order: vec![Complex64::new(0.0, 0.0); len],
+            },
         }
     }
 

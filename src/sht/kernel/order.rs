@@ -238,68 +238,39 @@ pub(crate) fn order_major_offset(m: usize, lmax: usize) -> usize {
     m * (lmax + 1) - m * m.saturating_sub(1) / 2
 }
 
-/// Degrees (or orders) per tile of the layout changes below: each tile reads and writes
-/// short contiguous runs (a tile's rows of one column), so neither side touches a new cache
-/// line per entry as a plain loop over one layout does on the other (the repacking of an
-/// analysis was about 4 % of an eight-field analysis at L = 1023 that way).
-const LAYOUT_TILE: usize = 32;
-
 /// Order-major coefficients to degree `lmax` ([`order_major`]) back in the packed
-/// degree-major layout of `coeffs::packed_index`, written into `packed`. Tiles of
-/// [`LAYOUT_TILE`] degrees run in parallel (rayon), each writing its own rows of `packed`.
+/// degree-major layout of `coeffs::packed_index`, written into `packed`.
+/// Degrees run in parallel (rayon), each writing its own row of `packed`.
 pub(crate) fn packed_from_order_major(order_major: &[f64], lmax: usize, packed: &mut [f64]) {
     use rayon::prelude::*;
-    let mut tiles: Vec<(usize, &mut [f64])> = Vec::with_capacity(lmax / LAYOUT_TILE + 1);
+    let mut rows: Vec<&mut [f64]> = Vec::with_capacity(lmax + 1);
     let mut rest = &mut packed[..packed_index(lmax, lmax) + 1];
-    let mut l0 = 0;
-    while l0 <= lmax {
-        let l1 = (l0 + LAYOUT_TILE).min(lmax + 1);
-        let (rows, tail) =
-            std::mem::take(&mut rest).split_at_mut(packed_index(l1, 0) - packed_index(l0, 0));
-        tiles.push((l0, rows));
+    for l in 0..=lmax {
+        let (row, tail) = std::mem::take(&mut rest).split_at_mut(l + 1);
+        rows.push(row);
         rest = tail;
-        l0 = l1;
     }
-    tiles.into_par_iter().for_each(|(l0, rows)| {
-        let l1 = l0 + LAYOUT_TILE.min(lmax + 1 - l0);
-        let base = packed_index(l0, 0);
-        for m in 0..l1 {
-            let column = &order_major[order_major_offset(m, lmax)..];
-            for l in l0.max(m)..l1 {
-                rows[packed_index(l, m) - base] = column[l - m];
+    rows.into_par_iter()
+        .with_min_len(16)
+        .enumerate()
+        .for_each(|(l, row)| {
+            for (m, v) in row.iter_mut().enumerate() {
+                *v = order_major[order_major_offset(m, lmax) + l - m];
             }
-        }
-    });
+        });
 }
 
 /// Packed (degree-major, `coeffs::packed_index`) coefficients to degree `lmax` rearranged
 /// order-major, so that each order's kernel reads its column contiguously instead of one
-/// cache line per degree. Tiles of [`LAYOUT_TILE`] orders run in parallel, each writing its
-/// own columns.
+/// cache line per degree.
 pub(crate) fn order_major(packed: &[f64], lmax: usize) -> Vec<f64> {
-    use rayon::prelude::*;
     let mut out = vec![0.0; packed.len()];
-    let mut tiles: Vec<(usize, &mut [f64])> = Vec::with_capacity(lmax / LAYOUT_TILE + 1);
-    let mut rest = &mut out[..];
-    let mut m0 = 0;
-    while m0 <= lmax {
-        let m1 = (m0 + LAYOUT_TILE).min(lmax + 1);
-        let len = order_major_offset(m1, lmax) - order_major_offset(m0, lmax);
-        let (columns, tail) = std::mem::take(&mut rest).split_at_mut(len);
-        tiles.push((m0, columns));
-        rest = tail;
-        m0 = m1;
-    }
-    tiles.into_par_iter().for_each(|(m0, columns)| {
-        let m1 = m0 + LAYOUT_TILE.min(lmax + 1 - m0);
-        let base = order_major_offset(m0, lmax);
-        for l in m0..=lmax {
-            let row = &packed[packed_index(l, 0)..=packed_index(l, l)];
-            for m in m0..m1.min(l + 1) {
-                columns[order_major_offset(m, lmax) + l - m - base] = row[m];
-            }
+    for l in 0..=lmax {
+        let row = &packed[packed_index(l, 0)..=packed_index(l, l)];
+        for (m, v) in row.iter().enumerate() {
+            out[order_major_offset(m, lmax) + l - m] = *v;
         }
-    });
+    }
     out
 }
 
@@ -600,10 +571,8 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
     let starts = checked_starts(job.starts, job.lanes.len(), job.first_block, W);
     // the recursion coefficients are needed to find column starts without the plan's table,
     // else only once some block of this chunk of rings starts at all
-    let mut filled = false;
     if starts.is_none() {
         sc.fill(m, lmax, false);
-        filled = true;
     }
     let c_m = job.sectoral_factors[m];
     // every block's column starts and ring spectra, up to the first block without any
@@ -655,7 +624,7 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
         sc.all_events = all_events;
         return;
     };
-    if !filled {
+    if starts.is_some() {
         sc.fill(m, lmax, false);
     }
     let mut rows = sc.take_rows::<W>();
