@@ -14,7 +14,7 @@ use rand_distr::{Distribution, StandardNormal};
 
 use kugel::coeffs::{Coefficients, Normalization};
 use kugel::sht::budget::{check_transform_job, gauss_grid_shape};
-use kugel::sht::{GaussGrid, TransformPlan};
+use kugel::sht::{GaussGrid, KernelPath, TransformPlan};
 
 use super::fma_peak::measure_fma_peak;
 
@@ -29,6 +29,8 @@ pub struct TransformBenchArgs {
     pub json: bool,
     pub seed: u64,
     pub quiet: bool,
+    /// A [`KernelPath::name`] to force, or `None` for the plan's own choice.
+    pub kernels: Option<String>,
 }
 
 /// One benchmark result.
@@ -137,7 +139,16 @@ pub fn run_transform_bench(args: &TransformBenchArgs) -> anyhow::Result<Transfor
         let t = Instant::now();
         let grid = GaussGrid::new(lmax);
         let gauss_grid_s = t.elapsed().as_secs_f64();
-        let plan = TransformPlan::new(lmax, &grid)?;
+        let mut plan = TransformPlan::new(lmax, &grid)?;
+        if let Some(name) = &args.kernels {
+            let path = KernelPath::from_name(name).ok_or_else(|| {
+                kugel::Error::invalid(format!(
+                    "--kernels {name}: expected one of {}",
+                    KernelPath::all().map(|p| p.name()).join(", ")
+                ))
+            })?;
+            plan = plan.with_kernel_path(path)?;
+        }
         let plan_s = t.elapsed().as_secs_f64();
         say(format!(
             "degree {lmax}: Gauss grid {} x {}, {threads} threads, {} kernels, plan {plan_s:.3} s (Gauss–Legendre nodes and weights {gauss_grid_s:.3} s)",
@@ -293,9 +304,11 @@ mod tests {
             json: true,
             seed: 1,
             quiet: true,
+            kernels: Some("portable".into()),
         })
         .unwrap();
         assert_eq!((r.nlat, r.threads, r.fields), (32, 2, 2));
+        assert_eq!(r.kernel, "portable");
         assert!(r.roundtrip_rel_err < 1e-13, "{}", r.roundtrip_rel_err);
         assert!(r.fma_peak_gflops > 0.0 && r.synthesis_peak_fraction > 0.0);
         let expected = r.synthesis_gflops / r.fma_peak_gflops;

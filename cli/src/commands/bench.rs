@@ -66,6 +66,10 @@ pub struct Args {
     /// Points per block of the rank-update case (the depth k of N += B Bᵀ).
     #[arg(long, default_value_t = kugel::observe::fit::normal::BLOCK_POINTS)]
     pub depth: usize,
+    /// Kernel set of the transform case: portable, avx2+fma or avx512 (default: the widest
+    /// this CPU runs), to compare instruction sets on one machine.
+    #[arg(long)]
+    pub kernels: Option<String>,
 }
 
 pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
@@ -85,6 +89,7 @@ pub fn run(args: &Args, ctx: &CommandContext) -> anyhow::Result<()> {
                 json: args.json,
                 seed: args.seed,
                 quiet: ctx.quiet,
+                kernels: args.kernels.clone(),
             })?;
             print_result(&r, args.json)
         }

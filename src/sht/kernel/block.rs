@@ -104,6 +104,15 @@ pub struct Nodes<const W: usize> {
     pub t_lo: [f64; W],
 }
 
+impl<const W: usize> Nodes<W> {
+    /// Whether some lane's cos θ has a low part, so that the recursion must add it (`LO` of
+    /// [`recur`]); false for a block inside the band π/3 ≤ θ ≤ 2π/3, about a third of a
+    /// Gauss grid's rings, whose steps then take two operations fewer of five.
+    pub fn has_low_part(&self) -> bool {
+        self.t_lo.iter().any(|&v| v != 0.0)
+    }
+}
+
 /// One recursion step P̄_{l−1}, P̄_l → P̄_l, P̄_{l+1} with `a` = a_{l+1}, `b` = b_{l+1}.
 ///
 /// Per lane: three multiplications (a t, a t_lo, b P̄_{l−1}) and two fused multiply–adds, of

@@ -371,32 +371,54 @@ pub(crate) fn synth_order<const W: usize, const H: usize, const FMA: bool, const
             a: &sc.a,
             b: &sc.b,
         };
-        for_each_chunk::<W, FMA, true>(&rc, &x, events, &mut *rows, |l0, n, rows| {
-            let par0 = (l0 - m) & 1;
-            for (k, sum) in sums.iter_mut().enumerate() {
-                let (c, s) = sc.column(k);
-                accumulate_values::<W, H, FMA>(rows, n, par0, &c[l0..], &s[l0..], sum);
-                if GRAD {
-                    accumulate_derivative::<W, H, FMA>(
-                        rows,
-                        n,
-                        l0,
-                        par0,
-                        &sc.f[l0..],
-                        &c[l0..],
-                        &s[l0..],
-                        &x,
-                        sum,
-                    );
-                }
-            }
-        });
+        // one closure per recursion variant, each inlined into this kernel's instruction set
+        // (a closure called through a reference is compiled on its own, without it)
+        if x.has_low_part() {
+            for_each_chunk::<W, FMA, true>(&rc, &x, events, &mut *rows, |l0, n, rows| {
+                add_synthesis_sums::<W, H, FMA, GRAD>(rows, (l0, n), m, sc, &x, sums)
+            });
+        } else {
+            for_each_chunk::<W, FMA, false>(&rc, &x, events, &mut *rows, |l0, n, rows| {
+                add_synthesis_sums::<W, H, FMA, GRAD>(rows, (l0, n), m, sc, &x, sums)
+            });
+        }
         for (k, sum) in sums.iter().enumerate() {
             put_block::<W, GRAD>(job, out, block, k, sum);
         }
     }
     sc.events = found;
     sc.keep_rows(rows);
+}
+
+/// Pass 2 of a synthesis block for every field: the sums of the chunk of degrees `l0..l0 + n`
+/// of order `m`, whose P̄ are in `rows`.
+#[inline(always)]
+fn add_synthesis_sums<const W: usize, const H: usize, const FMA: bool, const GRAD: bool>(
+    rows: &Rows<W>,
+    (l0, n): (usize, usize),
+    m: usize,
+    sc: &OrderScratch,
+    x: &Nodes<W>,
+    sums: &mut [SynthSums<W>],
+) {
+    let par0 = (l0 - m) & 1;
+    for (k, sum) in sums.iter_mut().enumerate() {
+        let (c, s) = sc.column(k);
+        accumulate_values::<W, H, FMA>(rows, n, par0, &c[l0..], &s[l0..], sum);
+        if GRAD {
+            accumulate_derivative::<W, H, FMA>(
+                rows,
+                n,
+                l0,
+                par0,
+                &sc.f[l0..],
+                &c[l0..],
+                &s[l0..],
+                x,
+                sum,
+            );
+        }
+    }
 }
 
 /// The table `starts` if it describes `lanes` lanes from block `first_block` on in blocks of
@@ -496,6 +518,8 @@ pub(crate) struct AnalysisJob<'a> {
 /// state and place in the shared event list.
 struct AnalysisBlock<const W: usize> {
     x: Nodes<W>,
+    /// [`Nodes::has_low_part`] of `x`.
+    low_part: bool,
     /// P̄_{l−1,m} and P̄_lm of every lane at the next degree `l` to run.
     p0: [f64; W],
     p1: [f64; W],
@@ -602,6 +626,7 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
         all_events.extend_from_slice(block_starts);
         blocks.push(AnalysisBlock {
             x,
+            low_part: x.has_low_part(),
             p0: [0.0; W],
             p1: [0.0; W],
             l,
@@ -649,15 +674,12 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
                 let next_event = events.get(b.ev).map_or(lmax + 1, |e| e.l as usize);
                 let l_end = next_event.min(l1);
                 let n = l_end - b.l;
-                recur::<W, FMA, true>(
-                    n,
-                    &rc.a[b.l + 1..],
-                    &rc.b[b.l + 1..],
-                    &b.x,
-                    &mut b.p0,
-                    &mut b.p1,
-                    &mut *rows,
-                );
+                let (a, bb) = (&rc.a[b.l + 1..], &rc.b[b.l + 1..]);
+                if b.low_part {
+                    recur::<W, FMA, true>(n, a, bb, &b.x, &mut b.p0, &mut b.p1, &mut *rows);
+                } else {
+                    recur::<W, FMA, false>(n, a, bb, &b.x, &mut b.p0, &mut b.p1, &mut *rows);
+                }
                 let par0 = (b.l - m) & 1;
                 let at = (b.l - l0) * F;
                 for (k, hk) in h.iter().enumerate() {
