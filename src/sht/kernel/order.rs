@@ -62,7 +62,13 @@ impl OrderScratch {
             late: Vec::with_capacity(64),
             all_events: Vec::new(),
             acc_re: LineAligned::zeros(CHUNK * MAX_FOLD * fields),
-            acc_im: LineAligned::zeros(CHUNK * MAX_FOLD * fields),
+            acc_im: LineAligned::zeros_skewed(
+                CHUNK * MAX_FOLD * fields,
+                std::env::var("KUGEL_PAD")
+                    .ok()
+                    .and_then(|v| v.parse().ok())
+                    .unwrap_or(0),
+            ),
             rows: None,
         }
     }
@@ -129,6 +135,12 @@ impl LineAligned {
         let data = vec![0.0; len + 7];
         // an f64 pointer is 8-aligned, so at most 7 doubles reach the next 64-byte boundary
         let start = data.as_ptr().align_offset(64).min(7);
+        LineAligned { data, start, len }
+    }
+
+    fn zeros_skewed(len: usize, lines: usize) -> Self {
+        let data = vec![0.0; len + 7 + 8 * lines];
+        let start = data.as_ptr().align_offset(64).min(7) + 8 * lines;
         LineAligned { data, start, len }
     }
 
@@ -238,39 +250,69 @@ pub(crate) fn order_major_offset(m: usize, lmax: usize) -> usize {
     m * (lmax + 1) - m * m.saturating_sub(1) / 2
 }
 
+/// Degrees (or orders) per tile of the layout changes below: each tile reads and writes
+/// short contiguous runs (a tile's rows of one column), so neither side touches a new cache
+/// line (and, at high degree, a new page) per entry as a plain loop over one layout does on
+/// the other: at L = 4095 the repacking of an analysis took 112 ms that way and 66 ms in
+/// tiles (at L = 1023, where both layouts fit in the caches, the two measured alike).
+const LAYOUT_TILE: usize = 32;
+
 /// Order-major coefficients to degree `lmax` ([`order_major`]) back in the packed
-/// degree-major layout of `coeffs::packed_index`, written into `packed`.
-/// Degrees run in parallel (rayon), each writing its own row of `packed`.
+/// degree-major layout of `coeffs::packed_index`, written into `packed`. Tiles of
+/// [`LAYOUT_TILE`] degrees run in parallel (rayon), each writing its own rows of `packed`.
 pub(crate) fn packed_from_order_major(order_major: &[f64], lmax: usize, packed: &mut [f64]) {
     use rayon::prelude::*;
-    let mut rows: Vec<&mut [f64]> = Vec::with_capacity(lmax + 1);
+    let mut tiles: Vec<(usize, &mut [f64])> = Vec::with_capacity(lmax / LAYOUT_TILE + 1);
     let mut rest = &mut packed[..packed_index(lmax, lmax) + 1];
-    for l in 0..=lmax {
-        let (row, tail) = std::mem::take(&mut rest).split_at_mut(l + 1);
-        rows.push(row);
+    let mut l0 = 0;
+    while l0 <= lmax {
+        let l1 = (l0 + LAYOUT_TILE).min(lmax + 1);
+        let (rows, tail) =
+            std::mem::take(&mut rest).split_at_mut(packed_index(l1, 0) - packed_index(l0, 0));
+        tiles.push((l0, rows));
         rest = tail;
+        l0 = l1;
     }
-    rows.into_par_iter()
-        .with_min_len(16)
-        .enumerate()
-        .for_each(|(l, row)| {
-            for (m, v) in row.iter_mut().enumerate() {
-                *v = order_major[order_major_offset(m, lmax) + l - m];
+    tiles.into_par_iter().for_each(|(l0, rows)| {
+        let l1 = l0 + LAYOUT_TILE.min(lmax + 1 - l0);
+        let base = packed_index(l0, 0);
+        for m in 0..l1 {
+            let column = &order_major[order_major_offset(m, lmax)..];
+            for l in l0.max(m)..l1 {
+                rows[packed_index(l, m) - base] = column[l - m];
             }
-        });
+        }
+    });
 }
 
 /// Packed (degree-major, `coeffs::packed_index`) coefficients to degree `lmax` rearranged
 /// order-major, so that each order's kernel reads its column contiguously instead of one
-/// cache line per degree.
+/// cache line per degree. Tiles of [`LAYOUT_TILE`] orders run in parallel, each writing its
+/// own columns.
 pub(crate) fn order_major(packed: &[f64], lmax: usize) -> Vec<f64> {
+    use rayon::prelude::*;
     let mut out = vec![0.0; packed.len()];
-    for l in 0..=lmax {
-        let row = &packed[packed_index(l, 0)..=packed_index(l, l)];
-        for (m, v) in row.iter().enumerate() {
-            out[order_major_offset(m, lmax) + l - m] = *v;
-        }
+    let mut tiles: Vec<(usize, &mut [f64])> = Vec::with_capacity(lmax / LAYOUT_TILE + 1);
+    let mut rest = &mut out[..];
+    let mut m0 = 0;
+    while m0 <= lmax {
+        let m1 = (m0 + LAYOUT_TILE).min(lmax + 1);
+        let len = order_major_offset(m1, lmax) - order_major_offset(m0, lmax);
+        let (columns, tail) = std::mem::take(&mut rest).split_at_mut(len);
+        tiles.push((m0, columns));
+        rest = tail;
+        m0 = m1;
     }
+    tiles.into_par_iter().for_each(|(m0, columns)| {
+        let m1 = m0 + LAYOUT_TILE.min(lmax + 1 - m0);
+        let base = order_major_offset(m0, lmax);
+        for l in m0..=lmax {
+            let row = &packed[packed_index(l, 0)..=packed_index(l, l)];
+            for m in m0..m1.min(l + 1) {
+                columns[order_major_offset(m, lmax) + l - m - base] = row[m];
+            }
+        }
+    });
     out
 }
 
