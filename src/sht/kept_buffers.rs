@@ -15,6 +15,8 @@ use std::sync::Mutex;
 
 use realfft::num_complex::Complex64;
 
+use super::filled::filled_vec;
+
 /// The most bytes of spectra a plan keeps after an analysis (every ring's spectra, both
 /// copies, up to about degree 1400; larger ones are left to the allocator).
 pub const MAX_KEPT_BYTES: usize = 64 << 20;
@@ -47,8 +49,8 @@ impl KeptSpectra {
             Some(b) if b.by_ring.len() >= len => b,
             // none free, or too small (the new, larger set replaces it when given back)
             _ => SpectraBuffers {
-                by_ring: vec![Complex64::new(0.0, 0.0); len],
-                by_order: vec![Complex64::new(0.0, 0.0); len],
+                by_ring: filled_vec(Complex64::new(0.0, 0.0), len),
+                by_order: filled_vec(Complex64::new(0.0, 0.0), len),
             },
         }
     }

@@ -22,6 +22,7 @@
 
 pub mod budget;
 pub mod equiangular;
+mod filled;
 pub mod gauss_legendre;
 pub mod grid;
 mod kept_buffers;
