@@ -438,3 +438,55 @@ pub fn for_each_chunk_from<const W: usize, const FMA: bool, const LO: bool>(
         inject(events, &mut ev, l, &mut p0, &mut p1);
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::sht::kernel::lanes::build_lanes;
+    use crate::sht::legendre::recursion::{a_lm, b_lm};
+    use crate::sht::GaussGrid;
+
+    /// The step without the low part (`LO = false`) must give the doubles of the full step
+    /// wherever every lane's low part is zero, and a Gauss grid must have such blocks (the
+    /// band π/3 ≤ θ ≤ 2π/3) besides blocks that need the low part.
+    #[test]
+    fn band_blocks_recur_to_the_same_doubles_without_the_low_part() {
+        const W: usize = 8;
+        let grid = GaussGrid::new(300);
+        let lanes = build_lanes(&grid, true);
+        let blocks: Vec<Nodes<W>> = lanes
+            .chunks(W)
+            .map(|block| {
+                let mut x = Nodes {
+                    t: [0.0; W],
+                    t_lo: [0.0; W],
+                };
+                for (i, lane) in block.iter().enumerate() {
+                    (x.t[i], x.t_lo[i]) = (lane.t, lane.t_lo);
+                }
+                x
+            })
+            .collect();
+        let band = blocks.iter().filter(|x| !x.has_low_part()).count();
+        assert!(
+            band > 0 && band < blocks.len(),
+            "{band} of {}",
+            blocks.len()
+        );
+        let (m, lmax) = (3, 300);
+        let a: Vec<f64> = (m + 1..=lmax).map(|l| a_lm(l, m)).collect();
+        let b: Vec<f64> = (m + 1..=lmax).map(|l| b_lm(l, m)).collect();
+        for x in blocks.iter().filter(|x| !x.has_low_part()) {
+            let (mut with, mut without) = (Rows::<W>::new(), Rows::<W>::new());
+            let start = ([0.0; W], [0.5; W]);
+            let (mut p0, mut p1) = start;
+            let (mut q0, mut q1) = start;
+            recur::<W, true, true>(CHUNK, &a, &b, x, &mut p0, &mut p1, &mut with);
+            recur::<W, true, false>(CHUNK, &a, &b, x, &mut q0, &mut q1, &mut without);
+            for (r, s) in with.rows.iter().zip(&without.rows) {
+                assert_eq!(r.map(f64::to_bits), s.map(f64::to_bits));
+            }
+            assert_eq!((p0, p1), (q0, q1));
+        }
+    }
+}

@@ -62,13 +62,7 @@ impl OrderScratch {
             late: Vec::with_capacity(64),
             all_events: Vec::new(),
             acc_re: LineAligned::zeros(CHUNK * MAX_FOLD * fields),
-            acc_im: LineAligned::zeros_skewed(
-                CHUNK * MAX_FOLD * fields,
-                std::env::var("KUGEL_PAD")
-                    .ok()
-                    .and_then(|v| v.parse().ok())
-                    .unwrap_or(0),
-            ),
+            acc_im: LineAligned::zeros(CHUNK * MAX_FOLD * fields),
             rows: None,
         }
     }
@@ -135,12 +129,6 @@ impl LineAligned {
         let data = vec![0.0; len + 7];
         // an f64 pointer is 8-aligned, so at most 7 doubles reach the next 64-byte boundary
         let start = data.as_ptr().align_offset(64).min(7);
-        LineAligned { data, start, len }
-    }
-
-    fn zeros_skewed(len: usize, lines: usize) -> Self {
-        let data = vec![0.0; len + 7 + 8 * lines];
-        let start = data.as_ptr().align_offset(64).min(7) + 8 * lines;
         LineAligned { data, start, len }
     }
 
