@@ -447,8 +447,9 @@ mod tests {
     use crate::sht::GaussGrid;
 
     /// The step without the low part (`LO = false`) must give the doubles of the full step
-    /// wherever every lane's low part is zero, and a Gauss grid must have such blocks (the
-    /// band π/3 ≤ θ ≤ 2π/3) besides blocks that need the low part.
+    /// wherever every lane's low part is zero (IEEE 754 arithmetic: a · 0 = 0 and
+    /// fma(0, p, w) = w for finite p; common practice), and a Gauss grid must have such blocks
+    /// (the band π/3 ≤ θ ≤ 2π/3) besides blocks that need the low part.
     #[test]
     fn band_blocks_recur_to_the_same_doubles_without_the_low_part() {
         const W: usize = 8;
