@@ -548,8 +548,6 @@ pub(crate) struct AnalysisJob<'a> {
 /// state and place in the shared event list.
 struct AnalysisBlock<const W: usize> {
     x: Nodes<W>,
-    /// [`Nodes::has_low_part`] of `x`.
-    low_part: bool,
     /// P̄_{l−1,m} and P̄_lm of every lane at the next degree `l` to run.
     p0: [f64; W],
     p1: [f64; W],
@@ -656,7 +654,6 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
         all_events.extend_from_slice(block_starts);
         blocks.push(AnalysisBlock {
             x,
-            low_part: x.has_low_part(),
             p0: [0.0; W],
             p1: [0.0; W],
             l,
@@ -704,11 +701,11 @@ pub(crate) fn analysis_order<const W: usize, const F: usize, const FMA: bool>(
                 let next_event = events.get(b.ev).map_or(lmax + 1, |e| e.l as usize);
                 let l_end = next_event.min(l1);
                 let n = l_end - b.l;
-                let (a, bb) = (&rc.a[b.l + 1..], &rc.b[b.l + 1..]);
-                if b.low_part {
-                    recur::<W, FMA, true>(n, a, bb, &b.x, &mut b.p0, &mut b.p1, &mut *rows);
+                let (a_l, b_l) = (&rc.a[b.l + 1..], &rc.b[b.l + 1..]);
+                if b.x.has_low_part() {
+                    recur::<W, FMA, true>(n, a_l, b_l, &b.x, &mut b.p0, &mut b.p1, &mut *rows);
                 } else {
-                    recur::<W, FMA, false>(n, a, bb, &b.x, &mut b.p0, &mut b.p1, &mut *rows);
+                    recur::<W, FMA, false>(n, a_l, b_l, &b.x, &mut b.p0, &mut b.p1, &mut *rows);
                 }
                 let par0 = (b.l - m) & 1;
                 let at = (b.l - l0) * F;
@@ -773,6 +770,42 @@ mod tests {
         let mut back = vec![f64::NAN; packed.len()];
         packed_from_order_major(&om, lmax, &mut back);
         assert_eq!(back, packed);
+    }
+
+    /// The step without the low part (`LO = false`) must give the doubles of the full step
+    /// wherever every lane's low part is zero (IEEE 754 arithmetic: a · 0 = 0 and
+    /// fma(0, p, w) = w for finite p; common practice), and a Gauss grid must have such blocks
+    /// (the band π/3 ≤ θ ≤ 2π/3) besides blocks that need the low part.
+    #[test]
+    fn band_blocks_recur_to_the_same_doubles_without_the_low_part() {
+        use super::super::lanes::build_lanes;
+        use crate::sht::legendre::recursion::{a_lm, b_lm};
+        use crate::sht::GaussGrid;
+        const W: usize = 8;
+        let grid = GaussGrid::new(300);
+        let lanes = build_lanes(&grid, true);
+        let blocks: Vec<Nodes<W>> = lanes.chunks(W).map(block_nodes::<W>).collect();
+        let band = blocks.iter().filter(|x| !x.has_low_part()).count();
+        assert!(
+            band > 0 && band < blocks.len(),
+            "{band} of {}",
+            blocks.len()
+        );
+        let (m, lmax) = (3, 300);
+        let a: Vec<f64> = (m + 1..=lmax).map(|l| a_lm(l, m)).collect();
+        let b: Vec<f64> = (m + 1..=lmax).map(|l| b_lm(l, m)).collect();
+        for x in blocks.iter().filter(|x| !x.has_low_part()) {
+            let (mut with, mut without) = (Rows::<W>::new(), Rows::<W>::new());
+            let start = ([0.0; W], [0.5; W]);
+            let (mut p0, mut p1) = start;
+            let (mut q0, mut q1) = start;
+            recur::<W, true, true>(CHUNK, &a, &b, x, &mut p0, &mut p1, &mut with);
+            recur::<W, true, false>(CHUNK, &a, &b, x, &mut q0, &mut q1, &mut without);
+            for (r, s) in with.rows.iter().zip(&without.rows) {
+                assert_eq!(r.map(f64::to_bits), s.map(f64::to_bits));
+            }
+            assert_eq!((p0, p1), (q0, q1));
+        }
     }
 
     /// The vectorised coefficients (`recursion::fill_coefficients`) must be the doubles of

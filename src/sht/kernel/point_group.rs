@@ -223,10 +223,10 @@ pub(crate) fn point_group<const W: usize, const H: usize, const FMA: bool, const
         one,
     };
     // in the band π/3 ≤ θ ≤ 2π/3 cos θ needs no low part: a step without it
-    let (value, d_theta, d_lambda) = if lanes.nodes.t_lo.iter().all(|&v| v == 0.0) {
-        orders::<W, H, FMA, GRAD, false>(tab, sc, &lanes)
-    } else {
+    let (value, d_theta, d_lambda) = if lanes.nodes.has_low_part() {
         orders::<W, H, FMA, GRAD, true>(tab, sc, &lanes)
+    } else {
+        orders::<W, H, FMA, GRAD, false>(tab, sc, &lanes)
     };
     for (i, pv) in out.iter_mut().enumerate() {
         pv.value = value[i];
